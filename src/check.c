@@ -1,0 +1,297 @@
+/* check: runs the analyses behind the 'check' command. */
+#include "loopwise/check.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#define TWO_PI 6.283185307179586
+
+void check_result_free(check_result *r)
+{
+    if (!r)
+        return;
+    lg_tf_free(&r->tf);
+    free(r->cl);
+    free(r->estimate_hz);
+    free(r->loops);
+    lgain_free(r->lg);
+    memset(r, 0, sizeof *r);
+}
+
+/* 1/(2π R C_total), C_total = c + every cap from the node to gnd. */
+static int estimates(const desc *d, check_result *r, lw_error *err)
+{
+    r->estimate_hz = malloc(sizeof(double) * (size_t)(d->nnodes + 1));
+    if (!r->estimate_hz)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    for (int k = 0; k < d->nnodes; k++) {
+        double c = d->nodes[k].c, R = d->nodes[k].r;
+        for (int e = 0; e < d->nelems; e++)
+            if (d->elems[e].kind == ELEM_CAP && d->elems[e].a == k && d->elems[e].b == DESC_GND)
+                c += d->elems[e].value;
+        r->estimate_hz[k] = isfinite(R) && c > 0 ? 1.0 / (TWO_PI * R * c) : NAN;
+    }
+    return LW_OK;
+}
+
+/* The return ratio at gm index b of the model with the gms in off[] (and b)
+ * switched off. */
+static int return_ratio(const model *m, int b, unsigned char *off, double *G, int want_owner,
+                        lg_tf *tf, lgain **lg, lw_error *err)
+{
+    unsigned char was = off[b];
+    off[b] = 1;
+    model_fill_g(m, off, G);
+    off[b] = was;
+    const model_gm *g = &m->gm[b];
+    int rc = lgain_new(m->n, G, m->C, g->in, g->out, g->g, lg, err);
+    if (!rc)
+        rc = lg_tf_analyse(m->n, G, m->C, *lg, g->in, g->out, want_owner, tf, err);
+    if (rc) {
+        lgain_free(*lg);
+        *lg = NULL;
+    }
+    return rc;
+}
+
+static int hop_in_loop(const desc_loop *L, int e)
+{
+    for (int j = 0; j < L->nnodes; j++)
+        for (int k = 0; k < L->nhops[j]; k++)
+            if (L->hops[j][k] == e)
+                return 1;
+    return 0;
+}
+
+/* A gm is private to loop l when no other declared loop has it as a hop. */
+static int private_to(const desc *d, int l, int e)
+{
+    for (int o = 0; o < d->nloops; o++)
+        if (o != l && hop_in_loop(&d->loops[o], e))
+            return 0;
+    return 1;
+}
+
+static int first_private(const desc *d, const model *m, int l)
+{
+    const desc_loop *L = &d->loops[l];
+    for (int j = 0; j < L->nnodes; j++)
+        for (int k = 0; k < L->nhops[j]; k++) {
+            int e = L->hops[j][k];
+            if (d->elems[e].kind == ELEM_GM && private_to(d, l, e))
+                return model_gm_of_elem(m, e);
+        }
+    return -1;
+}
+
+static int sign_error(const desc *d, int l, const check_loop *cl, lw_error *err)
+{
+    const desc_loop *L = &d->loops[l];
+    char gain[64];
+    if (isinf(cl->dc))
+        snprintf(gain, sizeof gain, "unbounded (%s at DC)", cl->sign > 0 ? "+inf" : "-inf");
+    else
+        snprintf(gain, sizeof gain, "%+.4g", cl->dc);
+    lw_error_at(err, L->sign_at.line, L->sign_at.col,
+                cl->sign == 0 ? "loop '%s' is declared %s but its own gain is zero; expected a "
+                                "loop that feeds back (DC gain %s)"
+                              : "loop '%s' is declared %s but its own DC gain is %s; expected %s",
+                L->name, L->negative ? "negative" : "positive", gain,
+                cl->sign == 0 ? "" : L->negative ? "a positive T(0) for negative feedback"
+                                                 : "a negative T(0) for positive feedback");
+    desc_error_source(d, err);
+    return LW_EINPUT;
+}
+
+static int declared_loops(const desc *d, const model *m, check_result *r, double *G,
+                          lw_error *err)
+{
+    r->nloops = d->nloops;
+    r->loops = calloc((size_t)d->nloops + 1, sizeof *r->loops);
+    unsigned char *off = calloc((size_t)m->ngm + 1, 1);
+    int rc = r->loops && off ? LW_OK : lw_error_set(err, LW_ENOMEM, "out of memory");
+    for (int l = 0; l < d->nloops && rc == LW_OK; l++) {
+        check_loop *cl = &r->loops[l];
+        cl->hop_gm = first_private(d, m, l);
+        cl->dc = NAN;
+        if (cl->hop_gm < 0)
+            continue;
+        memset(off, 0, (size_t)m->ngm);
+        for (int k = 0; k < m->ngm; k++)
+            for (int o = 0; o < d->nloops; o++)
+                if (o != l && hop_in_loop(&d->loops[o], m->gm[k].elem) &&
+                    private_to(d, o, m->gm[k].elem))
+                    off[k] = 1;
+        lg_tf tf;
+        lgain *lg = NULL;
+        if ((rc = return_ratio(m, cl->hop_gm, off, G, 0, &tf, &lg, err)))
+            break;
+        cl->dc = tf.dc;
+        cl->sign = tf.sign;
+        lg_tf_free(&tf);
+        lgain_free(lg);
+        int ok = d->loops[l].negative ? cl->sign > 0 : cl->sign < 0;
+        if (!ok)
+            rc = sign_error(d, l, cl, err);
+    }
+    free(off);
+    return rc;
+}
+
+static void dominance(const desc *d, check_result *r)
+{
+    double neg = 0, pos = 0;
+    int nneg = 0, npos = 0, finite = 1;
+    r->dominance_db = NAN;
+    for (int l = 0; l < d->nloops; l++) {
+        double v = r->loops[l].dc;
+        if (isnan(v))
+            continue;
+        finite &= isfinite(v);
+        if (d->loops[l].negative) {
+            neg += v;
+            nneg++;
+        } else {
+            pos += v;
+            npos++;
+        }
+    }
+    if (nneg && npos && finite && pos != 0 && neg != 0)
+        r->dominance_db = 20.0 * log10(fabs(neg) / fabs(pos));
+}
+
+static void stability(check_result *r)
+{
+    double scale = 0;
+    for (int k = 0; k < r->ncl; k++)
+        scale = fmax(scale, cabs(r->cl[k]));
+    double tol = 1e-9 * scale;
+    r->stable = 1;
+    r->marginal = 0;
+    for (int k = 0; k < r->ncl; k++) {
+        double re = creal(r->cl[k]);
+        if (re >= -tol) {
+            r->stable = 0;
+            if (re <= tol)
+                r->marginal = 1;
+        }
+    }
+}
+
+int check_run(const desc *d, const model *m, const check_opts *o, check_result *r,
+              lw_error *err)
+{
+    memset(r, 0, sizeof *r);
+    size_t nn = (size_t)m->n * (size_t)m->n;
+    double *G = malloc(sizeof(double) * (nn + 1));
+    unsigned char *off = calloc((size_t)m->ngm + 1, 1);
+    int rc = G && off ? LW_OK : lw_error_set(err, LW_ENOMEM, "out of memory");
+    if (!rc && o->want_loops)
+        rc = declared_loops(d, m, r, G, err);
+    if (!rc)
+        rc = return_ratio(m, m->brk, off, G, o->want_owner, &r->tf, &r->lg, err);
+    if (!rc) {
+        model_fill_g(m, NULL, G);
+        rc = lg_natural_frequencies(m->n, G, m->C, &r->cl, &r->ncl, err);
+    }
+    if (!rc)
+        rc = estimates(d, r, err);
+    if (!rc) {
+        double flo, fhi;
+        margin_band(&r->tf, r->cl, r->ncl, &flo, &fhi);
+        if (o->fmin_hz > 0)
+            flo = o->fmin_hz;
+        if (o->fmax_hz > 0)
+            fhi = o->fmax_hz;
+        if (!(fhi > flo))
+            rc = lw_error_set(err, LW_EINPUT, "the band is empty: --fmin must be below --fmax "
+                              "(got %g Hz to %g Hz)", flo, fhi);
+        else
+            rc = margins_find(r->lg, &r->tf, flo, fhi, &r->mg, err);
+    }
+    if (!rc) {
+        stability(r);
+        if (o->want_loops)
+            dominance(d, r);
+        else
+            r->dominance_db = NAN;
+    }
+    free(G);
+    free(off);
+    if (rc)
+        check_result_free(r);
+    return rc;
+}
+
+/* ---- gm-only cycles ------------------------------------------------------ */
+
+typedef struct cyc {
+    const desc *d;
+    FILE *out;
+    int *path, *onpath, depth, found, steps;
+} cyc;
+
+static int declared_cycle(const desc *d, const int *path, int len)
+{
+    for (int l = 0; l < d->nloops; l++) {
+        const desc_loop *L = &d->loops[l];
+        if (L->nnodes != len)
+            continue;
+        for (int s = 0; s < len; s++) {
+            int same = 1;
+            for (int k = 0; k < len && same; k++)
+                same = L->nodes[(s + k) % len] == path[k];
+            if (same)
+                return 1;
+        }
+    }
+    return 0;
+}
+
+/* Depth-first search for simple cycles through start, visiting only nodes
+ * with index >= start so each cycle is found once. Bounded in work. */
+static void dfs(cyc *c, int start, int v)
+{
+    const desc *d = c->d;
+    if (c->found >= 3 || ++c->steps > 100000)
+        return;
+    for (int e = 0; e < d->nelems; e++) {
+        const desc_elem *el = &d->elems[e];
+        if (el->kind != ELEM_GM || el->a != v || el->b < start)
+            continue;
+        if (el->b == start) {
+            if (!declared_cycle(d, c->path, c->depth)) {
+                fprintf(c->out, "%s: warning: the gm elements form a loop ", d->path);
+                for (int k = 0; k < c->depth; k++)
+                    fprintf(c->out, "%s -> ", d->nodes[c->path[k]].name);
+                fprintf(c->out, "%s that no 'loop' line declares\n", d->nodes[start].name);
+                c->found++;
+            }
+            continue;
+        }
+        if (c->onpath[el->b] || c->depth >= d->nnodes)
+            continue;
+        c->onpath[el->b] = 1;
+        c->path[c->depth++] = el->b;
+        dfs(c, start, el->b);
+        c->depth--;
+        c->onpath[el->b] = 0;
+    }
+}
+
+int check_warn_gm_cycles(const desc *d, FILE *out)
+{
+    cyc c = { d, out, calloc((size_t)d->nnodes + 1, sizeof(int)),
+              calloc((size_t)d->nnodes + 1, sizeof(int)), 0, 0, 0 };
+    for (int s = 0; c.path && c.onpath && s < d->nnodes && c.found < 3; s++) {
+        c.path[0] = s;
+        c.depth = 1;
+        c.onpath[s] = 1;
+        dfs(&c, s, s);
+        c.onpath[s] = 0;
+    }
+    free(c.path);
+    free(c.onpath);
+    return c.found;
+}

@@ -1,0 +1,410 @@
+/* loopgain: exact evaluation of the return ratio and its poles and zeros. */
+#include "loopwise/loopgain.h"
+
+#include <gsl/gsl_complex.h>
+#include <gsl/gsl_complex_math.h>
+#include <gsl/gsl_linalg.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "loopwise/pencil.h"
+
+struct lgain {
+    int n, in, out;
+    double gain;              /* -g d_in d_out */
+    double *Gs, *Cs;          /* D G0 D and D C D */
+    gsl_matrix_complex *Y;
+    gsl_permutation *perm;
+    gsl_vector_complex *rhs, *x;
+};
+
+void lgain_free(lgain *lg)
+{
+    if (!lg)
+        return;
+    free(lg->Gs);
+    free(lg->Cs);
+    gsl_matrix_complex_free(lg->Y);
+    gsl_permutation_free(lg->perm);
+    gsl_vector_complex_free(lg->rhs);
+    gsl_vector_complex_free(lg->x);
+    free(lg);
+}
+
+int lgain_new(int n, const double *G0, const double *C, int in, int out, double g,
+              lgain **out_lg, lw_error *err)
+{
+    *out_lg = NULL;
+    lgain *lg = calloc(1, sizeof *lg);
+    size_t nn = (size_t)n * (size_t)n;
+    if (!lg)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    lg->n = n;
+    lg->in = in;
+    lg->out = out;
+    lg->Gs = malloc(sizeof(double) * nn);
+    lg->Cs = malloc(sizeof(double) * nn);
+    lg->Y = gsl_matrix_complex_alloc((size_t)n, (size_t)n);
+    lg->perm = gsl_permutation_alloc((size_t)n);
+    lg->rhs = gsl_vector_complex_calloc((size_t)n);
+    lg->x = gsl_vector_complex_alloc((size_t)n);
+    double *d = malloc(sizeof(double) * (size_t)n);
+    if (!lg->Gs || !lg->Cs || !lg->Y || !lg->perm || !lg->rhs || !lg->x || !d) {
+        free(d);
+        lgain_free(lg);
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    }
+    /* Same diagonal scaling as the pencil: unit capacitance where there is one. */
+    for (int k = 0; k < n; k++) {
+        double c = C[k * n + k], gmax = 0;
+        for (int j = 0; j < n; j++)
+            gmax = fmax(gmax, fmax(fabs(G0[k * n + j]), fabs(G0[j * n + k])));
+        d[k] = c > 0 ? 1.0 / sqrt(c) : (gmax > 0 ? 1.0 / sqrt(gmax) : 1.0);
+    }
+    for (int i = 0; i < n; i++)
+        for (int j = 0; j < n; j++) {
+            lg->Gs[i * n + j] = d[i] * G0[i * n + j] * d[j];
+            lg->Cs[i * n + j] = d[i] * C[i * n + j] * d[j];
+        }
+    lg->gain = -g * d[in] * d[out];
+    free(d);
+    *out_lg = lg;
+    return LW_OK;
+}
+
+double complex lgain_eval(lgain *lg, double complex s)
+{
+    int n = lg->n, sig;
+    if (lg->gain == 0)
+        return 0;
+    for (int i = 0; i < n; i++)
+        for (int j = 0; j < n; j++) {
+            double complex y = lg->Gs[i * n + j] + s * lg->Cs[i * n + j];
+            gsl_matrix_complex_set(lg->Y, (size_t)i, (size_t)j, gsl_complex_rect(creal(y), cimag(y)));
+        }
+    gsl_vector_complex_set_zero(lg->rhs);
+    gsl_vector_complex_set(lg->rhs, (size_t)lg->out, gsl_complex_rect(1, 0));
+    if (gsl_linalg_complex_LU_decomp(lg->Y, lg->perm, &sig) != GSL_SUCCESS)
+        return NAN;
+    for (int k = 0; k < n; k++) {
+        gsl_complex u = gsl_matrix_complex_get(lg->Y, (size_t)k, (size_t)k);
+        if (GSL_REAL(u) == 0 && GSL_IMAG(u) == 0)
+            return NAN;
+    }
+    if (gsl_linalg_complex_LU_solve(lg->Y, lg->perm, lg->rhs, lg->x) != GSL_SUCCESS)
+        return NAN;
+    gsl_complex xi = gsl_vector_complex_get(lg->x, (size_t)lg->in);
+    return lg->gain * (GSL_REAL(xi) + I * GSL_IMAG(xi));
+}
+
+/* ---- sorting ----------------------------------------------------------- */
+
+static int cmp_root(const void *pa, const void *pb)
+{
+    double complex a = *(const double complex *)pa, b = *(const double complex *)pb;
+    double ma = cabs(a), mb = cabs(b);
+    /* magnitudes equal to rounding are a conjugate pair: order by imag */
+    if (fabs(ma - mb) > 1e-12 * fmax(ma, mb))
+        return ma < mb ? -1 : 1;
+    if (cimag(a) != cimag(b))
+        return cimag(a) < cimag(b) ? -1 : 1;
+    return creal(a) < creal(b) ? -1 : (creal(a) > creal(b));
+}
+
+void lg_sort(double complex *v, int n)
+{
+    qsort(v, (size_t)n, sizeof *v, cmp_root);
+}
+
+/* Sorts poles with their owners kept alongside. */
+typedef struct pole_rec {
+    double complex p;
+    int owner;
+} pole_rec;
+
+static int cmp_rec(const void *a, const void *b)
+{
+    return cmp_root(&((const pole_rec *)a)->p, &((const pole_rec *)b)->p);
+}
+
+/* Cleans rounding residue: an imaginary part below 1e-12 of the magnitude is 0. */
+static double complex tidy(double complex z)
+{
+    if (fabs(cimag(z)) <= 1e-12 * cabs(z))
+        return creal(z);
+    return z;
+}
+
+int lg_natural_frequencies(int n, const double *G, const double *C, double complex **roots,
+                           int *nroots, lw_error *err)
+{
+    pencil *p;
+    *roots = NULL;
+    *nroots = 0;
+    int rc = pencil_new(n, G, C, &p, err);
+    if (rc)
+        return rc;
+    int r = pencil_rank(p);
+    *roots = malloc(sizeof **roots * (size_t)(r + 1));
+    if (!*roots) {
+        pencil_free(p);
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    }
+    rc = pencil_eigen(p, C, *roots, NULL, err);
+    pencil_free(p);
+    if (rc) {
+        free(*roots);
+        *roots = NULL;
+        return rc;
+    }
+    for (int k = 0; k < r; k++)
+        (*roots)[k] = tidy((*roots)[k]);
+    lg_sort(*roots, r);
+    *nroots = r;
+    return LW_OK;
+}
+
+/* ---- zeros: verify the candidates -------------------------------------- */
+
+/* A candidate z is a zero of T when |T| near z is far below |T| on a small
+ * circle around it (for a zero of order k the ratio is about (1e-8/1e-3)^k).
+ * A mode T cannot see shows up as a candidate too, but T is not small there;
+ * so does rounding debris at huge |z|, where T is noise. */
+static int verify_zero(lgain *lg, double complex z)
+{
+    double mag = cabs(z);
+    double complex c = z + 1e-8 * mag * cexp(I * 0.7);
+    double tc = cabs(lgain_eval(lg, c));
+    if (!isfinite(tc))
+        return 0;
+    double tmin = INFINITY;
+    for (int k = 0; k < 8; k++) {
+        double complex q = z + 1e-3 * mag * cexp(I * (0.3 + k * 0.785398163397448));
+        double t = cabs(lgain_eval(lg, q));
+        if (!isfinite(t))
+            return 0;
+        tmin = fmin(tmin, t);
+    }
+    return tmin > 0 && tc < 1e-2 * tmin;
+}
+
+/* Marks the unmatched pole nearest to z (within 1e-6 relative) as hidden. */
+static int match_hidden(lg_tf *tf, double complex z)
+{
+    int best = -1;
+    double bestd = INFINITY;
+    for (int k = 0; k < tf->npoles; k++) {
+        if (tf->hidden[k])
+            continue;
+        double dist = cabs(tf->poles[k] - z);
+        if (dist < bestd) {
+            bestd = dist;
+            best = k;
+        }
+    }
+    if (best >= 0 && bestd <= 1e-6 * fmax(cabs(z), cabs(tf->poles[best]))) {
+        tf->hidden[best] = 1;
+        return 1;
+    }
+    return 0;
+}
+
+static int open_loop_poles(int n, const double *G0, const double *C, int want_owner,
+                           pencil *p, lg_tf *tf, lw_error *err)
+{
+    int r = pencil_rank(p);
+    tf->poles = malloc(sizeof *tf->poles * (size_t)(r + 1));
+    tf->hidden = calloc((size_t)r + 1, 1);
+    tf->owner = malloc(sizeof(int) * (size_t)(r + 1));
+    pole_rec *rec = malloc(sizeof *rec * (size_t)(r + 1));
+    if (!tf->poles || !tf->hidden || !tf->owner || !rec) {
+        free(rec);
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    }
+    (void)G0;
+    (void)n;
+    for (int k = 0; k < r; k++)
+        tf->owner[k] = -1;
+    int rc = pencil_eigen(p, C, tf->poles, want_owner ? tf->owner : NULL, err);
+    if (rc) {
+        free(rec);
+        return rc;
+    }
+    for (int k = 0; k < r; k++)
+        rec[k] = (pole_rec){ tidy(tf->poles[k]), tf->owner[k] };
+    qsort(rec, (size_t)r, sizeof *rec, cmp_rec);
+    for (int k = 0; k < r; k++) {
+        tf->poles[k] = rec[k].p;
+        tf->owner[k] = rec[k].owner;
+    }
+    free(rec);
+    tf->npoles = r;
+    return LW_OK;
+}
+
+/* 1 when the scaled real matrix A (n x n, row-major) is singular to rounding:
+ * smallest singular value below 1e-13 of the largest. */
+static int numerically_singular(const double *A, int n)
+{
+    gsl_matrix *U = gsl_matrix_alloc((size_t)n, (size_t)n), *V = gsl_matrix_alloc((size_t)n, (size_t)n);
+    gsl_vector *S = gsl_vector_alloc((size_t)n), *w = gsl_vector_alloc((size_t)n);
+    int sing = 1;
+    if (U && V && S && w) {
+        for (int i = 0; i < n; i++)
+            for (int j = 0; j < n; j++)
+                gsl_matrix_set(U, (size_t)i, (size_t)j, A[i * n + j]);
+        if (gsl_linalg_SV_decomp(U, V, S, w) == GSL_SUCCESS) {
+            double smax = gsl_vector_get(S, 0), smin = gsl_vector_get(S, (size_t)n - 1);
+            sing = !(smin > 1e-13 * smax);
+        }
+    }
+    gsl_matrix_free(U);
+    gsl_matrix_free(V);
+    gsl_vector_free(S);
+    gsl_vector_free(w);
+    return sing;
+}
+
+/* Whether s = 0 can be a root at all: Y0(0) = G0 singular for a pole, the
+ * bordered [[G0, e_o], [e_i^T, 0]] singular for a zero. A magnitude test
+ * alone would take a real low-frequency pole for one at the origin when the
+ * network also has a pole ten decades higher. */
+static void origin_possible(const lgain *lg, int *pole, int *zero)
+{
+    int n = lg->n, nb = n + 1;
+    *pole = numerically_singular(lg->Gs, n);
+    double *B = calloc((size_t)nb * (size_t)nb, sizeof(double));
+    if (!B) {
+        *zero = 1;
+        return;
+    }
+    double big = 0;
+    for (int k = 0; k < n * n; k++)
+        big = fmax(big, fabs(lg->Gs[k]));
+    for (int i = 0; i < n; i++)
+        for (int j = 0; j < n; j++)
+            B[i * nb + j] = lg->Gs[i * n + j];
+    B[lg->out * nb + n] = big > 0 ? big : 1;
+    B[n * nb + lg->in] = big > 0 ? big : 1;
+    *zero = numerically_singular(B, nb);
+    free(B);
+}
+
+/* Sorts the candidates into zeros, hidden modes and debris. */
+static int classify_zeros(pencil *p, lgain *lg, int in, int out, lg_tf *tf, lw_error *err)
+{
+    int r = pencil_rank(p), nc = 0;
+    double complex *cand = malloc(sizeof *cand * (size_t)(r + 1));
+    tf->zeros = malloc(sizeof *tf->zeros * (size_t)(r + 1));
+    if (!cand || !tf->zeros) {
+        free(cand);
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    }
+    int rc = pencil_zero_candidates(p, in, out, cand, &nc, err);
+    if (rc) {
+        free(cand);
+        return rc;
+    }
+    double scale = 0;
+    for (int k = 0; k < tf->npoles; k++)
+        scale = fmax(scale, cabs(tf->poles[k]));
+    if (scale == 0)
+        for (int k = 0; k < nc; k++)
+            scale = fmax(scale, cabs(cand[k]));
+    tf->origin_tol = 1e-9 * scale;
+    int p0 = 0, z0 = 0, pole_ok, zero_ok;
+    origin_possible(lg, &pole_ok, &zero_ok);
+    for (int k = 0; k < tf->npoles && pole_ok; k++)
+        if (cabs(tf->poles[k]) <= tf->origin_tol) {
+            tf->poles[k] = 0;
+            p0++;
+        }
+    for (int k = 0; k < nc; k++) {
+        if (zero_ok && cabs(cand[k]) <= tf->origin_tol) {
+            z0++;
+            continue;
+        }
+        if (verify_zero(lg, cand[k]))
+            tf->zeros[tf->nzeros++] = tidy(cand[k]);
+        else
+            match_hidden(tf, cand[k]);
+    }
+    /* Origin: a hidden mode at s = 0 pairs with an origin candidate. */
+    int cancel = p0 < z0 ? p0 : z0;
+    for (int k = 0; k < tf->npoles && cancel > 0; k++)
+        if (tf->poles[k] == 0 && !tf->hidden[k]) {
+            tf->hidden[k] = 1;
+            cancel--;
+        }
+    tf->origin = z0 - p0;
+    for (int k = 0; k < tf->origin; k++)
+        tf->zeros[tf->nzeros++] = 0;
+    lg_sort(tf->zeros, tf->nzeros);
+    free(cand);
+    return LW_OK;
+}
+
+/* Sign of K0 and T(0), from T on the positive real axis well below every
+ * singularity; the slope there also cross-checks the origin order. */
+static void low_frequency(lgain *lg, lg_tf *tf)
+{
+    double lo = INFINITY;
+    for (int k = 0; k < tf->npoles; k++)
+        if (!tf->hidden[k] && tf->poles[k] != 0)
+            lo = fmin(lo, cabs(tf->poles[k]));
+    for (int k = 0; k < tf->nzeros; k++)
+        if (tf->zeros[k] != 0)
+            lo = fmin(lo, cabs(tf->zeros[k]));
+    double sigma = isfinite(lo) ? 1e-4 * lo : 1.0;
+    double complex t1 = lgain_eval(lg, sigma), t2 = lgain_eval(lg, sigma / 10);
+    tf->sign = creal(t1) > 0 ? 1 : (creal(t1) < 0 ? -1 : 0);
+    if (cabs(t1) > 0 && cabs(t2) > 0) {
+        double slope = log10(cabs(t1) / cabs(t2));
+        if (fabs(slope - tf->origin) > 0.05)
+            tf->suspect = 1;
+    }
+    if (tf->origin < 0) {
+        tf->dc = tf->sign > 0 ? INFINITY : -INFINITY;
+    } else if (tf->origin > 0 || tf->sign == 0) {
+        tf->dc = 0;
+    } else {
+        double complex t0 = lgain_eval(lg, 0);
+        tf->dc = isfinite(creal(t0)) ? creal(t0) : creal(lgain_eval(lg, sigma * 1e-6));
+    }
+}
+
+int lg_tf_analyse(int n, const double *G0, const double *C, lgain *lg, int in, int out,
+                  int want_owner, lg_tf *tf, lw_error *err)
+{
+    memset(tf, 0, sizeof *tf);
+    pencil *p;
+    int rc = pencil_new(n, G0, C, &p, err);
+    if (rc)
+        return rc;
+    rc = open_loop_poles(n, G0, C, want_owner, p, tf, err);
+    if (!rc && lg->gain == 0) {
+        /* the break is switched off: T is identically zero */
+        tf->sign = 0;
+        tf->dc = 0;
+    } else if (!rc) {
+        rc = classify_zeros(p, lg, in, out, tf, err);
+        if (!rc)
+            low_frequency(lg, tf);
+    }
+    pencil_free(p);
+    if (rc)
+        lg_tf_free(tf);
+    return rc;
+}
+
+void lg_tf_free(lg_tf *tf)
+{
+    if (!tf)
+        return;
+    free(tf->poles);
+    free(tf->owner);
+    free(tf->hidden);
+    free(tf->zeros);
+    memset(tf, 0, sizeof *tf);
+}

@@ -1,0 +1,223 @@
+/* main: command-line options and dispatch. The work is done by the library
+ * modules; this file only reads options, runs the pipeline
+ *   text -> desc -> model -> check -> report
+ * and maps statuses to exit codes (SPEC section 5). */
+#include <gsl/gsl_errno.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "loopwise/check.h"
+#include "loopwise/outfile.h"
+#include "loopwise/report.h"
+
+#define LOOPWISE_VERSION "0.1.0"
+enum { MAX_SETS = 256, MAX_BODE_POINTS = 100000 };
+
+static const char usage_text[] =
+    "usage: loopwise COMMAND FILE [options]      (FILE may be - for standard input)\n"
+    "\n"
+    "commands:\n"
+    "  check   declared loops and their signs, DC loop gain, crossovers, phase and gain\n"
+    "          margin, open-loop poles with owner nodes, zeros, closed-loop poles, verdict\n"
+    "  bode    magnitude and phase of the loop gain over the band (table, --csv, --json)\n"
+    "\n"
+    "options:\n"
+    "  --set NAME=EXPR   override a param, an element value, or NODE.r / NODE.c (repeatable)\n"
+    "  --pm DEG          target phase margin (default 60; when given, a miss exits with 1)\n"
+    "  --fmin F, --fmax F  analysis band in Hz (default: from the poles and zeros)\n"
+    "  --json            machine-readable output on standard output\n"
+    "  --csv PATH        bode: write the response as CSV (PATH may be -)\n"
+    "  --points N        bode: number of log-spaced frequencies (default 121)\n"
+    "  -h, --help        this help;  --version  the version\n"
+    "\n"
+    "Numbers take SI prefixes and units as in the file: 2.2pF, 180k, 1e3k, 40uS.\n"
+    "Exit codes: 0 done and targets met, 1 target missed or unstable, 2 bad input,\n"
+    "3 numerical failure.\n";
+
+typedef struct options {
+    const char *command, *file, *csv;
+    const char *sets[MAX_SETS];
+    int nsets, json, points;
+    double pm, fmin, fmax;
+    int pm_given;
+} options;
+
+static int usage_error(const char *fmt, const char *arg)
+{
+    fputs("loopwise: ", stderr);
+    fprintf(stderr, fmt, arg);
+    fputs("\nrun 'loopwise --help' for the commands and options\n", stderr);
+    return 2;
+}
+
+/* Evaluates a numeric option with the file's number syntax. */
+static int option_number(const char *name, const char *text, expr_unit unit, double *v)
+{
+    expr_pool *p = expr_pool_new();
+    lw_error err;
+    lw_error_clear(&err);
+    int h, rc = p ? expr_compile(p, text, unit, NULL, 1, 1, text, &h, &err) : LW_ENOMEM;
+    if (!rc)
+        rc = expr_eval(p, h, NULL, v, &err);
+    expr_pool_free(p);
+    if (!rc && !isfinite(*v))
+        snprintf(err.msg, sizeof err.msg, "the value must be finite"), rc = LW_EINPUT;
+    if (rc) {
+        fprintf(stderr, "loopwise: %s '%s': %s\n", name, text, err.msg);
+        return 2;
+    }
+    return 0;
+}
+
+static int parse_options(int argc, char **argv, options *o)
+{
+    for (int k = 1; k < argc; k++) {
+        const char *a = argv[k];
+        const char *val = k + 1 < argc ? argv[k + 1] : NULL;
+        int takes = !strcmp(a, "--set") || !strcmp(a, "--pm") || !strcmp(a, "--fmin") ||
+                    !strcmp(a, "--fmax") || !strcmp(a, "--csv") || !strcmp(a, "--points");
+        if (takes && !val)
+            return usage_error("option '%s' needs a value", a);
+        if (!strcmp(a, "--set")) {
+            if (o->nsets == MAX_SETS)
+                return usage_error("too many --set options (limit %s)", "256");
+            o->sets[o->nsets++] = val;
+        } else if (!strcmp(a, "--pm")) {
+            if (option_number(a, val, UNIT_NONE, &o->pm))
+                return 2;
+            o->pm_given = 1;
+        } else if (!strcmp(a, "--fmin") || !strcmp(a, "--fmax")) {
+            double *dst = a[3] == 'm' && a[4] == 'i' ? &o->fmin : &o->fmax;
+            if (option_number(a, val, UNIT_HZ, dst))
+                return 2;
+            if (!(*dst > 0))
+                return usage_error("%s must be a positive frequency", a);
+        } else if (!strcmp(a, "--csv")) {
+            o->csv = val;
+        } else if (!strcmp(a, "--points")) {
+            double v;
+            if (option_number(a, val, UNIT_NONE, &v))
+                return 2;
+            if (v < 2 || v > MAX_BODE_POINTS || v != floor(v))
+                return usage_error("--points takes a whole number from 2 to 100000, got '%s'", val);
+            o->points = (int)v;
+        } else if (!strcmp(a, "--json")) {
+            o->json = 1;
+        } else if (a[0] == '-' && a[1]) {
+            return usage_error("unknown option '%s'", a);
+        } else if (!o->command) {
+            o->command = a;
+        } else if (!o->file) {
+            o->file = a;
+        } else {
+            return usage_error("unexpected argument '%s'", a);
+        }
+        k += takes;
+    }
+    if (!o->command)
+        return usage_error("%s", "missing COMMAND");
+    if (strcmp(o->command, "check") && strcmp(o->command, "bode"))
+        return usage_error("unknown command '%s'; expected check or bode", o->command);
+    if (!o->file)
+        return usage_error("missing FILE after '%s'", o->command);
+    if (o->csv && strcmp(o->command, "bode"))
+        return usage_error("--csv goes with 'bode', not '%s'", o->command);
+    return 0;
+}
+
+static int exit_code(int rc)
+{
+    return rc == LW_EINPUT ? 2 : 3;
+}
+
+/* Loads, overrides and evaluates the description, and builds the model. */
+static int load(const options *o, desc **d, model **m, lw_error *err)
+{
+    text_file *t = NULL;
+    int rc = text_read(o->file, &t, err);
+    if (!rc)
+        rc = desc_parse(t, strcmp(o->file, "-") ? o->file : "<stdin>", d, err);
+    text_free(t);
+    for (int k = 0; !rc && k < o->nsets; k++)
+        rc = desc_set(*d, o->sets[k], err);
+    if (!rc)
+        rc = desc_eval(*d, err);
+    if (!rc)
+        rc = model_new(*d, m, err);
+    return rc;
+}
+
+static int run_bode(const options *o, const desc *d, const check_result *r, lw_error *err)
+{
+    int npoints = o->points ? o->points : 121;
+    if (o->csv) {
+        outfile *of;
+        int rc = outfile_open(o->csv, &of, err);
+        if (rc)
+            return rc;
+        report_bode(of->f, d, r, npoints, BODE_CSV);
+        if ((rc = outfile_commit(of, err)))
+            return rc;
+        if (!strcmp(o->csv, "-"))
+            return LW_OK;
+    }
+    report_bode(stdout, d, r, npoints, o->json ? BODE_JSON : BODE_TEXT);
+    return LW_OK;
+}
+
+int main(int argc, char **argv)
+{
+    for (int k = 1; k < argc; k++) {
+        if (!strcmp(argv[k], "-h") || !strcmp(argv[k], "--help")) {
+            fputs(usage_text, stdout);
+            return 0;
+        }
+        if (!strcmp(argv[k], "--version")) {
+            printf("loopwise %s\n", LOOPWISE_VERSION);
+            return 0;
+        }
+    }
+    options o = { .pm = 60.0 };
+    int code = parse_options(argc, argv, &o);
+    if (code)
+        return code;
+    gsl_set_error_handler_off();
+    lw_error err;
+    lw_error_clear(&err);
+    desc *d = NULL;
+    model *m = NULL;
+    check_result r;
+    memset(&r, 0, sizeof r);
+    int rc = load(&o, &d, &m, &err);
+    check_opts co = { o.fmin, o.fmax, 1, 1 };
+    if (!rc)
+        rc = check_run(d, m, &co, &r, &err);
+    if (rc) {
+        lw_error_print(&err, strcmp(o.file, "-") ? o.file : "<stdin>", stderr);
+        code = exit_code(rc);
+        goto done;
+    }
+    check_warn_gm_cycles(d, stderr);
+    report_target t = { o.pm, o.pm_given };
+    if (!strcmp(o.command, "check")) {
+        if (o.json)
+            report_check_json(stdout, d, m, &r);
+        else
+            report_check_text(stdout, d, m, &r, t);
+        code = report_check_status(&r, t);
+    } else if ((rc = run_bode(&o, d, &r, &err))) {
+        lw_error_print(&err, o.file, stderr);
+        code = exit_code(rc);
+    }
+    if (fflush(stdout) != 0 || ferror(stdout)) {
+        fputs("loopwise: writing standard output failed\n", stderr);
+        code = 3;
+    }
+done:
+    check_result_free(&r);
+    model_free(m);
+    desc_free(d);
+    return code;
+}

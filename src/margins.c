@@ -1,0 +1,246 @@
+/* margins: crossovers (Brent's method on log|T| against log f), phase
+ * margins, phase crossings and gain margins. */
+#include "loopwise/margins.h"
+
+#include <gsl/gsl_errno.h>
+#include <gsl/gsl_roots.h>
+#include <math.h>
+#include <stdlib.h>
+
+#define TWO_PI 6.283185307179586
+#define DEG (180.0 / 3.14159265358979323846)
+
+/* arg(1 - jw/r) in degrees: continuous in w for every r off the jw axis. */
+static double factor_arg(double w, double complex r)
+{
+    double complex f = 1.0 - I * w / r;
+    return carg(f) * DEG;
+}
+
+static double factored_phase(const lg_tf *tf, double w)
+{
+    double ph = (tf->sign < 0 ? -180.0 : 0.0) + 90.0 * tf->origin;
+    for (int k = 0; k < tf->nzeros; k++)
+        if (tf->zeros[k] != 0)
+            ph += factor_arg(w, tf->zeros[k]);
+    for (int k = 0; k < tf->npoles; k++)
+        if (!tf->hidden[k] && tf->poles[k] != 0)
+            ph -= factor_arg(w, tf->poles[k]);
+    return ph;
+}
+
+double margin_phase(lgain *lg, const lg_tf *tf, double hz, double *mag, int *mismatch)
+{
+    double w = TWO_PI * hz;
+    double complex t = lgain_eval(lg, I * w);
+    double pf = factored_phase(tf, w);
+    *mag = cabs(t);
+    if (!(*mag > 0) || !isfinite(*mag)) {
+        if (mismatch)
+            *mismatch = !isfinite(*mag);
+        return pf;
+    }
+    double pe = carg(t) * DEG;
+    double ph = pe + 360.0 * round((pf - pe) / 360.0);
+    if (mismatch)
+        *mismatch = fabs(ph - pf) > 2.0;
+    return ph;
+}
+
+void margin_band(const lg_tf *tf, const double complex *cl, int ncl, double *flo, double *fhi)
+{
+    double lo = INFINITY, hi = 0;
+    for (int k = 0; k < tf->npoles + tf->nzeros + ncl; k++) {
+        double complex v = k < tf->npoles ? tf->poles[k]
+                           : k < tf->npoles + tf->nzeros ? tf->zeros[k - tf->npoles]
+                                                         : cl[k - tf->npoles - tf->nzeros];
+        double m = cabs(v);
+        if (m == 0)
+            continue; /* roots at s = 0 were snapped to exactly 0 */
+        lo = fmin(lo, m);
+        hi = fmax(hi, m);
+    }
+    if (!isfinite(lo)) {
+        *flo = 1.0;
+        *fhi = 1e9;
+        return;
+    }
+    *flo = lo / TWO_PI / 1000.0;
+    *fhi = hi / TWO_PI * 1000.0;
+}
+
+/* ---- root finding -------------------------------------------------------- */
+
+typedef struct fparams {
+    lgain *lg;
+    const lg_tf *tf;
+    double target;       /* phase target in degrees (phase crossings) */
+} fparams;
+
+static double log_mag(double u, void *vp)
+{
+    fparams *fp = vp;
+    double mag;
+    margin_phase(fp->lg, fp->tf, pow(10.0, u), &mag, NULL);
+    return log(mag);
+}
+
+static double phase_offset(double u, void *vp)
+{
+    fparams *fp = vp;
+    double mag;
+    return margin_phase(fp->lg, fp->tf, pow(10.0, u), &mag, NULL) - fp->target;
+}
+
+/* Brent's method on [lo, hi] in u = log10 f; |Δu| < 1e-13 is a relative
+ * error in f below 3e-13. */
+static int brent(double (*fn)(double, void *), fparams *fp, double lo, double hi, double *root)
+{
+    gsl_function F = { fn, fp };
+    gsl_root_fsolver *s = gsl_root_fsolver_alloc(gsl_root_fsolver_brent);
+    if (!s)
+        return LW_ENOMEM;
+    int st = gsl_root_fsolver_set(s, &F, lo, hi);
+    for (int it = 0; st == GSL_SUCCESS && it < 200; it++) {
+        st = gsl_root_fsolver_iterate(s);
+        if (st != GSL_SUCCESS)
+            break;
+        lo = gsl_root_fsolver_x_lower(s);
+        hi = gsl_root_fsolver_x_upper(s);
+        if (gsl_root_test_interval(lo, hi, 1e-13, 0) == GSL_SUCCESS)
+            break;
+    }
+    *root = gsl_root_fsolver_root(s);
+    gsl_root_fsolver_free(s);
+    return st == GSL_SUCCESS ? LW_OK : LW_ENUMERIC;
+}
+
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return x < y ? -1 : (x > y);
+}
+
+/* Log grid over the band plus every pole and zero frequency inside it. */
+static double *make_grid(const lg_tf *tf, double flo, double fhi, int *npts)
+{
+    double decades = log10(fhi / flo);
+    int nlog = (int)ceil(decades * MARGIN_PER_DECADE) + 1;
+    if (nlog < 2)
+        nlog = 2;
+    int cap = nlog + 2 * (tf->npoles + tf->nzeros);
+    double *u = malloc(sizeof(double) * (size_t)cap);
+    if (!u)
+        return NULL;
+    int n = 0;
+    double ul = log10(flo), uh = log10(fhi);
+    for (int k = 0; k < nlog; k++)
+        u[n++] = ul + (uh - ul) * k / (nlog - 1);
+    for (int k = 0; k < tf->npoles + tf->nzeros; k++) {
+        double complex v = k < tf->npoles ? tf->poles[k] : tf->zeros[k - tf->npoles];
+        double m = cabs(v) / TWO_PI;
+        if (m > flo && m < fhi)
+            u[n++] = log10(m);
+    }
+    qsort(u, (size_t)n, sizeof *u, cmp_double);
+    *npts = n;
+    return u;
+}
+
+static void add_point(margin_point *arr, int *n, double hz, double value)
+{
+    if (*n < MARGIN_MAX_POINTS)
+        arr[(*n)++] = (margin_point){ hz, value };
+}
+
+static int crossover(fparams *fp, margins *m, double ua, double ub)
+{
+    double u;
+    int rc = brent(log_mag, fp, ua, ub, &u);
+    if (rc)
+        return rc;
+    double mag, hz = pow(10.0, u);
+    int mis = 0;
+    double ph = margin_phase(fp->lg, fp->tf, hz, &mag, &mis);
+    m->mismatch += mis;
+    add_point(m->cross, &m->ncross, hz, 180.0 + ph);
+    return LW_OK;
+}
+
+static int phase_crossing(fparams *fp, margins *m, double ua, double ub, double target)
+{
+    double u;
+    fp->target = target;
+    int rc = brent(phase_offset, fp, ua, ub, &u);
+    if (rc)
+        return rc;
+    double mag, hz = pow(10.0, u);
+    margin_phase(fp->lg, fp->tf, hz, &mag, NULL);
+    add_point(m->phase, &m->nphase, hz, -20.0 * log10(mag));
+    return LW_OK;
+}
+
+static void pick_best(margins *m)
+{
+    m->best_cross = m->best_phase = -1;
+    for (int k = 0; k < m->ncross; k++)
+        if (m->best_cross < 0 || m->cross[k].value < m->cross[m->best_cross].value)
+            m->best_cross = k;
+    for (int k = 0; k < m->nphase; k++)
+        if (m->best_phase < 0 || m->phase[k].value < m->phase[m->best_phase].value)
+            m->best_phase = k;
+}
+
+/* Scans the grid: a sign change of log|T| brackets a crossover, a change of
+ * floor((phase + 180)/360) brackets a phase crossing at -180 + 360 k. */
+static int scan(fparams *fp, margins *m, const double *u, int n)
+{
+    double lm_prev = 0, ph_prev = 0;
+    int above = 0, below = 0, rc = LW_OK;
+    for (int k = 0; k < n && rc == LW_OK; k++) {
+        double mag;
+        int mis = 0;
+        double ph = margin_phase(fp->lg, fp->tf, pow(10.0, u[k]), &mag, &mis);
+        double lm = log(mag);
+        m->mismatch += mis;
+        if (!isfinite(lm))
+            continue;
+        above |= lm > 0;
+        below |= lm < 0;
+        if (k > 0 && u[k] > u[k - 1]) {
+            if ((lm_prev < 0) != (lm < 0) && lm_prev != 0)
+                rc = crossover(fp, m, u[k - 1], u[k]);
+            double qa = floor((ph_prev + 180.0) / 360.0), qb = floor((ph + 180.0) / 360.0);
+            for (double q = fmin(qa, qb) + 1; rc == LW_OK && q <= fmax(qa, qb); q++)
+                rc = phase_crossing(fp, m, u[k - 1], u[k], -180.0 + 360.0 * q);
+        }
+        lm_prev = lm;
+        ph_prev = ph;
+    }
+    m->why = m->ncross > 0 ? CROSS_FOUND : (above && !below ? CROSS_ABOVE : CROSS_BELOW);
+    return rc;
+}
+
+int margins_find(lgain *lg, const lg_tf *tf, double flo, double fhi, margins *m,
+                 lw_error *err)
+{
+    m->fmin_hz = flo;
+    m->fmax_hz = fhi;
+    m->ncross = m->nphase = m->mismatch = 0;
+    m->why = CROSS_BELOW;
+    fparams fp = { lg, tf, 0 };
+    int n;
+    double *u = make_grid(tf, flo, fhi, &n);
+    if (!u)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    gsl_error_handler_t *old = gsl_set_error_handler_off();
+    int rc = tf->sign == 0 ? LW_OK : scan(&fp, m, u, n);
+    gsl_set_error_handler(old);
+    free(u);
+    pick_best(m);
+    if (rc == LW_ENOMEM)
+        return lw_error_set(err, rc, "out of memory");
+    if (rc)
+        return lw_error_set(err, rc, "root refinement of a crossover did not converge");
+    return LW_OK;
+}

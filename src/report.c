@@ -1,0 +1,255 @@
+/* report: the text report of 'check' and the tables of 'bode'. */
+#include "loopwise/report.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "loopwise/units.h"
+
+#define TWO_PI 6.283185307179586
+
+static int right_half(double complex s, double tol)
+{
+    return creal(s) > tol;
+}
+
+int report_check_status(const check_result *r, report_target t)
+{
+    if (!r->stable)
+        return 1;
+    if (t.given && (r->mg.best_cross < 0 || r->mg.cross[r->mg.best_cross].value < t.pm_deg))
+        return 1;
+    return 0;
+}
+
+/* "-1.2 MHz ± j2.3 MHz" for a root given in rad/s. */
+static char *root_text(double complex s, char *buf, size_t size)
+{
+    char a[32], b[32];
+    double re = creal(s) / TWO_PI, im = fabs(cimag(s)) / TWO_PI;
+    if (im == 0)
+        snprintf(buf, size, "%s", si_format(re, "Hz", a, sizeof a));
+    else
+        snprintf(buf, size, "%s \xC2\xB1 j%s", si_format(re, "Hz", a, sizeof a),
+                 si_format(im, "Hz", b, sizeof b));
+    return buf;
+}
+
+static double quality(double complex s)
+{
+    return cimag(s) != 0 && creal(s) != 0 ? cabs(s) / (2.0 * fabs(creal(s))) : NAN;
+}
+
+/* Skips the first of a conjugate pair (sorted: negative imaginary part first). */
+static int pair_first(const double complex *v, int n, int k)
+{
+    return cimag(v[k]) < 0 && k + 1 < n && fabs(cimag(v[k]) + cimag(v[k + 1])) <=
+                                                1e-9 * cabs(v[k]);
+}
+
+static void gain_text(double g, char *buf, size_t size)
+{
+    if (isinf(g))
+        snprintf(buf, size, "unbounded (integrator)");
+    else if (isnan(g))
+        snprintf(buf, size, "none (shares every stage)");
+    else if (g == 0)
+        snprintf(buf, size, "0 V/V");
+    else
+        snprintf(buf, size, "%+.4g V/V (%.1f dB)", g, 20.0 * log10(fabs(g)));
+}
+
+static void section_loops(FILE *f, const desc *d, const model *m, const check_result *r)
+{
+    if (r->nloops == 0)
+        return;
+    fprintf(f, "\nDeclared loops\n  %-12s %-9s %-28s %-12s %s\n", "loop", "sign", "own DC gain",
+            "measured at", "verdict");
+    for (int l = 0; l < r->nloops; l++) {
+        const check_loop *cl = &r->loops[l];
+        char g[64];
+        gain_text(cl->dc, g, sizeof g);
+        const char *at = cl->hop_gm >= 0 ? d->elems[m->gm[cl->hop_gm].elem].name : "-";
+        const char *verdict = cl->hop_gm < 0 ? "no private gm: sign not checked"
+                                             : d->loops[l].negative ? "negative, as declared"
+                                                                    : "positive, as declared";
+        fprintf(f, "  %-12s %-9s %-28s %-12s %s\n", d->loops[l].name,
+                d->loops[l].negative ? "negative" : "positive", g, at, verdict);
+    }
+    if (isfinite(r->dominance_db))
+        fprintf(f, "  negative loops over positive loops at DC: %.1f dB%s\n", r->dominance_db,
+                r->dominance_db < 6 ? "  (less than 2x: the positive loop is strong)" : "");
+}
+
+static void section_gain(FILE *f, const desc *d, const model *m, const check_result *r)
+{
+    const lg_tf *tf = &r->tf;
+    const margins *mg = &r->mg;
+    char a[32], b[32];
+    const desc_elem *brk = &d->elems[m->gm[m->brk].elem];
+    fprintf(f, "\nLoop gain T, opened at gm '%s' (%s -> %s)\n", brk->name,
+            d->nodes[brk->a].name, d->nodes[brk->b].name);
+    if (tf->origin < 0)
+        fprintf(f, "  DC gain         unbounded: T grows as 1/s^%d at low frequency (an "
+                "integrator in the loop)\n", -tf->origin);
+    else if (tf->origin > 0)
+        fprintf(f, "  DC gain         0: T has %d zero%s at s = 0 (the loop is AC-coupled)\n",
+                tf->origin, tf->origin > 1 ? "s" : "");
+    else if (tf->sign == 0)
+        fprintf(f, "  DC gain         0: the break gm is switched off\n");
+    else
+        fprintf(f, "  DC gain         %+.5g V/V (%.2f dB)%s\n", tf->dc,
+                20.0 * log10(fabs(tf->dc)), tf->dc < 0 ? "  (net positive feedback)" : "");
+    if (mg->ncross == 0) {
+        fprintf(f, "  crossover       none: |T| stays %s 1 from %s to %s, so the phase margin "
+                "is undefined\n", mg->why == CROSS_ABOVE ? "above" : "below",
+                si_format(mg->fmin_hz, "Hz", a, sizeof a), si_format(mg->fmax_hz, "Hz", b, sizeof b));
+    }
+    for (int k = 0; k < mg->ncross; k++)
+        fprintf(f, "  crossover       %-12s phase margin %.2f\xC2\xB0%s\n",
+                si_format(mg->cross[k].hz, "Hz", a, sizeof a), mg->cross[k].value,
+                mg->ncross > 1 && k == mg->best_cross ? "  (smallest)" : "");
+    if (mg->nphase == 0)
+        fprintf(f, "  gain margin     undefined: the phase never reaches -180\xC2\xB0 (mod 360\xC2\xB0) "
+                "in the band\n");
+    else
+        fprintf(f, "  gain margin     %.2f dB at %s\n", mg->phase[mg->best_phase].value,
+                si_format(mg->phase[mg->best_phase].hz, "Hz", a, sizeof a));
+    fprintf(f, "  band            %s to %s\n", si_format(mg->fmin_hz, "Hz", a, sizeof a),
+            si_format(mg->fmax_hz, "Hz", b, sizeof b));
+}
+
+static void section_poles(FILE *f, const desc *d, const check_result *r)
+{
+    const lg_tf *tf = &r->tf;
+    char s[80], a[32], e[32];
+    int hidden = 0;
+    fprintf(f, "\nOpen-loop poles (s/2\xCF\x80)\n  %-3s %-30s %-6s %-10s %s\n", "#", "pole", "Q",
+            "node", "one-pole estimate");
+    for (int k = 0, idx = 1; k < tf->npoles; k++) {
+        if (pair_first(tf->poles, tf->npoles, k))
+            continue;
+        int o = tf->owner ? tf->owner[k] : -1;
+        double q = quality(tf->poles[k]);
+        snprintf(a, sizeof a, isnan(q) ? "" : "%.3g", q);
+        if (o >= 0 && isfinite(r->estimate_hz[o]))
+            si_format(r->estimate_hz[o], "Hz", e, sizeof e);
+        else
+            snprintf(e, sizeof e, o >= 0 ? "- (no R to ground)" : "-");
+        hidden |= tf->hidden[k];
+        fprintf(f, "  %-3d %-30s %-6s %-10s %s%s\n", idx++, root_text(tf->poles[k], s, sizeof s),
+                a, o >= 0 ? d->nodes[o].name : "-", e, tf->hidden[k] ? "  (not seen by T)" : "");
+    }
+    if (tf->npoles == 0)
+        fprintf(f, "  none: no node has capacitance\n");
+    if (hidden)
+        fprintf(f, "  poles marked 'not seen by T' belong to parts of the circuit outside the "
+                "loop\n");
+}
+
+static void section_roots(FILE *f, const char *title, const double complex *v, int n, int zeros)
+{
+    char s[80], a[32];
+    fprintf(f, "\n%s\n", title);
+    if (n == 0)
+        fprintf(f, "  none\n");
+    double scale = 0;
+    for (int k = 0; k < n; k++)
+        scale = fmax(scale, cabs(v[k]));
+    for (int k = 0, idx = 1; k < n; k++) {
+        if (pair_first(v, n, k))
+            continue;
+        double q = quality(v[k]);
+        snprintf(a, sizeof a, isnan(q) ? "" : "Q %.3g", q);
+        const char *note = "";
+        if (right_half(v[k], 1e-12 * scale))
+            note = zeros ? "  right half-plane zero: adds phase lag" : "  RIGHT HALF-PLANE";
+        fprintf(f, "  %-3d %-30s %-8s%s\n", idx++, root_text(v[k], s, sizeof s), a, note);
+    }
+}
+
+static void verdict(FILE *f, const check_result *r, report_target t)
+{
+    const margins *mg = &r->mg;
+    double pm = mg->best_cross >= 0 ? mg->cross[mg->best_cross].value : NAN;
+    int rhp = 0;
+    for (int k = 0; k < r->ncl; k++)
+        rhp += creal(r->cl[k]) > 0;
+    fputc('\n', f);
+    if (!r->stable && r->marginal && rhp == 0)
+        fprintf(f, "Verdict: MARGINAL: a closed-loop pole sits on the imaginary axis.\n");
+    else if (!r->stable)
+        fprintf(f, "Verdict: UNSTABLE: %d closed-loop pole%s in the right half-plane.\n", rhp,
+                rhp == 1 ? "" : "s");
+    else if (isnan(pm))
+        fprintf(f, "Verdict: stable; no crossover, so no phase margin to compare with the "
+                "%.4g\xC2\xB0 target.\n", t.pm_deg);
+    else if (pm >= t.pm_deg)
+        fprintf(f, "Verdict: stable; phase margin %.1f\xC2\xB0 meets the %.4g\xC2\xB0 target.\n",
+                pm, t.pm_deg);
+    else
+        fprintf(f, "Verdict: stable, but the phase margin %.1f\xC2\xB0 is below the %.4g\xC2\xB0 "
+                "target.\n", pm, t.pm_deg);
+    if (r->stable && !isnan(pm) && pm < 0)
+        fprintf(f, "Note: the closed loop is stable although the phase margin is negative: "
+                "the loop is conditionally stable; check the margin over gain changes.\n");
+    int olrhp = 0;
+    for (int k = 0; k < r->tf.npoles; k++)
+        olrhp += creal(r->tf.poles[k]) > 0 && !r->tf.hidden[k];
+    if (!r->stable && !isnan(pm) && pm > 0)
+        fprintf(f, "Note: the phase margin is positive but the closed loop is unstable%s; "
+                "the closed-loop poles decide.\n",
+                olrhp ? " (T has a right half-plane pole)" : "");
+    if (r->tf.suspect || mg->mismatch)
+        fprintf(f, "Note: accuracy warning: an internal consistency check failed (%s); treat "
+                "the margins with caution.\n",
+                r->tf.suspect ? "low-frequency slope and pole/zero count disagree"
+                              : "factored and exact phase disagree");
+}
+
+void report_check_text(FILE *f, const desc *d, const model *m, const check_result *r,
+                       report_target t)
+{
+    fprintf(f, "loopwise check: %s  (%d nodes, %d elements)\n", d->path, d->nnodes, d->nelems);
+    section_loops(f, d, m, r);
+    section_gain(f, d, m, r);
+    section_poles(f, d, r);
+    section_roots(f, "Zeros of T (s/2\xCF\x80)", r->tf.zeros, r->tf.nzeros, 1);
+    section_roots(f, "Closed-loop poles (s/2\xCF\x80)", r->cl, r->ncl, 0);
+    verdict(f, r, t);
+}
+
+int report_bode(FILE *f, const desc *d, const check_result *r, int npoints, bode_format fmt)
+{
+    double lo = log10(r->mg.fmin_hz), hi = log10(r->mg.fmax_hz);
+    char a[32];
+    if (fmt == BODE_TEXT)
+        fprintf(f, "loopwise bode: %s\n  %-14s %12s %12s\n", d->path, "frequency", "|T| (dB)",
+                "phase (\xC2\xB0)");
+    else if (fmt == BODE_CSV)
+        fputs("freq_hz,mag_db,phase_deg\n", f);
+    else
+        fputs("{\"points\": [", f);
+    for (int k = 0; k < npoints; k++) {
+        double hz = pow(10.0, npoints > 1 ? lo + (hi - lo) * k / (npoints - 1) : lo), mag;
+        double ph = margin_phase(r->lg, &r->tf, hz, &mag, NULL);
+        double db = 20.0 * log10(mag);
+        if (fmt == BODE_TEXT)
+            fprintf(f, "  %-14s %12.3f %12.3f\n", si_format(hz, "Hz", a, sizeof a), db, ph);
+        else if (fmt == BODE_CSV)
+            fprintf(f, "%.17g,%.17g,%.17g\n", hz, isfinite(db) ? db : -HUGE_VAL, ph);
+        else {
+            fprintf(f, "%s\n  {\"hz\": ", k ? "," : "");
+            json_number(f, hz);
+            fputs(", \"mag_db\": ", f);
+            json_number(f, db);
+            fputs(", \"phase_deg\": ", f);
+            json_number(f, ph);
+            fputc('}', f);
+        }
+    }
+    if (fmt == BODE_JSON)
+        fputs("]}\n", f);
+    return LW_OK;
+}

@@ -1,0 +1,66 @@
+/* units: SI-prefixed formatting. */
+#include "loopwise/units.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+static const char *const prefixes[] = { "a", "f", "p", "n", "\xC2\xB5", "m", "", "k", "M", "G",
+                                        "T", "P", "E" };
+
+/* Prints a mantissa with 3 significant digits, trailing zeros removed. */
+static void mantissa(double m, char *out, size_t size)
+{
+    snprintf(out, size, "%.3g", m);
+    if (strchr(out, '.') && !strchr(out, 'e')) {
+        char *end = out + strlen(out) - 1;
+        while (*end == '0')
+            *end-- = '\0';
+        if (*end == '.')
+            *end = '\0';
+    }
+}
+
+static char *format(double v, const char *unit, char *buf, size_t size, int plus)
+{
+    const char *sp = *unit ? " " : "";
+    if (isnan(v)) {
+        snprintf(buf, size, "undefined");
+        return buf;
+    }
+    if (isinf(v)) {
+        snprintf(buf, size, "%sinf%s%s", v < 0 ? "-" : (plus ? "+" : ""), sp, unit);
+        return buf;
+    }
+    if (v == 0) {
+        snprintf(buf, size, "0%s%s", sp, unit);
+        return buf;
+    }
+    double a = fabs(v);
+    int e3 = (int)floor(log10(a) / 3.0);
+    /* rounding to 3 digits may carry into the next prefix (999.7 -> 1.00 k) */
+    double m = a / pow(10.0, 3 * e3);
+    if (m >= 999.5) {
+        e3++;
+        m /= 1000.0;
+    }
+    char mb[32];
+    const char *sign = v < 0 ? "-" : (plus ? "+" : "");
+    if (e3 < -6 || e3 > 6) {
+        snprintf(buf, size, "%s%.3g%s%s", sign, a, sp, unit);
+        return buf;
+    }
+    mantissa(m, mb, sizeof mb);
+    snprintf(buf, size, "%s%s%s%s%s", sign, mb, *unit || e3 ? " " : "", prefixes[e3 + 6], unit);
+    return buf;
+}
+
+char *si_format(double v, const char *unit, char *buf, size_t size)
+{
+    return format(v, unit, buf, size, 0);
+}
+
+char *si_format_signed(double v, const char *unit, char *buf, size_t size)
+{
+    return format(v, unit, buf, size, 1);
+}
