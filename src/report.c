@@ -197,7 +197,11 @@ static void verdict(FILE *f, const check_result *r, report_target t)
     int olrhp = 0;
     for (int k = 0; k < r->tf.npoles; k++)
         olrhp += creal(r->tf.poles[k]) > 0 && !r->tf.hidden[k];
-    if (!r->stable && !isnan(pm) && pm > 0)
+    if (olrhp)
+        fprintf(f, "Note: T has %d right half-plane pole%s (the loop is unstable when opened), "
+                "so the phase margin alone does not decide stability; the closed-loop poles "
+                "above do.\n", olrhp, olrhp == 1 ? "" : "s");
+    else if (!r->stable && !isnan(pm) && pm > 0)
         fprintf(f, "Note: the phase margin is positive but the closed loop is unstable%s; "
                 "the closed-loop poles decide.\n",
                 olrhp ? " (T has a right half-plane pole)" : "");
