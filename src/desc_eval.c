@@ -233,8 +233,11 @@ int desc_set(desc *d, const char *assignment, lw_error *err)
     name[l] = '\0';
     desc_target t;
     int rc = desc_target_find(d, name, &t, err);
-    if (rc)
-        return lw_error_set(err, LW_EINPUT, "--set: %.700s", err->msg);
+    if (rc) {
+        char msg[LW_MSG_MAX];
+        snprintf(msg, sizeof msg, "%.700s", err->msg);
+        return lw_error_set(err, LW_EINPUT, "--set: %s", msg);
+    }
     set_ctx sc = { d, t.kind == TARGET_PARAM ? t.index : d->nparams };
     expr_names names = { set_lookup, NULL, &sc };
     int h;

@@ -703,18 +703,28 @@ def pdeg(p):
     return len(p) - 1 if any(c != 0 for c in p) else -1
 
 
+def ptrim(p):
+    p = list(p)
+    while len(p) > 1 and p[-1] == 0:
+        p.pop()
+    return p or [Fraction(0)]
+
+
 def pdivmod(a, b):
-    a = a[:]
-    q = [Fraction(0)] * max(len(a) - len(b) + 1, 1)
-    while pdeg(a) >= pdeg(b) and pdeg(a) >= 0:
-        d = pdeg(a) - pdeg(b)
-        f = a[pdeg(a)] / b[pdeg(b)]
+    """Exact polynomial division (coefficients low to high)."""
+    a, b = ptrim(a), ptrim(b)
+    db = pdeg(b)
+    q = [Fraction(0)] * max(len(a) - db, 1)
+    while pdeg(a) >= db:
+        d = pdeg(a) - db
+        f = a[-1] / b[-1]
         q[d] = f
-        for k in range(pdeg(b) + 1):
+        for k in range(db + 1):
             a[k + d] -= f * b[k]
-        a[pdeg(a) + 1:] = [] if pdeg(a) >= 0 else [Fraction(0)]
-        if not a:
-            a = [Fraction(0)]
+        a[-1] = Fraction(0)          # exact cancellation of the leading term
+        a = ptrim(a)
+        if pdeg(a) < 0:
+            break
     return q, a
 
 

@@ -1,0 +1,87 @@
+#!/bin/sh
+# Command-line tests: every file in tests/bad/ must be refused with exit 2,
+# nothing on stdout, no output file, and exactly the message in its .err
+# file; good inputs must be accepted in their LF, CRLF and byte-order-mark
+# forms alike, and --json must carry every field of SPEC section 4.
+LW=${1:-./loopwise}
+PY=/usr/bin/python3
+pass=0
+fail=0
+tmp=$(mktemp -d)
+trap 'rm -rf "$tmp"' EXIT
+
+ok() { pass=$((pass + 1)); }
+bad() { fail=$((fail + 1)); echo "FAIL: $*"; }
+
+for f in tests/bad/*.loop; do
+    exp=$(cat "${f%.loop}.err")
+    "$LW" bode "$f" --csv "$tmp/out.csv" >"$tmp/stdout" 2>"$tmp/stderr"
+    rc=$?
+    got=$(head -n 1 "$tmp/stderr")
+    if [ "$rc" != 2 ]; then bad "$f: exit $rc, expected 2"
+    elif [ -s "$tmp/stdout" ]; then bad "$f: wrote to stdout"
+    elif [ -e "$tmp/out.csv" ]; then bad "$f: left an output file"
+    elif [ "$got" != "$exp" ]; then bad "$f: message"; echo "   got:      $got"; echo "   expected: $exp"
+    else ok; fi
+    rm -f "$tmp/out.csv"
+done
+
+# A failed run leaves an existing output file untouched.
+echo "keep me" >"$tmp/keep.csv"
+"$LW" bode tests/bad/unknown_node.loop --csv "$tmp/keep.csv" >/dev/null 2>&1
+[ "$(cat "$tmp/keep.csv")" = "keep me" ] && ok || bad "existing CSV was touched by a failed run"
+
+for c in cases/*.loop; do
+    "$LW" check "$c" --json >"$tmp/lf.json" 2>/dev/null
+    rc=$?
+    [ "$rc" -le 1 ] && ok || bad "$c: exit $rc"
+    # CRLF line ends and a UTF-8 byte-order mark are accepted and change nothing.
+    printf '\357\273\277' >"$tmp/crlf.loop"
+    sed 's/$/\r/' "$c" >>"$tmp/crlf.loop"
+    "$LW" check "$tmp/crlf.loop" --json >"$tmp/crlf.json" 2>/dev/null
+    sed 's|"file": "[^"]*"||' "$tmp/crlf.json" | cmp -s - "$tmp/lf.json" && ok ||
+        bad "$c: CRLF+BOM form gives a different answer"
+    $PY - "$tmp/lf.json" <<'PYEOF' && ok || bad "$c: JSON fields"
+import json, sys
+d = json.load(open(sys.argv[1]))
+need = ["break", "dc_loop_gain", "dc_loop_gain_db", "crossover_hz", "phase_margin_deg",
+        "crossovers", "gain_margin_db", "phase_crossover_hz", "open_loop_poles",
+        "open_loop_zeros", "closed_loop_poles", "stable", "loops", "dominance_db"]
+miss = [k for k in need if k not in d]
+for p in d["open_loop_poles"]:
+    miss += [k for k in ("re_hz", "im_hz", "node", "estimate_hz") if k not in p]
+for p in d["open_loop_zeros"] + d["closed_loop_poles"]:
+    miss += [k for k in ("re_hz", "im_hz") if k not in p]
+for l in d["loops"]:
+    miss += [k for k in ("name", "sign", "dc_gain") if k not in l]
+for c in d["crossovers"]:
+    miss += [k for k in ("hz", "phase_margin_deg") if k not in c]
+if miss:
+    print("missing:", miss)
+    sys.exit(1)
+PYEOF
+    "$LW" check "$c" >"$tmp/text" 2>&1
+    grep -qi nan "$tmp/text" && bad "$c: NaN in the text report" || ok
+done
+
+# Standard input, --set, and bode CSV written whole.
+"$LW" check - --json <cases/twostage.loop >"$tmp/stdin.json" 2>/dev/null &&
+    "$LW" check cases/twostage.loop --json >"$tmp/file.json" 2>/dev/null &&
+    cmp -s "$tmp/stdin.json" "$tmp/file.json" && ok || bad "reading from standard input"
+"$LW" check cases/twostage.loop --set 'cc=2*1.2p' --json >"$tmp/set.json" 2>/dev/null &&
+    ! cmp -s "$tmp/set.json" "$tmp/file.json" && ok || bad "--set has no effect"
+"$LW" bode cases/twostage.loop --csv "$tmp/b.csv" --points 50 >/dev/null 2>&1 &&
+    [ "$(wc -l <"$tmp/b.csv")" = 51 ] && head -n 1 "$tmp/b.csv" | grep -q '^freq_hz,mag_db,phase_deg$' &&
+    ok || bad "bode --csv"
+"$LW" check cases/twostage.loop --set nosuch=1 >"$tmp/o" 2>"$tmp/e"
+[ $? = 2 ] && [ ! -s "$tmp/o" ] && grep -q "unknown param or element 'nosuch'" "$tmp/e" && ok ||
+    bad "--set of an unknown name"
+"$LW" check cases/twostage.loop --pm 89 >/dev/null 2>&1
+[ $? = 1 ] && ok || bad "--pm above the margin must exit 1"
+"$LW" frobnicate cases/twostage.loop >/dev/null 2>&1
+[ $? = 2 ] && ok || bad "unknown command must exit 2"
+"$LW" --help | grep -q "usage: loopwise" && ok || bad "--help"
+
+echo "golden: $pass passed, $fail failed"
+echo "$pass passed, $fail failed"
+[ "$fail" = 0 ]
