@@ -64,7 +64,8 @@ golden: loopwise
 	@sh tests/golden/run.sh ./loopwise
 
 reference: loopwise
-	@$(PYTHON) tests/ref/numpy_ref.py
+	@$(PYTHON) tests/ref/numpy_ref.py --selftest
+	@LOOPWISE=./loopwise $(PYTHON) tests/ref/numpy_ref.py
 
 check: all
 	@$(MAKE) --no-print-directory unit golden reference

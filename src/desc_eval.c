@@ -185,7 +185,7 @@ int desc_target_find(const desc *d, const char *name, desc_target *t, lw_error *
     return rc;
 }
 
-static expr_unit target_unit(const desc *d, desc_target t)
+expr_unit desc_target_unit(const desc *d, desc_target t)
 {
     static const expr_unit by_kind[] = { UNIT_OHM, UNIT_F, UNIT_S };
     switch (t.kind) {
@@ -243,7 +243,7 @@ int desc_set(desc *d, const char *assignment, lw_error *err)
     int h;
     lw_error e2;
     lw_error_clear(&e2);
-    if ((rc = expr_compile(d->pool, eq + 1, target_unit(d, t), &names, 1, 1, eq + 1, &h, &e2)))
+    if ((rc = expr_compile(d->pool, eq + 1, desc_target_unit(d, t), &names, 1, 1, eq + 1, &h, &e2)))
         return lw_error_set(err, rc, "--set %s: column %d: %.600s", name, e2.col, e2.msg);
     double *fixed;
     *override_slot(d, t, &fixed) = h;
@@ -268,4 +268,19 @@ double desc_target_value(const desc *d, desc_target t)
     case TARGET_NODE_R: return d->nodes[t.index].r;
     default: return d->nodes[t.index].c;
     }
+}
+
+desc_saved desc_target_save(desc *d, desc_target t)
+{
+    double *fixed;
+    int *slot = override_slot(d, t, &fixed);
+    return (desc_saved){ *slot, *fixed };
+}
+
+void desc_target_restore(desc *d, desc_target t, desc_saved s)
+{
+    double *fixed;
+    int *slot = override_slot(d, t, &fixed);
+    *slot = s.override;
+    *fixed = s.fixed;
 }
