@@ -16,6 +16,9 @@ void check_result_free(check_result *r)
     free(r->estimate_hz);
     free(r->loops);
     lgain_free(r->lg);
+    free(r->node_double);
+    free(r->node_half);
+    free(r->node_cg);
     memset(r, 0, sizeof *r);
 }
 

@@ -383,28 +383,32 @@ static int pm_with_ground_cap(const desc *d, model *m, int k, double f, const ch
     return LW_OK;
 }
 
-int design_node_table(desc *d, const check_opts *o, double pm_now, double *dbl, double *half,
-                      lw_error *err)
+int design_node_table(const desc *d, const check_opts *o, check_result *r, lw_error *err)
 {
     check_opts q = *o;
     q.want_loops = 0;
     q.want_owner = 0;
-    model *m;
+    double pm_now = r->mg.best_cross >= 0 ? r->mg.cross[r->mg.best_cross].value : NAN;
+    size_t n = (size_t)d->nnodes + 1;
+    r->node_double = malloc(sizeof(double) * n);
+    r->node_half = malloc(sizeof(double) * n);
+    r->node_cg = malloc(sizeof(double) * n);
+    if (!r->node_double || !r->node_half || !r->node_cg)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    model *m = NULL;
     int rc = model_new(d, &m, err);
     for (int k = 0; k < d->nnodes && !rc; k++) {
-        double a, b;
-        dbl[k] = half[k] = NAN;
-        if (isnan(pm_now))
-            continue;
-        rc = pm_with_ground_cap(d, m, k, 2.0, &q, &a, err);
-        if (!rc)
+        double a = NAN, b = NAN, cg = 0;
+        for (int j = 0; j < m->n; j++)
+            cg += m->C[k * m->n + j];
+        r->node_cg[k] = cg;
+        if (!isnan(pm_now))
+            rc = pm_with_ground_cap(d, m, k, 2.0, &q, &a, err);
+        if (!rc && !isnan(pm_now))
             rc = pm_with_ground_cap(d, m, k, 0.5, &q, &b, err);
-        if (!rc) {
-            dbl[k] = a - pm_now;
-            half[k] = b - pm_now;
-        }
+        r->node_double[k] = a - pm_now;
+        r->node_half[k] = b - pm_now;
     }
-    if (!rc)
-        model_free(m);
+    model_free(m);
     return rc;
 }

@@ -121,6 +121,24 @@ void report_check_json(FILE *f, const desc *d, const model *m, const check_resul
     json_loops(f, d, m, r);
     fputs(",\n \"dominance_db\": ", f);
     json_number(f, r->dominance_db);
+    if (r->node_double) {
+        fputs(",\n \"node_table\": [", f);
+        for (int k = 0, first = 1; k < d->nnodes; k++) {
+            if (!(r->node_cg[k] > 0))
+                continue;
+            fprintf(f, "%s{\"node\": ", first ? "" : ", ");
+            json_string(f, d->nodes[k].name);
+            fputs(", \"c_to_ground_f\": ", f);
+            json_number(f, r->node_cg[k]);
+            fputs(", \"pm_change_double_deg\": ", f);
+            json_number(f, r->node_double[k]);
+            fputs(", \"pm_change_half_deg\": ", f);
+            json_number(f, r->node_half[k]);
+            fputc('}', f);
+            first = 0;
+        }
+        fputc(']', f);
+    }
     fputs(",\n \"band_hz\": [", f);
     json_number(f, mg->fmin_hz);
     fputs(", ", f);

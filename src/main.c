@@ -8,12 +8,12 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "loopwise/check.h"
+#include "loopwise/cli.h"
+#include "loopwise/design.h"
 #include "loopwise/outfile.h"
 #include "loopwise/report.h"
 
 #define LOOPWISE_VERSION "0.1.0"
-enum { MAX_SETS = 256, MAX_BODE_POINTS = 100000 };
 
 static const char usage_text[] =
     "usage: loopwise COMMAND FILE [options]      (FILE may be - for standard input)\n"
@@ -22,27 +22,31 @@ static const char usage_text[] =
     "  check   declared loops and their signs, DC loop gain, crossovers, phase and gain\n"
     "          margin, open-loop poles with owner nodes, zeros, closed-loop poles, verdict\n"
     "  bode    magnitude and phase of the loop gain over the band (table, --csv, --json)\n"
+    "  size    --tune NAME --pm DEG [--within LO..HI] [--gm DB] [--density D]\n"
+    "          the smallest value of NAME that meets the target margin\n"
+    "  sweep   --vary NAME --from A --to B [--points N] [--lin] [--csv PATH]\n"
+    "          margins and poles as one value changes, and where the margin crosses --pm\n"
+    "  load    --node N --cload LO..HI: whether N is inside the loop, the margin over\n"
+    "          the load range and the largest load that still meets the target\n"
     "\n"
     "options:\n"
     "  --set NAME=EXPR   override a param, an element value, or NODE.r / NODE.c (repeatable)\n"
     "  --pm DEG          target phase margin (default 60; when given, a miss exits with 1)\n"
     "  --fmin F, --fmax F  analysis band in Hz (default: from the poles and zeros)\n"
     "  --json            machine-readable output on standard output\n"
-    "  --csv PATH        bode: write the response as CSV (PATH may be -)\n"
-    "  --points N        bode: number of log-spaced frequencies (default 121)\n"
+    "  --csv PATH        bode, sweep: also write CSV to PATH (PATH may be -)\n"
+    "  --points N        bode: frequencies (default 121); sweep: values (default 25)\n"
+    "  --lin             sweep: linear spacing instead of logarithmic\n"
+    "  --within LO..HI   size: the range searched (default: value/100 .. value*100)\n"
+    "  --gm DB           size: also require this gain margin\n"
+    "  --density D       size: capacitance per area, e.g. 2fF/um2, to report the area\n"
     "  -h, --help        this help;  --version  the version\n"
     "\n"
     "Numbers take SI prefixes and units as in the file: 2.2pF, 180k, 1e3k, 40uS.\n"
     "Exit codes: 0 done and targets met, 1 target missed or unstable, 2 bad input,\n"
     "3 numerical failure.\n";
 
-typedef struct options {
-    const char *command, *file, *csv;
-    const char *sets[MAX_SETS];
-    int nsets, json, points;
-    double pm, fmin, fmax;
-    int pm_given;
-} options;
+
 
 static int usage_error(const char *fmt, const char *arg)
 {
@@ -53,7 +57,7 @@ static int usage_error(const char *fmt, const char *arg)
 }
 
 /* Evaluates a numeric option with the file's number syntax. */
-static int option_number(const char *name, const char *text, expr_unit unit, double *v)
+int option_number(const char *name, const char *text, expr_unit unit, double *v)
 {
     expr_pool *p = expr_pool_new();
     lw_error err;
@@ -76,8 +80,12 @@ static int parse_options(int argc, char **argv, options *o)
     for (int k = 1; k < argc; k++) {
         const char *a = argv[k];
         const char *val = k + 1 < argc ? argv[k + 1] : NULL;
-        int takes = !strcmp(a, "--set") || !strcmp(a, "--pm") || !strcmp(a, "--fmin") ||
-                    !strcmp(a, "--fmax") || !strcmp(a, "--csv") || !strcmp(a, "--points");
+        static const char *const with_value[] = { "--set", "--pm", "--fmin", "--fmax", "--csv",
+            "--points", "--tune", "--within", "--vary", "--from", "--to", "--node", "--cload",
+            "--density", "--gm" };
+        int takes = 0;
+        for (size_t j = 0; j < sizeof with_value / sizeof *with_value; j++)
+            takes |= !strcmp(a, with_value[j]);
         if (takes && !val)
             return usage_error("option '%s' needs a value", a);
         if (!strcmp(a, "--set")) {
@@ -103,6 +111,28 @@ static int parse_options(int argc, char **argv, options *o)
             if (v < 2 || v > MAX_BODE_POINTS || v != floor(v))
                 return usage_error("--points takes a whole number from 2 to 100000, got '%s'", val);
             o->points = (int)v;
+        } else if (!strcmp(a, "--gm")) {
+            if (option_number(a, val, UNIT_NONE, &o->gm))
+                return 2;
+            o->gm_given = 1;
+        } else if (!strcmp(a, "--tune")) {
+            o->tune = val;
+        } else if (!strcmp(a, "--within")) {
+            o->within = val;
+        } else if (!strcmp(a, "--vary")) {
+            o->vary = val;
+        } else if (!strcmp(a, "--from")) {
+            o->from = val;
+        } else if (!strcmp(a, "--to")) {
+            o->to = val;
+        } else if (!strcmp(a, "--node")) {
+            o->node = val;
+        } else if (!strcmp(a, "--cload")) {
+            o->cload = val;
+        } else if (!strcmp(a, "--density")) {
+            o->density = val;
+        } else if (!strcmp(a, "--lin")) {
+            o->lin = 1;
         } else if (!strcmp(a, "--json")) {
             o->json = 1;
         } else if (a[0] == '-' && a[1]) {
@@ -118,12 +148,23 @@ static int parse_options(int argc, char **argv, options *o)
     }
     if (!o->command)
         return usage_error("%s", "missing COMMAND");
-    if (strcmp(o->command, "check") && strcmp(o->command, "bode"))
-        return usage_error("unknown command '%s'; expected check or bode", o->command);
+    static const char *const commands[] = { "check", "bode", "size", "sweep", "load" };
+    int known = 0;
+    for (size_t j = 0; j < sizeof commands / sizeof *commands; j++)
+        known |= !strcmp(o->command, commands[j]);
+    if (!known)
+        return usage_error("unknown command '%s'; expected check, bode, size, sweep or load",
+                           o->command);
     if (!o->file)
         return usage_error("missing FILE after '%s'", o->command);
-    if (o->csv && strcmp(o->command, "bode"))
-        return usage_error("--csv goes with 'bode', not '%s'", o->command);
+    if (o->csv && strcmp(o->command, "bode") && strcmp(o->command, "sweep"))
+        return usage_error("--csv goes with 'bode' or 'sweep', not '%s'", o->command);
+    if (!strcmp(o->command, "size") && !o->tune)
+        return usage_error("%s", "size needs --tune NAME (and --pm DEG)");
+    if (!strcmp(o->command, "sweep") && (!o->vary || !o->from || !o->to))
+        return usage_error("%s", "sweep needs --vary NAME --from A --to B");
+    if (!strcmp(o->command, "load") && (!o->node || !o->cload))
+        return usage_error("%s", "load needs --node N --cload LO..HI");
     return 0;
 }
 
@@ -192,8 +233,17 @@ int main(int argc, char **argv)
     memset(&r, 0, sizeof r);
     int rc = load(&o, &d, &m, &err);
     check_opts co = { o.fmin, o.fmax, 1, 1 };
+    int design = !strcmp(o.command, "size") || !strcmp(o.command, "sweep") ||
+                 !strcmp(o.command, "load");
     if (!rc)
         rc = check_run(d, m, &co, &r, &err);
+    if (!rc && !strcmp(o.command, "check") && d->nnodes <= 64)
+        rc = design_node_table(d, &co, &r, &err);
+    if (!rc && design) {
+        rc = !strcmp(o.command, "size") ? cmd_size(&o, d, &code, &err)
+             : !strcmp(o.command, "sweep") ? cmd_sweep(&o, d, &code, &err)
+                                           : cmd_load(&o, d, &code, &err);
+    }
     if (rc) {
         lw_error_print(&err, strcmp(o.file, "-") ? o.file : "<stdin>", stderr);
         code = exit_code(rc);
@@ -201,7 +251,9 @@ int main(int argc, char **argv)
     }
     check_warn_gm_cycles(d, stderr);
     report_target t = { o.pm, o.pm_given };
-    if (!strcmp(o.command, "check")) {
+    if (design) {
+        /* output written by the command */
+    } else if (!strcmp(o.command, "check")) {
         if (o.json)
             report_check_json(stdout, d, m, &r);
         else

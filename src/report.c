@@ -169,6 +169,30 @@ static void section_roots(FILE *f, const char *title, const double complex *v, i
     }
 }
 
+static void section_nodes(FILE *f, const desc *d, const check_result *r)
+{
+    if (!r->node_double)
+        return;
+    fprintf(f, "\nWhere to compensate: phase margin change when a node's capacitance to ground\n"
+            "  %-12s %-12s %10s %10s\n", "node", "C to ground", "x2", "x1/2");
+    int best = -1;
+    for (int k = 0; k < d->nnodes; k++) {
+        char c[32], a[16], b[16];
+        double cg = r->node_cg ? r->node_cg[k] : NAN;
+        if (!(cg > 0))
+            continue;
+        snprintf(a, sizeof a, isnan(r->node_double[k]) ? "-" : "%+.2f\xC2\xB0", r->node_double[k]);
+        snprintf(b, sizeof b, isnan(r->node_half[k]) ? "-" : "%+.2f\xC2\xB0", r->node_half[k]);
+        fprintf(f, "  %-12s %-12s %11s %11s\n", d->nodes[k].name, si_format(cg, "F", c, sizeof c),
+                a, b);
+        if (!isnan(r->node_double[k]) &&
+            (best < 0 || r->node_double[k] > r->node_double[best]))
+            best = k;
+    }
+    if (best >= 0 && r->node_double[best] > 0.05)
+        fprintf(f, "  more capacitance helps most at '%s'\n", d->nodes[best].name);
+}
+
 static void verdict(FILE *f, const check_result *r, report_target t)
 {
     const margins *mg = &r->mg;
@@ -221,6 +245,7 @@ void report_check_text(FILE *f, const desc *d, const model *m, const check_resul
     section_poles(f, d, r);
     section_roots(f, "Zeros of T (s/2\xCF\x80)", r->tf.zeros, r->tf.nzeros, 1);
     section_roots(f, "Closed-loop poles (s/2\xCF\x80)", r->cl, r->ncl, 0);
+    section_nodes(f, d, r);
     verdict(f, r, t);
 }
 

@@ -1,0 +1,226 @@
+/* cmd_design: the 'size', 'sweep' and 'load' commands: option checks,
+ * the run, and the output. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "loopwise/cli.h"
+#include "loopwise/design.h"
+#include "loopwise/outfile.h"
+#include "loopwise/report_design.h"
+
+static int number(const char *opt, const char *text, expr_unit unit, double *v, lw_error *err)
+{
+    expr_pool *p = expr_pool_new();
+    int h, rc = p ? expr_compile(p, text, unit, NULL, 1, 1, text, &h, err) : LW_ENOMEM;
+    if (!rc)
+        rc = expr_eval(p, h, NULL, v, err);
+    expr_pool_free(p);
+    if (!rc && !isfinite(*v))
+        rc = lw_error_set(err, LW_EINPUT, "%s '%s': the value must be finite", opt, text);
+    else if (rc) {
+        char msg[LW_MSG_MAX];
+        snprintf(msg, sizeof msg, "%.600s", err->msg);
+        rc = lw_error_set(err, LW_EINPUT, "%s '%s': %s", opt, text, msg);
+    }
+    return rc;
+}
+
+/* range -> VALUE '..' VALUE, with LO < HI and, when positive, LO > 0 */
+static int range(const char *opt, const char *text, expr_unit unit, int positive, double *lo,
+                 double *hi, lw_error *err)
+{
+    const char *dots = strstr(text, "..");
+    if (!dots || dots == text || !dots[2])
+        return lw_error_set(err, LW_EINPUT, "%s '%s': expected a range LO..HI, e.g. 1p..1n",
+                            opt, text);
+    char left[256];
+    size_t l = (size_t)(dots - text);
+    if (l >= sizeof left)
+        return lw_error_set(err, LW_EINPUT, "%s: range too long", opt);
+    memcpy(left, text, l);
+    left[l] = '\0';
+    int rc = number(opt, left, unit, lo, err);
+    if (!rc)
+        rc = number(opt, dots + 2, unit, hi, err);
+    if (rc)
+        return rc;
+    if (positive && !(*lo > 0))
+        return lw_error_set(err, LW_EINPUT, "%s '%s': the range must start above zero", opt, text);
+    if (*lo == *hi)
+        return lw_error_set(err, LW_EINPUT, "%s '%s': the range is empty (LO equals HI)", opt, text);
+    if (*lo > *hi)
+        return lw_error_set(err, LW_EINPUT, "%s '%s': the range is inverted; write LO..HI with "
+                            "LO below HI", opt, text);
+    return LW_OK;
+}
+
+/* A cap, a res or a node field must stay positive. */
+static int must_be_positive(const desc *d, desc_target t)
+{
+    if (t.kind == TARGET_NODE_R || t.kind == TARGET_NODE_C)
+        return 1;
+    return t.kind == TARGET_ELEM && d->elems[t.index].kind != ELEM_GM;
+}
+
+static int find_target(const desc *d, const char *opt, const char *name, desc_target *t,
+                       lw_error *err)
+{
+    int rc = desc_target_find(d, name, t, err);
+    if (rc) {
+        char msg[LW_MSG_MAX];
+        snprintf(msg, sizeof msg, "%.700s", err->msg);
+        return lw_error_set(err, LW_EINPUT, "%s: %s", opt, msg);
+    }
+    return LW_OK;
+}
+
+static check_opts design_opts(const options *o)
+{
+    check_opts co = { o->fmin, o->fmax, 1, 0 };
+    return co;
+}
+
+static design_goal goal(const options *o)
+{
+    design_goal g = { o->pm, o->gm_given ? o->gm : NAN };
+    return g;
+}
+
+/* density -> VALUE '/um2'   (capacitance per square micrometre) */
+static int density(const char *text, double *v, lw_error *err)
+{
+    static const char *const tails[] = { "/um2", "/um^2", "/\xC2\xB5m2", "/\xC2\xB5m^2" };
+    const char *slash = strchr(text, '/');
+    int ok = 0;
+    for (size_t k = 0; slash && k < sizeof tails / sizeof *tails; k++)
+        ok |= !strcmp(slash, tails[k]);
+    if (!ok)
+        return lw_error_set(err, LW_EINPUT, "--density '%s': expected capacitance per area, "
+                            "e.g. 2fF/um2", text);
+    char num[128];
+    size_t l = (size_t)(slash - text);
+    if (l >= sizeof num || l == 0)
+        return lw_error_set(err, LW_EINPUT, "--density '%s': expected a number before '/'", text);
+    memcpy(num, text, l);
+    num[l] = '\0';
+    int rc = number("--density", num, UNIT_F, v, err);
+    if (!rc && !(*v > 0))
+        rc = lw_error_set(err, LW_EINPUT, "--density '%s': must be positive", text);
+    return rc;
+}
+
+int cmd_size(const options *o, desc *d, int *code, lw_error *err)
+{
+    desc_target t;
+    double lo, hi, dens = NAN;
+    int rc = find_target(d, "--tune", o->tune, &t, err);
+    if (rc)
+        return rc;
+    if (o->within) {
+        rc = range("--within", o->within, desc_target_unit(d, t), 1, &lo, &hi, err);
+    } else {
+        double v0 = desc_target_value(d, t);
+        if (!(v0 > 0) || !isfinite(v0))
+            return lw_error_set(err, LW_EINPUT, "--tune %s: its value is not positive; give "
+                                "the range to search with --within LO..HI", o->tune);
+        lo = v0 / 100;
+        hi = v0 * 100;
+    }
+    if (!rc && o->density)
+        rc = density(o->density, &dens, err);
+    if (rc)
+        return rc;
+    check_opts co = design_opts(o);
+    size_result r;
+    if ((rc = size_run(d, t, lo, hi, goal(o), &co, &r, err)))
+        return rc;
+    check_result at;
+    model *m = NULL;
+    if ((rc = design_eval_full(d, t, r.best.value, &co, &at, &m, err)))
+        return rc;
+    report_size(stdout, d, o->tune, t, &r, &at, goal(o), dens, o->json ? OUT_JSON : OUT_TEXT);
+    check_result_free(&at);
+    model_free(m);
+    desc_eval(d, err);
+    *code = r.met ? 0 : 1;
+    return LW_OK;
+}
+
+int cmd_sweep(const options *o, desc *d, int *code, lw_error *err)
+{
+    desc_target t;
+    double from, to;
+    int rc = find_target(d, "--vary", o->vary, &t, err);
+    if (rc)
+        return rc;
+    expr_unit u = desc_target_unit(d, t);
+    if ((rc = number("--from", o->from, u, &from, err)) || (rc = number("--to", o->to, u, &to, err)))
+        return rc;
+    int npts = o->points ? o->points : 25;
+    if (from == to)
+        return lw_error_set(err, LW_EINPUT, "--from and --to are equal: the range is empty");
+    if (from > to)
+        return lw_error_set(err, LW_EINPUT, "--from %s is above --to %s: the range is inverted",
+                            o->from, o->to);
+    if ((!o->lin || must_be_positive(d, t)) && !(from > 0))
+        return lw_error_set(err, LW_EINPUT, "--from %s: %s", o->from, must_be_positive(d, t)
+                            ? "a capacitance or resistance must stay positive"
+                            : "a logarithmic sweep needs positive values (or use --lin)");
+    if (npts > 10000)
+        return lw_error_set(err, LW_EINPUT, "--points %d: a sweep takes at most 10000 points", npts);
+    check_opts co = design_opts(o);
+    sweep_result r;
+    if ((rc = sweep_run(d, t, from, to, npts, o->lin, goal(o), &co, &r, err)))
+        return rc;
+    if (o->csv) {
+        outfile *of;
+        if ((rc = outfile_open(o->csv, &of, err))) {
+            sweep_result_free(&r);
+            return rc;
+        }
+        report_sweep(of->f, d, o->vary, t, &r, goal(o), OUT_CSV);
+        if ((rc = outfile_commit(of, err))) {
+            sweep_result_free(&r);
+            return rc;
+        }
+    }
+    if (!o->csv || strcmp(o->csv, "-"))
+        report_sweep(stdout, d, o->vary, t, &r, goal(o), o->json ? OUT_JSON : OUT_TEXT);
+    *code = o->pm_given && r.missed ? 1 : 0;
+    sweep_result_free(&r);
+    return LW_OK;
+}
+
+int cmd_load(const options *o, desc *d, int *code, lw_error *err)
+{
+    if (!strcmp(o->node, "gnd"))
+        return lw_error_set(err, LW_EINPUT, "--node gnd: ground cannot carry a load; name a "
+                            "declared node");
+    int node = desc_find_node(d, o->node);
+    if (node < 0) {
+        const char **c = malloc(sizeof *c * (size_t)(d->nnodes + 1));
+        const char *best = NULL;
+        for (int k = 0; c && k < d->nnodes; k++)
+            c[k] = d->nodes[k].name;
+        if (c)
+            best = lw_closest(o->node, c, d->nnodes);
+        int rc = best ? lw_error_set(err, LW_EINPUT, "--node: unknown node '%s' (did you mean "
+                                     "'%s'?)", o->node, best)
+                      : lw_error_set(err, LW_EINPUT, "--node: unknown node '%s'", o->node);
+        free(c);
+        return rc;
+    }
+    double lo, hi;
+    int rc = range("--cload", o->cload, UNIT_F, 1, &lo, &hi, err);
+    if (rc)
+        return rc;
+    check_opts co = design_opts(o);
+    load_result r;
+    if ((rc = load_run(d, node, lo, hi, goal(o), &co, &r, err)))
+        return rc;
+    report_load(stdout, d, &r, lo, hi, goal(o), o->json ? OUT_JSON : OUT_TEXT);
+    *code = o->pm_given && !r.met ? 1 : 0;
+    load_result_free(&r);
+    return LW_OK;
+}

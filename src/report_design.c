@@ -1,0 +1,321 @@
+/* report_design: outputs of the design commands. */
+#include "loopwise/report_design.h"
+
+#include <math.h>
+#include <string.h>
+
+#include "loopwise/units.h"
+
+#define TWO_PI 6.283185307179586
+
+const char *report_unit_symbol(const desc *d, desc_target t)
+{
+    switch (desc_target_unit(d, t)) {
+    case UNIT_F: return "F";
+    case UNIT_OHM: return "\xCE\xA9";
+    case UNIT_S: return "S";
+    default: return "";
+    }
+}
+
+static const char *fmt_or(double v, const char *unit, char *buf, size_t n, const char *none)
+{
+    if (isnan(v)) {
+        snprintf(buf, n, "%s", none);
+        return buf;
+    }
+    return si_format(v, unit, buf, n);
+}
+
+static void json_point(FILE *f, const design_point *p)
+{
+    fputs("{\"value\": ", f);
+    json_number(f, p->value);
+    fputs(", \"phase_margin_deg\": ", f);
+    json_number(f, p->pm_deg);
+    fputs(", \"crossover_hz\": ", f);
+    json_number(f, p->crossover_hz);
+    fputs(", \"gain_margin_db\": ", f);
+    json_number(f, p->gm_db);
+    fputs(", \"dc_loop_gain\": ", f);
+    json_number(f, p->dc);
+    fputs(", \"dominant_pole_hz\": ", f);
+    json_number(f, p->p1_hz);
+    fputs(", \"second_pole_hz\": ", f);
+    json_number(f, p->p2_hz);
+    fprintf(f, ", \"stable\": %s}", p->stable ? "true" : "false");
+}
+
+static void csv_num(FILE *f, double v, const char *sep)
+{
+    if (isfinite(v))
+        fprintf(f, "%.17g%s", v, sep);
+    else
+        fprintf(f, "%s%s", isinf(v) ? (v > 0 ? "inf" : "-inf") : "", sep);
+}
+
+/* Prints s left-aligned in width characters (not bytes: units carry µ and Ω). */
+static void pad(FILE *f, const char *s, int width)
+{
+    int chars = 0;
+    for (const unsigned char *p = (const unsigned char *)s; *p; p++)
+        chars += (*p & 0xC0) != 0x80;
+    fputs(s, f);
+    for (; chars < width; chars++)
+        fputc(' ', f);
+}
+
+static void text_points(FILE *f, const sweep_result *r, const char *unit, const char *label,
+                        design_goal g)
+{
+    fprintf(f, "  %-11s %-14s %-11s %-9s %-9s %-11s %-11s %s\n", label, "DC loop gain",
+            "crossover", "PM", "GM", "dominant", "second", "stable");
+    for (int k = 0; k < r->npts; k++) {
+        const design_point *p = &r->pts[k];
+        char v[32], dc[32], fc[32], pm[16], gm[16], p1[32], p2[32];
+        si_format(p->value, unit, v, sizeof v);
+        if (isinf(p->dc))
+            snprintf(dc, sizeof dc, "unbounded");
+        else
+            snprintf(dc, sizeof dc, "%.4g", p->dc);
+        fmt_or(p->crossover_hz, "Hz", fc, sizeof fc, "none");
+        snprintf(pm, sizeof pm, isnan(p->pm_deg) ? "-" : "%.2f\xC2\xB0", p->pm_deg);
+        snprintf(gm, sizeof gm, isnan(p->gm_db) ? "-" : "%.2f dB", p->gm_db);
+        fmt_or(p->p1_hz, "Hz", p1, sizeof p1, "-");
+        fmt_or(p->p2_hz, "Hz", p2, sizeof p2, "-");
+        const char *cols[] = { v, dc, fc, pm, gm, p1, p2 };
+        const int widths[] = { 12, 15, 12, 10, 10, 12, 12 };
+        fputs("  ", f);
+        for (int c = 0; c < 7; c++)
+            pad(f, cols[c], widths[c]);
+        fprintf(f, "%s%s\n", p->stable ? "yes" : "NO", design_meets(p, g) ? "" : "  < target");
+    }
+}
+
+void report_sweep(FILE *f, const desc *d, const char *name, desc_target t,
+                  const sweep_result *r, design_goal g, out_format fmt)
+{
+    const char *unit = report_unit_symbol(d, t);
+    if (fmt == OUT_CSV) {
+        fputs("value,dc_loop_gain,crossover_hz,phase_margin_deg,gain_margin_db,"
+              "dominant_pole_hz,second_pole_hz,stable\n", f);
+        for (int k = 0; k < r->npts; k++) {
+            const design_point *p = &r->pts[k];
+            csv_num(f, p->value, ",");
+            csv_num(f, p->dc, ",");
+            csv_num(f, p->crossover_hz, ",");
+            csv_num(f, p->pm_deg, ",");
+            csv_num(f, p->gm_db, ",");
+            csv_num(f, p->p1_hz, ",");
+            csv_num(f, p->p2_hz, ",");
+            fprintf(f, "%s\n", p->stable ? "true" : "false");
+        }
+        return;
+    }
+    if (fmt == OUT_JSON) {
+        fputs("{\"vary\": ", f);
+        json_string(f, name);
+        fputs(",\n \"target_pm_deg\": ", f);
+        json_number(f, g.pm_deg);
+        fputs(",\n \"points\": [", f);
+        for (int k = 0; k < r->npts; k++) {
+            fputs(k ? ",\n  " : "\n  ", f);
+            json_point(f, &r->pts[k]);
+        }
+        fputs("],\n \"crossings\": [", f);
+        for (int k = 0; k < r->ncross; k++) {
+            fprintf(f, "%s{\"value\": ", k ? ", " : "");
+            json_number(f, r->cross[k].value);
+            fprintf(f, ", \"direction\": \"%s\"}", r->cross[k].rises ? "rises" : "falls");
+        }
+        fprintf(f, "],\n \"met\": %s}\n", r->missed ? "false" : "true");
+        return;
+    }
+    char a[32];
+    fprintf(f, "loopwise sweep: %s  vary %s, target phase margin %.4g\xC2\xB0\n\n", d->path, name,
+            g.pm_deg);
+    text_points(f, r, unit, name, g);
+    fputc('\n', f);
+    if (r->ncross == 0)
+        fprintf(f, "The phase margin does not cross %.4g\xC2\xB0 in this range: it is %s "
+                "throughout.\n", g.pm_deg, r->missed ? "below the target (or undefined)"
+                                                      : "at or above the target");
+    for (int k = 0; k < r->ncross; k++)
+        fprintf(f, "The margin %s through %.4g\xC2\xB0 at %s = %s.\n",
+                r->cross[k].rises ? "rises" : "falls", g.pm_deg, name,
+                si_format(r->cross[k].value, unit, a, sizeof a));
+}
+
+static void text_cl_poles(FILE *f, const check_result *at)
+{
+    char re[32], im[32];
+    fprintf(f, "  closed-loop poles");
+    for (int k = 0; k < at->ncl && k < 6; k++) {
+        if (cimag(at->cl[k]) > 0)
+            continue;
+        if (cimag(at->cl[k]) == 0)
+            fprintf(f, "%s%s", k ? ", " : " ", si_format(creal(at->cl[k]) / TWO_PI, "Hz", re, sizeof re));
+        else
+            fprintf(f, "%s%s \xC2\xB1 j%s", k ? ", " : " ",
+                    si_format(creal(at->cl[k]) / TWO_PI, "Hz", re, sizeof re),
+                    si_format(-cimag(at->cl[k]) / TWO_PI, "Hz", im, sizeof im));
+    }
+    fprintf(f, "%s\n", at->ncl > 6 ? ", ..." : "");
+}
+
+void report_size(FILE *f, const desc *d, const char *name, desc_target t, const size_result *r,
+                 const check_result *at, design_goal g, double density, out_format fmt)
+{
+    const char *unit = report_unit_symbol(d, t);
+    const design_point *p = &r->best;
+    int is_cap = desc_target_unit(d, t) == UNIT_F;
+    if (fmt == OUT_JSON) {
+        fputs("{\"tune\": ", f);
+        json_string(f, name);
+        fputs(", \"value\": ", f);
+        json_number(f, p->value);
+        fputs(", \"phase_margin_deg\": ", f);
+        json_number(f, p->pm_deg);
+        fputs(", \"crossover_hz\": ", f);
+        json_number(f, p->crossover_hz);
+        fputs(", \"gain_margin_db\": ", f);
+        json_number(f, p->gm_db);
+        fputs(", \"dc_loop_gain\": ", f);
+        json_number(f, p->dc);
+        fprintf(f, ", \"met\": %s, \"window_high\": ", r->met ? "true" : "false");
+        json_number(f, r->window ? r->hi_value : NAN);
+        fputs(", \"area_um2\": ", f);
+        json_number(f, is_cap && density > 0 ? p->value / density : NAN);
+        fputs(", \"closed_loop_poles\": [", f);
+        for (int k = 0; at && k < at->ncl; k++) {
+            fprintf(f, "%s{\"re_hz\": ", k ? ", " : "");
+            json_number(f, creal(at->cl[k]) / TWO_PI);
+            fputs(", \"im_hz\": ", f);
+            json_number(f, cimag(at->cl[k]) / TWO_PI);
+            fputc('}', f);
+        }
+        fputs("]}\n", f);
+        return;
+    }
+    char a[32], b[32], c[32];
+    fprintf(f, "loopwise size: %s  tune %s for phase margin >= %.4g\xC2\xB0", d->path, name,
+            g.pm_deg);
+    if (!isnan(g.gm_db))
+        fprintf(f, " and gain margin >= %.4g dB", g.gm_db);
+    fprintf(f, "\n  searched %s to %s (log grid of 81 points, refined to 1e-6)\n\n",
+            si_format(r->lo, unit, a, sizeof a), si_format(r->hi, unit, b, sizeof b));
+    if (r->met) {
+        fprintf(f, "  answer          %s = %s\n", name, si_format(p->value, unit, a, sizeof a));
+        if (r->window && !isnan(r->hi_value))
+            fprintf(f, "  note            the target is met only up to %s = %s: a window, not "
+                    "a threshold\n", name, si_format(r->hi_value, unit, b, sizeof b));
+    } else {
+        fprintf(f, "  TARGET NOT REACHABLE in the range: the best is %s = %s\n", name,
+                si_format(p->value, unit, a, sizeof a));
+    }
+    if (isnan(p->pm_deg))
+        fprintf(f, "  phase margin    undefined (no crossover)\n");
+    else
+        fprintf(f, "  phase margin    %.2f\xC2\xB0 at crossover %s\n", p->pm_deg,
+                si_format(p->crossover_hz, "Hz", a, sizeof a));
+    if (isnan(p->gm_db))
+        fprintf(f, "  gain margin     undefined (the phase never reaches -180\xC2\xB0)\n");
+    else
+        fprintf(f, "  gain margin     %.2f dB\n", p->gm_db);
+    if (isinf(p->dc))
+        fprintf(f, "  DC loop gain    unbounded (integrator)%s\n", is_cap ? ", unchanged by a capacitor" : "");
+    else
+        fprintf(f, "  DC loop gain    %+.4g V/V%s\n", p->dc,
+                is_cap ? ", unchanged by a capacitor" : "");
+    if (at)
+        text_cl_poles(f, at);
+    if (is_cap && density > 0) {
+        double um2 = p->value / density;
+        fprintf(f, "  area            %.4g \xC2\xB5m\xC2\xB2 (about %.3g \xC2\xB5m square) at %s/\xC2\xB5m\xC2\xB2\n",
+                um2, sqrt(um2), si_format(density, "F", c, sizeof c));
+    }
+    if (!r->met && !isnan(p->p2_hz))
+        fprintf(f, "  limited by      the second pole at %s%s%s%s, near the crossover\n",
+                si_format(p->p2_hz, "Hz", a, sizeof a), p->p2_node >= 0 ? " (node '" : "",
+                p->p2_node >= 0 ? d->nodes[p->p2_node].name : "", p->p2_node >= 0 ? "')" : "");
+    fprintf(f, "\nVerdict: %s\n", r->met ? "the target is met." : "no value in the range meets "
+            "the target; widen --within or change another value.");
+}
+
+void report_load(FILE *f, const desc *d, const load_result *r, double lo, double hi,
+                 design_goal g, out_format fmt)
+{
+    const char *node = d->nodes[r->node].name;
+    char a[32], b[32], c[32];
+    if (fmt == OUT_JSON) {
+        fputs("{\"node\": ", f);
+        json_string(f, node);
+        fprintf(f, ", \"inside_loop\": %s,\n \"points\": [", r->inside ? "true" : "false");
+        for (int k = 0; k < r->sw.npts; k++) {
+            fputs(k ? ",\n  " : "\n  ", f);
+            json_point(f, &r->sw.pts[k]);
+        }
+        fputs("],\n \"max_load_f\": ", f);
+        json_number(f, r->inside ? r->max_load_f : NAN);
+        fprintf(f, ", \"met\": %s", r->met ? "true" : "false");
+        fputs(", \"resistance_seen_ohm\": ", f);
+        json_number(f, r->inside ? NAN : r->r_seen);
+        fputs(",\n \"settling\": [", f);
+        for (int k = 0; !r->inside && isfinite(r->r_seen) && k < 5; k++) {
+            double cl = lo * pow(hi / lo, k / 4.0), tau = r->r_seen * (r->c_node + cl);
+            fprintf(f, "%s{\"load_f\": ", k ? ", " : "");
+            json_number(f, cl);
+            fputs(", \"pole_hz\": ", f);
+            json_number(f, 1.0 / (TWO_PI * tau));
+            fputs(", \"settle_1pct_s\": ", f);
+            json_number(f, tau * log(100.0));
+            fputs(", \"settle_0p1pct_s\": ", f);
+            json_number(f, tau * log(1000.0));
+            fputc('}', f);
+        }
+        fputs("]}\n", f);
+        return;
+    }
+    fprintf(f, "loopwise load: %s  node '%s', load %s to %s, target phase margin %.4g\xC2\xB0\n\n",
+            d->path, node, si_format(lo, "F", a, sizeof a), si_format(hi, "F", b, sizeof b),
+            g.pm_deg);
+    if (!r->inside) {
+        fprintf(f, "Node '%s' is outside the loop: a load there does not move the loop margin.\n",
+                node);
+        if (!isfinite(r->r_seen)) {
+            fprintf(f, "No resistance to ground is seen at '%s': a load there integrates, it "
+                    "does not settle.\n", node);
+            return;
+        }
+        fprintf(f, "Resistance seen at the node: %s; its own capacitance to ground %s.\n"
+                "First-order estimate (t = R C ln(1/error)):\n"
+                "  %-11s %-12s %-12s %s\n", si_format(r->r_seen, "\xCE\xA9", a, sizeof a),
+                si_format(r->c_node, "F", b, sizeof b), "load", "pole", "settle 1%", "settle 0.1%");
+        for (int k = 0; k < 5; k++) {
+            double cl = lo * pow(hi / lo, k / 4.0), tau = r->r_seen * (r->c_node + cl);
+            char p[32], s1[32], s2[32];
+            fprintf(f, "  %-11s %-12s %-12s %s\n", si_format(cl, "F", c, sizeof c),
+                    si_format(1.0 / (TWO_PI * tau), "Hz", p, sizeof p),
+                    si_format(tau * log(100.0), "s", s1, sizeof s1),
+                    si_format(tau * log(1000.0), "s", s2, sizeof s2));
+        }
+        fprintf(f, "\nVerdict: the output may stay where it is; the load sets only its own "
+                "settling.\n");
+        return;
+    }
+    fprintf(f, "Node '%s' is inside the loop: a load there changes the loop gain.\n\n", node);
+    text_points(f, &r->sw, "F", "load", g);
+    fputc('\n', f);
+    if (r->met)
+        fprintf(f, "Verdict: the margin stays at or above %.4g\xC2\xB0 up to %s: the output may "
+                "stay inside the loop for this load.\n", g.pm_deg, si_format(hi, "F", a, sizeof a));
+    else if (isnan(r->max_load_f))
+        fprintf(f, "Verdict: even %s misses the %.4g\xC2\xB0 target: take the output from a "
+                "dedicated branch outside the loop (a matched copy of the driving stage).\n",
+                si_format(lo, "F", a, sizeof a), g.pm_deg);
+    else
+        fprintf(f, "Verdict: the largest load meeting %.4g\xC2\xB0 is %s (below the %s asked "
+                "for): take the output from a dedicated branch outside the loop, or compensate "
+                "for the larger load.\n", g.pm_deg, si_format(r->max_load_f, "F", a, sizeof a),
+                si_format(hi, "F", b, sizeof b));
+}
