@@ -70,8 +70,13 @@ reference: loopwise
 check: all
 	@$(MAKE) --no-print-directory unit golden reference
 
+# The main job on the reference core: its report, the compensation for 60
+# degrees, the series resistor over two decades, and the output tap's load.
 demo: all
-	./loopwise check cases/refcore.loop
+	./loopwise check cases/refcore.loop; test $$? -le 1
+	./loopwise size cases/refcore.loop --tune ccomp --pm 60 --density 2fF/um2
+	./loopwise sweep cases/refcore.loop --vary rser --from 540 --to 54k --points 13; test $$? -le 1
+	./loopwise load cases/refcore.loop --node vref --cload 1p..1n
 
 install: all
 	install -d $(DESTDIR)$(PREFIX)/bin

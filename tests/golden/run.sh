@@ -82,6 +82,51 @@ done
 [ $? = 2 ] && ok || bad "unknown command must exit 2"
 "$LW" --help | grep -q "usage: loopwise" && ok || bad "--help"
 
+# Design commands refuse bad requests with exit 2, a clear message and no output.
+refuse() {
+    want=$1
+    shift
+    "$LW" "$@" >"$tmp/o" 2>"$tmp/e"
+    rc=$?
+    if [ "$rc" = 2 ] && [ ! -s "$tmp/o" ] && grep -qF -- "$want" "$tmp/e"; then ok
+    else bad "$* -> exit $rc, stderr: $(head -n 1 "$tmp/e")"; fi
+}
+R=cases/refcore.loop
+refuse "unknown param or element 'ccomq' (did you mean 'ccomp'?)" size $R --tune ccomq --pm 60
+refuse "the range is inverted" size $R --tune ccomp --within 10p..1p
+refuse "the range is empty" size $R --tune ccomp --within 1p..1p
+refuse "the range must start above zero" size $R --tune ccomp --within 0..1p
+refuse "unknown param or element 'rsr'" sweep $R --vary rsr --from 1k --to 10k
+refuse "the range is inverted" sweep $R --vary rser --from 10k --to 1k
+refuse "the range is empty" sweep $R --vary rser --from 1k --to 1k
+refuse "--points takes a whole number" sweep $R --vary rser --from 1k --to 10k --points 0
+refuse "a capacitance or resistance must stay positive" sweep $R --vary rser --from -1k --to 1k --lin
+refuse "--node gnd: ground cannot carry a load" load $R --node gnd --cload 1p..1n
+refuse "unknown node 'vrf' (did you mean 'vref'?)" load $R --node vrf --cload 1p..1n
+refuse "the range is inverted" load $R --node vref --cload 1n..1p
+refuse "unit 'ohm' does not fit a capacitance" load $R --node vref --cload 1kohm..1n
+refuse "size needs --tune NAME" size $R --pm 60
+refuse "expected capacitance per area" size $R --tune ccomp --density 2fF
+
+# Exit codes of the design commands follow the target.
+"$LW" size $R --tune ccomp --pm 60 >/dev/null 2>&1; [ $? = 0 ] && ok || bad "size: reachable target must exit 0"
+"$LW" size $R --tune ccomp --pm 89 --within 1p..10p >/dev/null 2>&1; [ $? = 1 ] && ok || bad "size: unreachable target must exit 1"
+"$LW" sweep $R --vary rser --from 540 --to 54k --pm 60 >/dev/null 2>&1; [ $? = 1 ] && ok || bad "sweep: missed --pm must exit 1"
+"$LW" sweep $R --vary rser --from 540 --to 54k --csv "$tmp/s.csv" --json >"$tmp/s.json" 2>/dev/null &&
+    [ "$(wc -l <"$tmp/s.csv")" = 26 ] && $PY -c "import json,sys; d=json.load(open(sys.argv[1])); assert len(d['points'])==25 and d['crossings'][0]['direction']=='falls'" "$tmp/s.json" &&
+    ok || bad "sweep CSV and JSON"
+"$LW" load $R --node vref --cload 1p..1n --json >"$tmp/l.json" 2>/dev/null &&
+    $PY - "$tmp/l.json" <<'PYEOF' && ok || bad "load outside the loop: settling"
+import json, math, sys
+d = json.load(open(sys.argv[1]))
+assert d["inside_loop"] is False and d["met"] is True
+# first-order settling t = R C ln(1/error) (from memory); the tap is r=120k, c=1p
+for p in d["settling"]:
+    tau = 120e3 * (1e-12 + p["load_f"])
+    assert abs(p["settle_1pct_s"] - tau * math.log(100)) < 1e-9 * tau
+    assert abs(p["settle_0p1pct_s"] - tau * math.log(1000)) < 1e-9 * tau
+PYEOF
+
 echo "golden: $pass passed, $fail failed"
 echo "$pass passed, $fail failed"
 [ "$fail" = 0 ]

@@ -403,6 +403,36 @@ static void test_reserved(void **state)
     assert_false(expr_is_reserved("gm1"));
 }
 
+/* SPEC 2: the prefixes are f p n u \xC2\xB5 \xCE\xBC m k M G T; "anything else after a
+ * number is an error". */
+static void test_prefixes_outside_spec_rejected(void **state)
+{
+    (void)state;
+    const char *bad[] = { "1a", "1P", "3aF", "2PS" };
+    for (size_t k = 0; k < sizeof bad / sizeof bad[0]; k++) {
+        lw_error err;
+        lw_error_clear(&err);
+        double v = 0;
+        int rc = expr_number(bad[k], UNIT_ANY, &v, &err);
+        if (rc == LW_OK)
+            print_error("'%s' was accepted as %g\n", bad[k], v);
+        assert_int_equal(rc, LW_EINPUT);
+    }
+}
+
+/* SPEC 2: reserved are the keywords, gnd, inf, pi and the function names;
+ * nothing else. */
+static void test_reserved_only_spec_names(void **state)
+{
+    (void)state;
+    const char *names[] = { "vt", "e", "negative_x", "Pi", "INF" };
+    for (size_t k = 0; k < sizeof names / sizeof names[0]; k++) {
+        if (expr_is_reserved(names[k]))
+            print_error("'%s' is reserved\n", names[k]);
+        assert_false(expr_is_reserved(names[k]));
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -424,6 +454,8 @@ int main(void)
         cmocka_unit_test(test_nesting_limit),
         cmocka_unit_test(test_nesting_below_stated_limit),
         cmocka_unit_test(test_reserved),
+        cmocka_unit_test(test_prefixes_outside_spec_rejected),
+        cmocka_unit_test(test_reserved_only_spec_names),
     };
     return cmocka_run_group_tests_name("expr", tests, NULL, NULL);
 }
