@@ -217,7 +217,7 @@ int cmd_load(const options *o, desc *d, int *code, lw_error *err)
         return rc;
     check_opts co = design_opts(o);
     load_result r;
-    if ((rc = load_run(d, node, lo, hi, goal(o), &co, &r, err)))
+    if ((rc = load_run(d, node, lo, hi, o->points ? o->points : 25, goal(o), &co, &r, err)))
         return rc;
     report_load(stdout, d, &r, lo, hi, goal(o), o->json ? OUT_JSON : OUT_TEXT);
     *code = o->pm_given && !r.met ? 1 : 0;

@@ -315,7 +315,7 @@ static int seen_resistance(desc *d, int node, double *rs, lw_error *err)
     return rc;
 }
 
-int load_run(desc *d, int node, double lo, double hi, design_goal g, const check_opts *o,
+int load_run(desc *d, int node, double lo, double hi, int npts, design_goal g, const check_opts *o,
              load_result *r, lw_error *err)
 {
     memset(r, 0, sizeof *r);
@@ -333,7 +333,7 @@ int load_run(desc *d, int node, double lo, double hi, design_goal g, const check
         rc = seen_resistance(d, node, &r->r_seen, err);
     if (!rc && r->inside) {
         /* the sweep's value is the total node capacitance; report the load */
-        rc = sweep_run(d, t, c0 + lo, c0 + hi, 25, 0, g, o, &r->sw, err);
+        rc = sweep_run(d, t, c0 + lo, c0 + hi, npts, 0, g, o, &r->sw, err);
         for (int k = 0; !rc && k < r->sw.npts; k++)
             r->sw.pts[k].value -= c0;
         for (int k = 0; !rc && k < r->sw.ncross; k++)

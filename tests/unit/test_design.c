@@ -207,12 +207,12 @@ static void load_outside(void **state)
     design_goal g = { 60, NAN };
     load_result r;
     lw_error err;
-    assert_int_equal(load_run(d, desc_find_node(d, "o"), 1e-12, 1e-9, g, &o, &r, &err), 0);
+    assert_int_equal(load_run(d, desc_find_node(d, "o"), 1e-12, 1e-9, 25, g, &o, &r, &err), 0);
     assert_false(r.inside);
     assert_rel(r.r_seen, 47e3, 1e-12);
     assert_rel(r.c_node, 2e-12, 1e-12);
     load_result_free(&r);
-    assert_int_equal(load_run(d, desc_find_node(d, "b"), 1e-12, 1e-9, g, &o, &r, &err), 0);
+    assert_int_equal(load_run(d, desc_find_node(d, "b"), 1e-12, 1e-9, 25, g, &o, &r, &err), 0);
     assert_true(r.inside);
     assert_int_equal(r.sw.npts, 25);
     load_result_free(&r);
