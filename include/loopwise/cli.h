@@ -1,0 +1,30 @@
+/* cli: the parsed command line, shared by main and the command runners.
+ * Each runner takes a loaded description and its model, writes its output,
+ * and returns a status; *code gets the exit code when the run succeeds. */
+#ifndef LOOPWISE_CLI_H
+#define LOOPWISE_CLI_H
+
+#include "loopwise/check.h"
+
+enum { MAX_SETS = 256, MAX_BODE_POINTS = 100000 };
+
+typedef struct options {
+    const char *command, *file, *csv;
+    const char *tune, *within, *vary, *from, *to, *node, *cload, *density;
+    int lin, gm_given;
+    double gm;
+    const char *sets[MAX_SETS];
+    int nsets, json, points;
+    double pm, fmin, fmax;
+    int pm_given;
+} options;
+
+/* Evaluates a numeric option with the file's number syntax; prints the
+ * error and returns 2 when it is not a finite number. */
+int option_number(const char *name, const char *text, expr_unit unit, double *v);
+
+int cmd_size(const options *o, desc *d, int *code, lw_error *err);
+int cmd_sweep(const options *o, desc *d, int *code, lw_error *err);
+int cmd_load(const options *o, desc *d, int *code, lw_error *err);
+
+#endif

@@ -1,0 +1,120 @@
+/* desc: the loop description as the user wrote it: params, nodes, elements,
+ * declared loops and the break, each with its position in the file.
+ *
+ * Ownership: desc_parse returns a desc that owns its names, expressions and
+ * values; desc_free releases it (NULL is accepted). The text_file it was
+ * parsed from may be freed right after desc_parse. */
+#ifndef LOOPWISE_DESC_H
+#define LOOPWISE_DESC_H
+
+#include "loopwise/diag.h"
+#include "loopwise/expr.h"
+#include "loopwise/text.h"
+
+enum { DESC_MAX_NAME = 64, DESC_MAX_NODES = 4096, DESC_MAX_ELEMS = 65536,
+       DESC_MAX_PARAMS = 65536, DESC_MAX_LOOPS = 256 };
+
+#define DESC_GND (-1)
+#define DESC_NO_OVERRIDE (-1)
+#define DESC_FIXED (-2)
+
+/* Keep in step with desc_elem_kind_name in desc.c. */
+typedef enum { ELEM_RES, ELEM_CAP, ELEM_GM } desc_elem_kind;
+
+typedef struct desc_pos {
+    int line, col;
+} desc_pos;
+
+typedef struct desc_param {
+    char name[DESC_MAX_NAME + 1];
+    desc_pos at;
+    int expr;          /* handle in the pool */
+    int override;      /* DESC_NO_OVERRIDE, DESC_FIXED, or a --set expression handle */
+    double fixed;      /* the value when override == DESC_FIXED */
+    double value;      /* after desc_eval */
+} desc_param;
+
+typedef struct desc_node {
+    char name[DESC_MAX_NAME + 1];
+    desc_pos at, r_at, c_at;
+    int r_expr, c_expr;          /* -1 when the field is absent (defaults) */
+    int r_override, c_override;  /* --set NODE.r / NODE.c, as for params */
+    double r_fixed, c_fixed;
+    double r, c;                 /* after desc_eval; r may be inf */
+} desc_node;
+
+typedef struct desc_elem {
+    desc_elem_kind kind;
+    char name[DESC_MAX_NAME + 1];
+    desc_pos at, a_at, b_at, v_at;
+    int a, b;          /* node indices; b (or a) may be DESC_GND. gm: a = IN, b = OUT */
+    int expr, override;
+    double fixed;
+    double value;      /* after desc_eval */
+} desc_elem;
+
+typedef struct desc_loop {
+    char name[DESC_MAX_NAME + 1];
+    desc_pos at, sign_at;
+    int negative;      /* 1 for 'negative', 0 for 'positive' */
+    int *nodes;
+    desc_pos *node_at;
+    int nnodes;
+    int **hops;        /* hops[j]: element indices for hop nodes[j] -> nodes[j+1] */
+    int *nhops;
+} desc_loop;
+
+typedef struct desc {
+    char *path;        /* as given, for messages */
+    desc_param *params; int nparams;
+    double *pvals;     /* param values in index order, filled by desc_eval */
+    desc_node *nodes;   int nnodes;
+    desc_elem *elems;   int nelems;
+    desc_loop *loops;   int nloops;
+    int brk;           /* element index of the break gm */
+    desc_pos brk_at;   /* position of the break line (or of the first loop line) */
+    int brk_explicit;
+    expr_pool *pool;
+    char **lines;      /* source lines by number (1-based), for carets */
+    int total_lines;
+} desc;
+
+/* What --set, --tune and --vary may name. */
+typedef enum { TARGET_PARAM, TARGET_ELEM, TARGET_NODE_R, TARGET_NODE_C } desc_target_kind;
+typedef struct desc_target {
+    desc_target_kind kind;
+    int index;
+} desc_target;
+
+int desc_parse(const text_file *t, const char *path, desc **out, lw_error *err);
+void desc_free(desc *d);
+
+/* Evaluates every value in file order, applying overrides, and checks each
+ * against its allowed range. */
+int desc_eval(desc *d, lw_error *err);
+
+/* Finds NAME (a param, an element, or NODE.r / NODE.c). */
+int desc_target_find(const desc *d, const char *name, desc_target *t, lw_error *err);
+/* Applies "NAME=EXPR" from the command line as an override. */
+int desc_set(desc *d, const char *assignment, lw_error *err);
+/* Overrides a target with a plain number (for sweeps and sizing). */
+int desc_target_set(desc *d, desc_target t, double value, lw_error *err);
+/* Saves and restores a target's override (for temporary changes). */
+typedef struct desc_saved {
+    int override;
+    double fixed;
+} desc_saved;
+desc_saved desc_target_save(desc *d, desc_target t);
+void desc_target_restore(desc *d, desc_target t, desc_saved s);
+/* The unit a target's value carries (UNIT_F for a cap, ...). */
+expr_unit desc_target_unit(const desc *d, desc_target t);
+/* The current value of a target (after desc_eval). */
+double desc_target_value(const desc *d, desc_target t);
+const char *desc_elem_kind_name(desc_elem_kind k);
+/* Index of node or element by name, -1 if absent. */
+int desc_find_node(const desc *d, const char *name);
+int desc_find_elem(const desc *d, const char *name);
+/* Fills err->src with source line `line` for the caret display. */
+void desc_error_source(const desc *d, lw_error *err);
+
+#endif

@@ -1,0 +1,91 @@
+/* design: the commands that answer "what value do I use?": the margin at a
+ * changed value (the building block), sweeps of one value with the target
+ * crossings root-refined, the smallest value meeting a margin (size), the
+ * load an output tolerates (load), and the per-node capacitance table.
+ *
+ * Every evaluation re-evaluates the description with one value overridden
+ * and restores the override afterwards, so the desc is unchanged on return.
+ * Ownership: *_run functions fill result structs whose arrays the matching
+ * *_free releases. */
+#ifndef LOOPWISE_DESIGN_H
+#define LOOPWISE_DESIGN_H
+
+#include "loopwise/check.h"
+
+enum { DESIGN_MAX_POINTS = 100000 };
+
+/* The margins of the loop at one value of the varied quantity. */
+typedef struct design_point {
+    double value;
+    double dc;              /* T(0), inf when unbounded */
+    double crossover_hz;    /* NAN when no crossover */
+    double pm_deg;          /* NAN when no crossover */
+    double gm_db;           /* NAN when the phase never reaches -180 + 360 m */
+    double p1_hz, p2_hz;    /* magnitudes of the dominant and second pole of T; NAN if absent */
+    int p2_node;            /* owner node of the second pole, -1 */
+    int stable;
+} design_point;
+
+typedef struct design_goal {
+    double pm_deg;
+    double gm_db;           /* NAN: no gain-margin requirement */
+} design_goal;
+
+/* 1 when the point is stable and meets the goal. */
+int design_meets(const design_point *p, design_goal g);
+
+/* Margins with target t set to value (desc restored afterwards). */
+int design_eval(desc *d, desc_target t, double value, const check_opts *o, design_point *pt,
+                lw_error *err);
+/* Same, and hands back the whole analysis (free with check_result_free). */
+int design_eval_full(desc *d, desc_target t, double value, const check_opts *o,
+                     check_result *r, model **m, lw_error *err);
+
+typedef struct design_crossing {
+    double value;
+    int rises;              /* 1: the margin rises through the target as the value grows */
+} design_crossing;
+
+typedef struct sweep_result {
+    design_point *pts;
+    int npts;
+    design_crossing *cross;
+    int ncross;
+    int missed;             /* some point misses the goal */
+} sweep_result;
+
+int sweep_run(desc *d, desc_target t, double from, double to, int npts, int lin,
+              design_goal g, const check_opts *o, sweep_result *r, lw_error *err);
+void sweep_result_free(sweep_result *r);
+
+typedef struct size_result {
+    int met;
+    design_point best;      /* the answer when met; the best reachable otherwise */
+    int window;             /* met only between lo_value and hi_value */
+    double hi_value;        /* upper end of the window (NAN when none) */
+    double lo, hi;          /* the range searched */
+} size_result;
+
+int size_run(desc *d, desc_target t, double lo, double hi, design_goal g, const check_opts *o,
+             size_result *r, lw_error *err);
+
+typedef struct load_result {
+    int node;
+    int inside;
+    sweep_result sw;        /* margins over the load (inside) */
+    double max_load_f;      /* largest load meeting the goal, NAN when none does */
+    int met;                /* the whole range meets the goal */
+    double r_seen;          /* resistance seen at the node (outside), inf when none */
+    double c_node;          /* the node's own capacitance to ground */
+} load_result;
+
+int load_run(desc *d, int node, double lo, double hi, int npts, design_goal g, const check_opts *o,
+             load_result *r, lw_error *err);
+void load_result_free(load_result *r);
+
+/* Fills r->node_double, node_half and node_cg: the phase margin change
+ * (degrees) per node when its capacitance to ground doubles and halves;
+ * NAN for nodes without capacitance to ground or where a margin is undefined. */
+int design_node_table(const desc *d, const check_opts *o, check_result *r, lw_error *err);
+
+#endif

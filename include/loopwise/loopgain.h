@@ -1,0 +1,50 @@
+/* loopgain: the return ratio T(s) = -g [Y0(s)^-1]_(i,o) at the break, its
+ * exact evaluation at any complex s, and its pole/zero structure.
+ *
+ * Ownership: lgain_new allocates an evaluator with its own workspace (no
+ * allocation per frequency point); lgain_free releases it (NULL accepted).
+ * lg_tf_analyse fills an lg_tf whose arrays lg_tf_free releases. */
+#ifndef LOOPWISE_LOOPGAIN_H
+#define LOOPWISE_LOOPGAIN_H
+
+#include <complex.h>
+
+#include "loopwise/diag.h"
+
+typedef struct lgain lgain;
+
+/* G0 is G with the break switched off; in/out are the break's nodes, g its value. */
+int lgain_new(int n, const double *G0, const double *C, int in, int out, double g,
+              lgain **out_lg, lw_error *err);
+void lgain_free(lgain *lg);
+/* T(s) for s in rad/s; NaN when Y0(s) is singular at s. */
+double complex lgain_eval(lgain *lg, double complex s);
+
+/* The loop gain's structure. Frequencies in rad/s. */
+typedef struct lg_tf {
+    int npoles;               /* open-loop poles: every finite root of det Y0 */
+    double complex *poles;    /* sorted by magnitude, then imaginary part */
+    int *owner;               /* owner node per pole, -1 when none (NULL unless asked) */
+    unsigned char *hidden;    /* 1 for a pole T cannot see (a decoupled mode) */
+    int nzeros;               /* zeros of T, origin ones included, sorted likewise */
+    double complex *zeros;
+    int origin;               /* T ~ K0 s^origin as s -> 0 */
+    int sign;                 /* sign of K0: +1, -1, or 0 when T is identically 0 */
+    double dc;                /* T(0): inf when origin < 0, 0 when origin > 0 */
+    int suspect;              /* 1 when the numbers failed an internal consistency check */
+    double origin_tol;        /* magnitude below which a pole or zero counts as at s = 0 */
+} lg_tf;
+
+int lg_tf_analyse(int n, const double *G0, const double *C, lgain *lg, int in, int out,
+                  int want_owner, lg_tf *tf, lw_error *err);
+void lg_tf_free(lg_tf *tf);
+
+/* Finite roots of det(G + sC) (closed-loop poles when G has the break on),
+ * sorted. *roots is allocated; the caller frees it. */
+int lg_natural_frequencies(int n, const double *G, const double *C, double complex **roots,
+                           int *nroots, lw_error *err);
+
+/* Sorts by magnitude, then imaginary part. */
+void lg_sort(double complex *v, int n);
+
+#endif

@@ -1,0 +1,47 @@
+/* margins: the unwrapped phase of T(j2πf), the gain crossovers with their
+ * phase margins, and the phase crossings with their gain margins.
+ *
+ * The phase is taken from the factored form K s^m Π(1 - s/z)/Π(1 - s/p),
+ * which is continuous in f by construction, and then snapped to the exact
+ * arg T(j2πf) (from the LU evaluation) on the nearest 360° branch, so the
+ * value is exact and the branch is never guessed from a sampled grid. */
+#ifndef LOOPWISE_MARGINS_H
+#define LOOPWISE_MARGINS_H
+
+#include <complex.h>
+
+#include "loopwise/loopgain.h"
+
+enum { MARGIN_MAX_POINTS = 64, MARGIN_PER_DECADE = 60 };
+
+typedef struct margin_point {
+    double hz;
+    double value;        /* phase margin (deg) at a crossover, gain margin (dB) at a phase crossing */
+} margin_point;
+
+typedef enum { CROSS_FOUND, CROSS_BELOW, CROSS_ABOVE } margin_cross_kind;
+
+typedef struct margins {
+    double fmin_hz, fmax_hz;
+    int ncross;
+    margin_point cross[MARGIN_MAX_POINTS];
+    int best_cross;      /* index of the smallest phase margin, -1 when none */
+    margin_cross_kind why;
+    int nphase;
+    margin_point phase[MARGIN_MAX_POINTS];
+    int best_phase;      /* index of the smallest gain margin, -1 when none */
+    int mismatch;        /* points where the factored and exact phase disagreed */
+} margins;
+
+/* Unwrapped phase (degrees) of T at f (Hz); *mag gets |T|; *mismatch is set
+ * when the factored form and the exact value disagree by more than 2°. */
+double margin_phase(lgain *lg, const lg_tf *tf, double hz, double *mag, int *mismatch);
+
+/* The automatic band: 1/1000 of the smallest to 1000 times the largest
+ * nonzero magnitude among poles, zeros and closed-loop poles (Hz). */
+void margin_band(const lg_tf *tf, const double complex *cl, int ncl, double *flo, double *fhi);
+
+int margins_find(lgain *lg, const lg_tf *tf, double flo, double fhi, margins *m,
+                 lw_error *err);
+
+#endif

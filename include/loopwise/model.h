@@ -1,0 +1,37 @@
+/* model: the numeric network built from an evaluated description:
+ * Y(s) = G + sC (n x n, real), and the list of gm elements with their stamps.
+ *
+ * Ownership: model_new allocates; model_free releases (NULL accepted). The
+ * model copies what it needs and does not refer back to the desc. */
+#ifndef LOOPWISE_MODEL_H
+#define LOOPWISE_MODEL_H
+
+#include "loopwise/desc.h"
+
+typedef struct model_gm {
+    int elem;      /* element index in the desc */
+    int in, out;   /* node indices */
+    double g;
+} model_gm;
+
+typedef struct model {
+    int n;
+    double *Gp;    /* n x n row-major: conductances only, no gm */
+    double *C;     /* n x n row-major */
+    model_gm *gm;
+    int ngm;
+    int brk;       /* index into gm[] of the break */
+} model;
+
+int model_new(const desc *d, model **out, lw_error *err);
+void model_free(model *m);
+
+/* Fills G (n x n) = Gp + every gm stamp, leaving out the gms whose off[k] is
+ * nonzero (off may be NULL). A gm current g·v(IN) flows into OUT, so
+ * G[OUT][IN] -= g. */
+void model_fill_g(const model *m, const unsigned char *off, double *G);
+
+/* Index into gm[] of element e, or -1. */
+int model_gm_of_elem(const model *m, int e);
+
+#endif

@@ -1,0 +1,45 @@
+/* pencil: the generalized eigenproblems behind poles and zeros.
+ *
+ * The pencil G + sC is first scaled (D G D + s D C D, D diagonal, so that
+ * every capacitive node has unit capacitance), then the null space of the
+ * scaled C is split off with its symmetric eigendecomposition C' = Q L Q^T.
+ * Eliminating the capacitance-free coordinates (a Schur complement on the
+ * G22 block) leaves a standard r x r problem  s x = M x  whose eigenvalues are
+ * exactly the finite natural frequencies: infinite eigenvalues never appear.
+ * The same reduction gives the loop gain as a state-space form
+ *   T(s) = -g d_i d_o (c^T (sI - M)^-1 b + d0),
+ * whose invariant zeros come from the bordered pencil [[M, b],[c^T, d0]].
+ *
+ * Ownership: pencil_new allocates a reduction, pencil_free releases it
+ * (NULL accepted). Only this module and loopgain include GSL. */
+#ifndef LOOPWISE_PENCIL_H
+#define LOOPWISE_PENCIL_H
+
+#include <complex.h>
+
+#include "loopwise/diag.h"
+
+typedef struct pencil pencil;
+
+/* Reduces G + sC (n x n row-major). Fails with LW_ENUMERIC when the
+ * capacitance-free part of the network is singular. */
+int pencil_new(int n, const double *G, const double *C, pencil **out, lw_error *err);
+void pencil_free(pencil *p);
+
+/* Number of finite natural frequencies (the rank of C). */
+int pencil_rank(const pencil *p);
+
+/* Finite eigenvalues (rad/s) into eig[rank]; when owner is not NULL, the
+ * owner node of each (largest participation factor |l_k (C r)_k| among nodes
+ * with capacitance, Perez-Arriaga, Verghese and Schweppe 1982) into owner[rank]. */
+int pencil_eigen(const pencil *p, const double *C, double complex *eig, int *owner,
+                 lw_error *err);
+
+/* Candidate zeros (rad/s) of e_i^T (G + sC)^-1 e_o: the finite eigenvalues of
+ * the bordered pencil. Candidates include modes the transfer cannot see and,
+ * after rounding, spurious ones; the caller verifies them. *nz gets the count
+ * (at most rank). */
+int pencil_zero_candidates(const pencil *p, int i, int o, double complex *z, int *nz,
+                           lw_error *err);
+
+#endif

@@ -1,0 +1,31 @@
+/* report: the outputs people and scripts read: the text report and JSON of
+ * 'check', and the frequency-response table, CSV and JSON of 'bode'. */
+#ifndef LOOPWISE_REPORT_H
+#define LOOPWISE_REPORT_H
+
+#include <stdio.h>
+
+#include "loopwise/check.h"
+
+typedef struct report_target {
+    double pm_deg;     /* target phase margin */
+    int given;         /* 1 when --pm was on the command line */
+} report_target;
+
+/* Exit status of 'check' (SPEC section 5): 1 when unstable, or when --pm is
+ * given and missed or there is no margin to compare with it. */
+int report_check_status(const check_result *r, report_target t);
+
+void report_check_text(FILE *f, const desc *d, const model *m, const check_result *r,
+                       report_target t);
+void report_check_json(FILE *f, const desc *d, const model *m, const check_result *r);
+
+typedef enum { BODE_TEXT, BODE_CSV, BODE_JSON } bode_format;
+/* npoints log-spaced over the analysis band. */
+int report_bode(FILE *f, const desc *d, const check_result *r, int npoints, bode_format fmt);
+
+/* JSON helpers shared by the commands: a double as %.17g, or null when not finite. */
+void json_number(FILE *f, double v);
+void json_string(FILE *f, const char *s);
+
+#endif

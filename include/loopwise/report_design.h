@@ -1,0 +1,24 @@
+/* report_design: text, JSON and CSV output of 'size', 'sweep' and 'load'. */
+#ifndef LOOPWISE_REPORT_DESIGN_H
+#define LOOPWISE_REPORT_DESIGN_H
+
+#include <stdio.h>
+
+#include "loopwise/design.h"
+#include "loopwise/report.h"
+
+typedef enum { OUT_TEXT, OUT_JSON, OUT_CSV } out_format;
+
+/* The unit symbol a target's value is shown with ("F", "Ω", "S" or ""). */
+const char *report_unit_symbol(const desc *d, desc_target t);
+
+void report_sweep(FILE *f, const desc *d, const char *name, desc_target t,
+                  const sweep_result *r, design_goal g, out_format fmt);
+/* at: the full analysis at the answer (closed-loop poles, DC gain);
+ * density: capacitance per square micrometre, or NAN. */
+void report_size(FILE *f, const desc *d, const char *name, desc_target t, const size_result *r,
+                 const check_result *at, design_goal g, double density, out_format fmt);
+void report_load(FILE *f, const desc *d, const load_result *r, double lo, double hi,
+                 design_goal g, out_format fmt);
+
+#endif

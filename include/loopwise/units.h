@@ -1,0 +1,13 @@
+/* units: numbers for people: SI prefixes and units ("1.23 MHz", "2.2 pF"). */
+#ifndef LOOPWISE_UNITS_H
+#define LOOPWISE_UNITS_H
+
+#include <stddef.h>
+
+/* Formats v with 3 significant digits, an SI prefix and unit into buf;
+ * returns buf. Infinite values print as "inf", NaN as "undefined". */
+char *si_format(double v, const char *unit, char *buf, size_t size);
+/* Same with a leading sign always shown. */
+char *si_format_signed(double v, const char *unit, char *buf, size_t size);
+
+#endif
