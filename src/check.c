@@ -19,6 +19,12 @@ void check_result_free(check_result *r)
     free(r->node_double);
     free(r->node_half);
     free(r->node_cg);
+    for (int l = 0; r->loop_lg && l < r->nloops; l++) {
+        lgain_free(r->loop_lg[l]);
+        lg_tf_free(&r->loop_tf[l]);
+    }
+    free(r->loop_lg);
+    free(r->loop_tf);
     memset(r, 0, sizeof *r);
 }
 
@@ -107,11 +113,17 @@ static int sign_error(const desc *d, int l, const check_loop *cl, lw_error *err)
     return LW_EINPUT;
 }
 
-static int declared_loops(const desc *d, const model *m, check_result *r, double *G,
+static int declared_loops(const desc *d, const model *m, check_result *r, double *G, int keep,
                           lw_error *err)
 {
     r->nloops = d->nloops;
     r->loops = calloc((size_t)d->nloops + 1, sizeof *r->loops);
+    if (keep) {
+        r->loop_lg = calloc((size_t)d->nloops + 1, sizeof *r->loop_lg);
+        r->loop_tf = calloc((size_t)d->nloops + 1, sizeof *r->loop_tf);
+        if (!r->loop_lg || !r->loop_tf)
+            return lw_error_set(err, LW_ENOMEM, "out of memory");
+    }
     unsigned char *off = calloc((size_t)m->ngm + 1, 1);
     int rc = r->loops && off ? LW_OK : lw_error_set(err, LW_ENOMEM, "out of memory");
     for (int l = 0; l < d->nloops && rc == LW_OK; l++) {
@@ -132,8 +144,13 @@ static int declared_loops(const desc *d, const model *m, check_result *r, double
             break;
         cl->dc = tf.dc;
         cl->sign = tf.sign;
-        lg_tf_free(&tf);
-        lgain_free(lg);
+        if (keep) {
+            r->loop_lg[l] = lg;
+            r->loop_tf[l] = tf;
+        } else {
+            lg_tf_free(&tf);
+            lgain_free(lg);
+        }
         int ok = d->loops[l].negative ? cl->sign > 0 : cl->sign < 0;
         if (!ok)
             rc = sign_error(d, l, cl, err);
@@ -191,7 +208,7 @@ int check_run(const desc *d, const model *m, const check_opts *o, check_result *
     unsigned char *off = calloc((size_t)m->ngm + 1, 1);
     int rc = G && off ? LW_OK : lw_error_set(err, LW_ENOMEM, "out of memory");
     if (!rc && o->want_loops)
-        rc = declared_loops(d, m, r, G, err);
+        rc = declared_loops(d, m, r, G, o->keep_loops, err);
     if (!rc)
         rc = return_ratio(m, m->brk, off, G, o->want_owner, &r->tf, &r->lg, err);
     if (!rc) {

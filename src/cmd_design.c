@@ -6,6 +6,7 @@
 
 #include "loopwise/cli.h"
 #include "loopwise/design.h"
+#include "loopwise/figures.h"
 #include "loopwise/outfile.h"
 #include "loopwise/report_design.h"
 
@@ -75,9 +76,15 @@ static int find_target(const desc *d, const char *opt, const char *name, desc_ta
     return LW_OK;
 }
 
+static figure_opts fig(const options *o)
+{
+    figure_opts fo = { o->plot, o->width, o->height, o->keep_script };
+    return fo;
+}
+
 static check_opts design_opts(const options *o)
 {
-    check_opts co = { o->fmin, o->fmax, 1, 0 };
+    check_opts co = { o->fmin, o->fmax, 1, 0, 0 };
     return co;
 }
 
@@ -188,8 +195,13 @@ int cmd_sweep(const options *o, desc *d, int *code, lw_error *err)
     if (!o->csv || strcmp(o->csv, "-"))
         report_sweep(stdout, d, o->vary, t, &r, goal(o), o->json ? OUT_JSON : OUT_TEXT);
     *code = o->pm_given && r.missed ? 1 : 0;
+    if (o->plot) {
+        figure_opts fo = fig(o);
+        fflush(stdout);
+        rc = figure_margin(&fo, d, o->vary, report_unit_symbol(d, t), &r, goal(o), o->lin, err);
+    }
     sweep_result_free(&r);
-    return LW_OK;
+    return rc;
 }
 
 int cmd_load(const options *o, desc *d, int *code, lw_error *err)
@@ -221,6 +233,26 @@ int cmd_load(const options *o, desc *d, int *code, lw_error *err)
         return rc;
     report_load(stdout, d, &r, lo, hi, goal(o), o->json ? OUT_JSON : OUT_TEXT);
     *code = o->pm_given && !r.met ? 1 : 0;
+    if (o->plot && r.inside) {
+        figure_opts fo = fig(o);
+        char what[DESC_MAX_NAME + 16];
+        snprintf(what, sizeof what, "load at %s", d->nodes[node].name);
+        fflush(stdout);
+        rc = figure_margin(&fo, d, what, "F", &r.sw, goal(o), 0, err);
+    } else if (o->plot) {
+        fprintf(stderr, "loopwise: node '%s' is outside the loop: no margin curve to draw\n",
+                d->nodes[node].name);
+    }
     load_result_free(&r);
-    return LW_OK;
+    return rc;
+}
+
+int cmd_polemap(const options *o, const desc *d, const check_result *r, lw_error *err)
+{
+    figure_opts fo = fig(o);
+    int rc = figure_polemap(&fo, d, r, err);
+    if (!rc)
+        printf("loopwise polemap: %s: %d open-loop poles, %d zeros, %d closed-loop poles drawn "
+               "in %s\n", d->path, r->tf.npoles, r->tf.nzeros, r->ncl, o->plot);
+    return rc;
 }

@@ -10,6 +10,7 @@
 
 #include "loopwise/cli.h"
 #include "loopwise/design.h"
+#include "loopwise/figures.h"
 #include "loopwise/outfile.h"
 #include "loopwise/report.h"
 
@@ -28,6 +29,7 @@ static const char usage_text[] =
     "          margins and poles as one value changes, and where the margin crosses --pm\n"
     "  load    --node N --cload LO..HI: whether N is inside the loop, the margin over\n"
     "          the load range and the largest load that still meets the target\n"
+    "  polemap -o FILE: the s-plane picture of poles, zeros and closed-loop poles\n"
     "\n"
     "options:\n"
     "  --set NAME=EXPR   override a param, an element value, or NODE.r / NODE.c (repeatable)\n"
@@ -40,6 +42,10 @@ static const char usage_text[] =
     "  --within LO..HI   size: the range searched (default: value/100 .. value*100)\n"
     "  --gm DB           size: also require this gain margin\n"
     "  --density D       size: capacitance per area, e.g. 2fF/um2, to report the area\n"
+    "  -o PATH           bode, polemap, sweep, load: draw a plot (PATH ends in .png or .svg)\n"
+    "  --each            bode -o: overlay each declared loop's own gain\n"
+    "  --size WxH        plot size in pixels (default 960x720)\n"
+    "  --keep-script DIR leave the plot's data and gnuplot script in DIR\n"
     "  -h, --help        this help;  --version  the version\n"
     "\n"
     "Numbers take SI prefixes and units as in the file: 2.2pF, 180k, 1e3k, 40uS.\n"
@@ -82,7 +88,7 @@ static int parse_options(int argc, char **argv, options *o)
         const char *val = k + 1 < argc ? argv[k + 1] : NULL;
         static const char *const with_value[] = { "--set", "--pm", "--fmin", "--fmax", "--csv",
             "--points", "--tune", "--within", "--vary", "--from", "--to", "--node", "--cload",
-            "--density", "--gm" };
+            "--density", "--gm", "-o", "--size", "--keep-script" };
         int takes = 0;
         for (size_t j = 0; j < sizeof with_value / sizeof *with_value; j++)
             takes |= !strcmp(a, with_value[j]);
@@ -131,6 +137,16 @@ static int parse_options(int argc, char **argv, options *o)
             o->cload = val;
         } else if (!strcmp(a, "--density")) {
             o->density = val;
+        } else if (!strcmp(a, "-o")) {
+            o->plot = val;
+        } else if (!strcmp(a, "--keep-script")) {
+            o->keep_script = val;
+        } else if (!strcmp(a, "--size")) {
+            if (sscanf(val, "%dx%d", &o->width, &o->height) != 2 || o->width < 100 ||
+                o->height < 100 || o->width > 8000 || o->height > 8000)
+                return usage_error("--size takes WIDTHxHEIGHT in pixels, 100 to 8000, got '%s'", val);
+        } else if (!strcmp(a, "--each")) {
+            o->each = 1;
         } else if (!strcmp(a, "--lin")) {
             o->lin = 1;
         } else if (!strcmp(a, "--json")) {
@@ -148,17 +164,26 @@ static int parse_options(int argc, char **argv, options *o)
     }
     if (!o->command)
         return usage_error("%s", "missing COMMAND");
-    static const char *const commands[] = { "check", "bode", "size", "sweep", "load" };
+    static const char *const commands[] = { "check", "bode", "size", "sweep", "load", "polemap" };
     int known = 0;
     for (size_t j = 0; j < sizeof commands / sizeof *commands; j++)
         known |= !strcmp(o->command, commands[j]);
     if (!known)
-        return usage_error("unknown command '%s'; expected check, bode, size, sweep or load",
-                           o->command);
+        return usage_error("unknown command '%s'; expected check, bode, size, sweep, load or "
+                           "polemap", o->command);
     if (!o->file)
         return usage_error("missing FILE after '%s'", o->command);
     if (o->csv && strcmp(o->command, "bode") && strcmp(o->command, "sweep"))
         return usage_error("--csv goes with 'bode' or 'sweep', not '%s'", o->command);
+    if (o->plot && (!strcmp(o->command, "check") || !strcmp(o->command, "size")))
+        return usage_error("-o draws a picture with bode, polemap, sweep or load, not '%s'",
+                           o->command);
+    if (!strcmp(o->command, "polemap") && !o->plot)
+        return usage_error("%s", "polemap draws a picture: give -o FILE.png or FILE.svg");
+    if (o->each && strcmp(o->command, "bode"))
+        return usage_error("%s", "--each goes with 'bode -o'");
+    if (o->keep_script && !o->plot)
+        return usage_error("%s", "--keep-script goes with -o");
     if (!strcmp(o->command, "size") && !o->tune)
         return usage_error("%s", "size needs --tune NAME (and --pm DEG)");
     if (!strcmp(o->command, "sweep") && (!o->vary || !o->from || !o->to))
@@ -220,7 +245,7 @@ int main(int argc, char **argv)
             return 0;
         }
     }
-    options o = { .pm = 60.0 };
+    options o = { .pm = 60.0, .width = 960, .height = 720 };
     int code = parse_options(argc, argv, &o);
     if (code)
         return code;
@@ -232,7 +257,7 @@ int main(int argc, char **argv)
     check_result r;
     memset(&r, 0, sizeof r);
     int rc = load(&o, &d, &m, &err);
-    check_opts co = { o.fmin, o.fmax, 1, 1 };
+    check_opts co = { o.fmin, o.fmax, 1, 1, o.each };
     int design = !strcmp(o.command, "size") || !strcmp(o.command, "sweep") ||
                  !strcmp(o.command, "load");
     if (!rc)
@@ -243,6 +268,12 @@ int main(int argc, char **argv)
         rc = !strcmp(o.command, "size") ? cmd_size(&o, d, &code, &err)
              : !strcmp(o.command, "sweep") ? cmd_sweep(&o, d, &code, &err)
                                            : cmd_load(&o, d, &code, &err);
+        if (rc == LW_ENUMERIC && err.msg[0] && o.plot) {
+            /* the analysis printed; only the picture failed */
+            lw_error_print(&err, o.file, stderr);
+            code = 3;
+            goto done;
+        }
     }
     if (rc) {
         lw_error_print(&err, strcmp(o.file, "-") ? o.file : "<stdin>", stderr);
@@ -259,7 +290,13 @@ int main(int argc, char **argv)
         else
             report_check_text(stdout, d, m, &r, t);
         code = report_check_status(&r, t);
-    } else if ((rc = run_bode(&o, d, &r, &err))) {
+    } else if (!strcmp(o.command, "polemap")) {
+        rc = cmd_polemap(&o, d, &r, &err);
+    } else if (!(rc = run_bode(&o, d, &r, &err)) && o.plot) {
+        figure_opts fo = { o.plot, o.width, o.height, o.keep_script };
+        rc = figure_bode(&fo, d, m, &r, o.each, &err);
+    }
+    if (rc) {
         lw_error_print(&err, o.file, stderr);
         code = exit_code(rc);
     }

@@ -16,6 +16,7 @@ typedef struct check_opts {
     double fmin_hz, fmax_hz;   /* 0: automatic band */
     int want_owner;            /* owner nodes of the open-loop poles */
     int want_loops;            /* each declared loop's own gain and sign check */
+    int keep_loops;            /* keep each loop's own-gain evaluator (for plots) */
 } check_opts;
 
 typedef struct check_loop {
@@ -39,6 +40,8 @@ typedef struct check_result {
     double *node_double;       /* phase-margin change per node when its capacitance to */
     double *node_half;         /* ground doubles / halves; NULL unless computed (design.h) */
     double *node_cg;           /* each node's capacitance to ground (with the table) */
+    lgain **loop_lg;           /* with keep_loops: each loop's own-gain evaluator (or NULL) */
+    lg_tf *loop_tf;            /* and its structure */
 } check_result;
 
 int check_run(const desc *d, const model *m, const check_opts *o, check_result *r,

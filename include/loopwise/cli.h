@@ -10,6 +10,8 @@ enum { MAX_SETS = 256, MAX_BODE_POINTS = 100000 };
 
 typedef struct options {
     const char *command, *file, *csv;
+    const char *plot, *keep_script;   /* -o PATH, --keep-script DIR */
+    int width, height, each;
     const char *tune, *within, *vary, *from, *to, *node, *cload, *density;
     int lin, gm_given;
     double gm;
@@ -23,6 +25,8 @@ typedef struct options {
  * error and returns 2 when it is not a finite number. */
 int option_number(const char *name, const char *text, expr_unit unit, double *v);
 
+/* Draws fig after the text output; a failed plot turns *code into 3. */
+int cmd_polemap(const options *o, const desc *d, const check_result *r, lw_error *err);
 int cmd_size(const options *o, desc *d, int *code, lw_error *err);
 int cmd_sweep(const options *o, desc *d, int *code, lw_error *err);
 int cmd_load(const options *o, desc *d, int *code, lw_error *err);

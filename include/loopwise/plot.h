@@ -1,0 +1,43 @@
+/* plot: runs gnuplot safely. A job is a private temporary directory holding
+ * the data files and the script; gnuplot is started with fork/exec (never a
+ * shell) on that script, and the image is moved into place only when gnuplot
+ * succeeded. Text that comes from users only reaches the script through
+ * plot_quote, which keeps it to a harmless character set inside a
+ * single-quoted string (gnuplot does no substitution there).
+ *
+ * Ownership: plot_begin allocates a job; plot_finish or plot_abort releases
+ * it (exactly one, once). */
+#ifndef LOOPWISE_PLOT_H
+#define LOOPWISE_PLOT_H
+
+#include <stdio.h>
+
+#include "loopwise/diag.h"
+
+/* The project's own palette, told apart by lightness as well as hue so that
+ * it survives grayscale and the common colour-vision deficiencies. */
+#define PLOT_INK    "#1f2a44"  /* main curve: dark slate blue */
+#define PLOT_ACCENT "#c8671b"  /* second axis, markers: burnt orange */
+#define PLOT_MUTED  "#7f8c99"  /* targets and guides: grey blue */
+#define PLOT_EXTRA  "#3c8d74"  /* overlays: muted green */
+
+typedef struct plot_job plot_job;
+
+/* The image type follows the extension of out_path (.png or .svg). */
+int plot_begin(const char *out_path, int width, int height, plot_job **job, lw_error *err);
+FILE *plot_script(plot_job *job);
+/* Opens a data file NAME in the job's directory; the job closes it. */
+FILE *plot_data(plot_job *job, const char *name, lw_error *err);
+/* The full path of a job file, for the script (a safe, program-made path). */
+const char *plot_path(plot_job *job, const char *name);
+/* Runs gnuplot, moves the image to out_path, copies data and script to
+ * keep_dir when not NULL. LW_ENUMERIC (exit 3) when gnuplot is missing or
+ * fails; the message names the package to install. */
+int plot_finish(plot_job *job, const char *keep_dir, lw_error *err);
+void plot_abort(plot_job *job);
+
+/* Writes text as a single-quoted gnuplot string literal, every character
+ * outside [A-Za-z0-9 ._,:=+()/-] replaced by '?'. */
+void plot_quote(FILE *f, const char *text);
+
+#endif

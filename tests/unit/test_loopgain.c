@@ -1,0 +1,299 @@
+/* Unit tests for loopgain: T(s) at the break of networks built from .loop
+ * text, checked against closed forms worked out from the element values. */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <cmocka.h>
+
+#include <complex.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "loopwise/check.h"
+#include "loopwise/desc.h"
+#include "loopwise/loopgain.h"
+#include "loopwise/margins.h"
+#include "loopwise/model.h"
+#include "loopwise/text.h"
+
+#define PI_ 3.14159265358979323846
+#define DEG_ (180.0 / PI_)
+
+#define assert_rel(got, want, tol)                                                       \
+    do {                                                                                 \
+        double g_ = (got), w_ = (want);                                                  \
+        double s_ = fabs(w_) > 0 ? fabs(w_) : 1.0;                                       \
+        if (!(fabs(g_ - w_) <= (tol) * s_)) {                                            \
+            print_error("%s = %.17g, expected %.17g (relative tolerance %g)\n", #got, g_, \
+                        w_, (double)(tol));                                              \
+            fail();                                                                      \
+        }                                                                                \
+    } while (0)
+
+/* Complex values: |got - want| <= tol * |want|. */
+#define assert_crel(got, want, tol)                                                      \
+    do {                                                                                 \
+        double complex g_ = (got), w_ = (want);                                          \
+        double s_ = cabs(w_) > 0 ? cabs(w_) : 1.0;                                       \
+        if (!(cabs(g_ - w_) <= (tol) * s_)) {                                            \
+            print_error("%s = %.17g%+.17gj, expected %.17g%+.17gj (relative tolerance %g)\n", \
+                        #got, creal(g_), cimag(g_), creal(w_), cimag(w_), (double)(tol)); \
+            fail();                                                                      \
+        }                                                                                \
+    } while (0)
+
+/* One analysed network: the description, its model and the check result. */
+typedef struct run {
+    desc *d;
+    model *m;
+    check_result r;
+} run;
+
+/* Formats the .loop text, then text_from_buffer -> desc_parse -> desc_eval
+ * -> model_new -> check_run with owners and declared loops. */
+static void analyse(run *x, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+static void analyse(run *x, const char *fmt, ...)
+{
+    char src[4096];
+    va_list ap;
+    va_start(ap, fmt);
+    int len = vsnprintf(src, sizeof src, fmt, ap);
+    va_end(ap);
+    assert_true(len > 0 && len < (int)sizeof src);
+    memset(x, 0, sizeof *x);
+    text_file *t = NULL;
+    lw_error err;
+    lw_error_clear(&err);
+    int rc = text_from_buffer(src, (size_t)len, &t, &err);
+    if (rc == LW_OK)
+        rc = desc_parse(t, "test.loop", &x->d, &err);
+    text_free(t);
+    if (rc == LW_OK)
+        rc = desc_eval(x->d, &err);
+    if (rc == LW_OK)
+        rc = model_new(x->d, &x->m, &err);
+    check_opts o; /* { 0, 0, 1, 1 }: automatic band, owners, declared loops */
+    memset(&o, 0, sizeof o);
+    o.want_owner = 1;
+    o.want_loops = 1;
+    if (rc == LW_OK)
+        rc = check_run(x->d, x->m, &o, &x->r, &err);
+    if (rc != LW_OK) {
+        print_error("analysis failed (%d) at %d:%d: %s\n--- input ---\n%s", rc, err.line,
+                    err.col, err.msg, src);
+        model_free(x->m);
+        desc_free(x->d);
+        fail();
+    }
+}
+
+static void release(run *x)
+{
+    check_result_free(&x->r);
+    model_free(x->m);
+    desc_free(x->d);
+}
+
+/* ---- networks ------------------------------------------------------------ */
+
+/* One RC pole at x (R, C) driven by gf; y is a resistive sense node (1 kohm)
+ * fed by gb = -1 mS, so v_y = -v_x. Nodal analysis by hand, break at gf:
+ * T(s) = -gf * gb * 1k * R / (1 + sRC) = gm R / (1 + sRC). */
+static void single_rc(run *x, double R, double C, double gm, int sense_sign)
+{
+    analyse(x,
+            "node x r=%.17g c=%.17g\n"
+            "node y r=1k\n"
+            "gm gf y -> x %.17g\n"
+            "gm gb x -> y %s1m\n"
+            "loop main %s x y\n",
+            R, C, gm, sense_sign < 0 ? "-" : "", sense_sign < 0 ? "negative" : "positive");
+}
+
+/* Two gm-RC stages in a ring: T(s) = g1 g2' R1 R2 / ((1 + sR1C1)(1 + sR2C2)),
+ * with g2 written as -gm2 (an inverting stage). With out_node, a node o
+ * outside the loop hangs off b. */
+static void two_pole(run *x, double R1, double C1, double R2, double C2, double gm1,
+                     double gm2, int out_node)
+{
+    analyse(x,
+            "node a r=%.17g c=%.17g\n"
+            "node b r=%.17g c=%.17g\n"
+            "%s"
+            "gm g1 b -> a %.17g\n"
+            "gm g2 a -> b -%.17g\n"
+            "%s"
+            "loop main negative a b\n",
+            R1, C1, R2, C2, out_node ? "node o r=3k c=1n\n" : "", gm1, gm2,
+            out_node ? "gm gx b -> o 1m\n" : "");
+}
+
+/* Integrator a (r=inf, Ca) then an RC stage b (Rb, Cb): T = wn^2/(s(s + 2 zeta wn))
+ * with Rb = 1/(2 zeta wn Cb) and -g1 g2 = wn^2 Ca Cb (g2 = -1 mS). */
+static void second_order(run *x, double wn, double zeta, double Ca, double Cb)
+{
+    double Rb = 1.0 / (2.0 * zeta * wn * Cb);
+    double g1 = wn * wn * Ca * Cb / 1e-3;
+    analyse(x,
+            "node a r=inf c=%.17g\n"
+            "node b r=%.17g c=%.17g\n"
+            "gm g1 b -> a %.17g\n"
+            "gm g2 a -> b -1m\n"
+            "loop main negative a b\n",
+            Ca, Rb, Cb, g1);
+}
+
+/* ---- tests ---------------------------------------------------------------- */
+
+static void test_single_rc_dc_gain_exact(void **state)
+{
+    (void)state;
+    const double R = 10e3, C = 1.6e-9;
+    const double gms[] = { 50e-6, 300e-6, 2e-3, 0.1 };
+    for (int k = 0; k < 4; k++) {
+        run x;
+        single_rc(&x, R, C, gms[k], -1);
+        double A = gms[k] * R; /* closed form by nodal analysis, worked by hand */
+        assert_rel(x.r.tf.dc, A, 1e-12);
+        assert_rel(creal(lgain_eval(x.r.lg, 0)), A, 1e-12);
+        assert_true(fabs(cimag(lgain_eval(x.r.lg, 0))) <= 1e-12 * A);
+        assert_int_equal(x.r.tf.origin, 0);
+        assert_int_equal(x.r.tf.sign, 1);
+        release(&x);
+    }
+}
+
+static void test_single_rc_frequency_response(void **state)
+{
+    (void)state;
+    const double R = 10e3, C = 1.6e-9, gm = 2e-3;
+    run x;
+    single_rc(&x, R, C, gm, -1);
+    double A = gm * R, p = 1.0 / (R * C);
+    const double ws[] = { 1e-3, 0.1, 1.0, 7.0, 1e3, 1e6 };
+    for (int k = 0; k < 6; k++) {
+        double complex s = I * ws[k] * p;
+        /* T(s) = A/(1 + s/p): closed form, single pole */
+        assert_crel(lgain_eval(x.r.lg, s), A / (1.0 + s / p), 1e-11);
+    }
+    /* off the jw axis too */
+    double complex s = (-0.3 + 2.0 * I) * p;
+    assert_crel(lgain_eval(x.r.lg, s), A / (1.0 + s / p), 1e-11);
+    release(&x);
+}
+
+static void test_single_rc_sign_convention(void **state)
+{
+    (void)state;
+    /* a non-inverting sense stage makes the same loop positive feedback:
+     * T(0) = -gm R (closed form by nodal analysis, worked by hand) */
+    const double R = 4.7e3, C = 10e-12, gm = 1e-3;
+    run x;
+    single_rc(&x, R, C, gm, +1);
+    assert_rel(x.r.tf.dc, -gm * R, 1e-12);
+    assert_int_equal(x.r.tf.sign, -1);
+    assert_true(isfinite(x.r.loops[0].dc));
+    assert_rel(x.r.loops[0].dc, -gm * R, 1e-12);
+    release(&x);
+}
+
+static void test_two_pole_response(void **state)
+{
+    (void)state;
+    const double R1 = 20e3, C1 = 8e-12, R2 = 50e3, C2 = 20e-12, gm1 = 50e-6, gm2 = 1e-3;
+    run x;
+    two_pole(&x, R1, C1, R2, C2, gm1, gm2, 0);
+    double A = gm1 * gm2 * R1 * R2, w1 = 1.0 / (R1 * C1), w2 = 1.0 / (R2 * C2);
+    /* T(0) = gm1 gm2 R1 R2: closed form by nodal analysis, worked by hand */
+    assert_rel(x.r.tf.dc, A, 1e-12);
+    const double ws[] = { 1e3, 1e6, 3e6, 1e8, 1e10 };
+    for (int k = 0; k < 5; k++) {
+        double complex s = I * ws[k];
+        assert_crel(lgain_eval(x.r.lg, s), A / ((1.0 + s / w1) * (1.0 + s / w2)), 1e-11);
+    }
+    release(&x);
+}
+
+static void test_output_node_outside_loop_leaves_T(void **state)
+{
+    (void)state;
+    const double R1 = 20e3, C1 = 8e-12, R2 = 50e3, C2 = 20e-12, gm1 = 50e-6, gm2 = 1e-3;
+    run with, without;
+    two_pole(&with, R1, C1, R2, C2, gm1, gm2, 1);
+    two_pole(&without, R1, C1, R2, C2, gm1, gm2, 0);
+    double A = gm1 * gm2 * R1 * R2, w1 = 1.0 / (R1 * C1), w2 = 1.0 / (R2 * C2);
+    assert_rel(with.r.tf.dc, A, 1e-12);
+    for (double w = 1e2; w < 1e11; w *= 7.3) {
+        double complex s = I * w;
+        /* the node o draws no current from the loop: T is the two-pole form */
+        assert_crel(lgain_eval(with.r.lg, s), A / ((1.0 + s / w1) * (1.0 + s / w2)), 1e-11);
+        assert_crel(lgain_eval(with.r.lg, s), lgain_eval(without.r.lg, s), 1e-12);
+    }
+    release(&with);
+    release(&without);
+}
+
+static void test_integrator_unbounded_dc(void **state)
+{
+    (void)state;
+    const double wn = 2 * PI_ * 1e6, zeta = 0.5;
+    run x;
+    second_order(&x, wn, zeta, 1e-12, 1e-12);
+    /* T = wn^2/(s(s + 2 zeta wn)): a pole at s = 0, so T(0) is unbounded */
+    assert_true(isinf(x.r.tf.dc) && x.r.tf.dc > 0);
+    assert_int_equal(x.r.tf.origin, -1);
+    assert_int_equal(x.r.tf.sign, 1);
+    const double ws[] = { 1e2, 1e5, 1e6, 2 * PI_ * 1e6, 1e8 };
+    for (int k = 0; k < 5; k++) {
+        double complex s = I * ws[k];
+        assert_crel(lgain_eval(x.r.lg, s), wn * wn / (s * (s + 2 * zeta * wn)), 1e-10);
+    }
+    release(&x);
+}
+
+static void test_miller_response(void **state)
+{
+    (void)state;
+    const double gm1 = 100e-6, gm2 = 1e-3, R1 = 1e6, C1 = 100e-15, R2 = 100e3, C2 = 2e-12,
+                 Cc = 1e-12;
+    run x;
+    analyse(&x,
+            "node inn r=inf\n"
+            "node x1 r=%.17g c=%.17g\n"
+            "node out r=%.17g c=%.17g\n"
+            "gm g1 inn -> x1 %.17g\n"
+            "gm g2 x1 -> out -%.17g\n"
+            "cap cc x1 out %.17g\n"
+            "res fb out inn 1\n"
+            "loop main negative inn x1 out\n",
+            R1, C1, R2, C2, gm1, gm2, Cc);
+    /* Two-stage Miller amplifier by nodal analysis (textbook form):
+     * T(s) = gm1 (gm2 - s Cc) / D(s),
+     * D(s) = G1 G2 + s (G1 (C2 + Cc) + G2 (C1 + Cc) + gm2 Cc) + s^2 (C1 C2 + Cc (C1 + C2)) */
+    double G1 = 1 / R1, G2 = 1 / R2;
+    assert_rel(x.r.tf.dc, gm1 * gm2 * R1 * R2, 1e-10); /* rounding: G spans 1 S to 1 uS */
+    for (double w = 1e2; w < 1e12; w *= 9.1) {
+        double complex s = I * w;
+        double complex D = G1 * G2 + s * (G1 * (C2 + Cc) + G2 * (C1 + Cc) + gm2 * Cc) +
+                           s * s * (C1 * C2 + Cc * (C1 + C2));
+        assert_crel(lgain_eval(x.r.lg, s), gm1 * (gm2 - s * Cc) / D, 1e-10);
+    }
+    release(&x);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_single_rc_dc_gain_exact),
+        cmocka_unit_test(test_single_rc_frequency_response),
+        cmocka_unit_test(test_single_rc_sign_convention),
+        cmocka_unit_test(test_two_pole_response),
+        cmocka_unit_test(test_output_node_outside_loop_leaves_T),
+        cmocka_unit_test(test_integrator_unbounded_dc),
+        cmocka_unit_test(test_miller_response),
+    };
+    return cmocka_run_group_tests_name("loopgain", tests, NULL, NULL);
+}

@@ -1,0 +1,362 @@
+/* Unit tests for margins: crossovers, phase margins, phase crossings and
+ * gain margins, checked against closed forms worked out from the element
+ * values. */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <cmocka.h>
+
+#include <complex.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "loopwise/check.h"
+#include "loopwise/desc.h"
+#include "loopwise/loopgain.h"
+#include "loopwise/margins.h"
+#include "loopwise/model.h"
+#include "loopwise/text.h"
+
+#define PI_ 3.14159265358979323846
+#define DEG_ (180.0 / PI_)
+
+#define assert_rel(got, want, tol)                                                       \
+    do {                                                                                 \
+        double g_ = (got), w_ = (want);                                                  \
+        double s_ = fabs(w_) > 0 ? fabs(w_) : 1.0;                                       \
+        if (!(fabs(g_ - w_) <= (tol) * s_)) {                                            \
+            print_error("%s = %.17g, expected %.17g (relative tolerance %g)\n", #got, g_, \
+                        w_, (double)(tol));                                              \
+            fail();                                                                      \
+        }                                                                                \
+    } while (0)
+
+/* Complex values: |got - want| <= tol * |want|. */
+#define assert_crel(got, want, tol)                                                      \
+    do {                                                                                 \
+        double complex g_ = (got), w_ = (want);                                          \
+        double s_ = cabs(w_) > 0 ? cabs(w_) : 1.0;                                       \
+        if (!(cabs(g_ - w_) <= (tol) * s_)) {                                            \
+            print_error("%s = %.17g%+.17gj, expected %.17g%+.17gj (relative tolerance %g)\n", \
+                        #got, creal(g_), cimag(g_), creal(w_), cimag(w_), (double)(tol)); \
+            fail();                                                                      \
+        }                                                                                \
+    } while (0)
+
+/* One analysed network: the description, its model and the check result. */
+typedef struct run {
+    desc *d;
+    model *m;
+    check_result r;
+} run;
+
+/* Formats the .loop text, then text_from_buffer -> desc_parse -> desc_eval
+ * -> model_new -> check_run with owners and declared loops. */
+static void analyse(run *x, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+static void analyse(run *x, const char *fmt, ...)
+{
+    char src[4096];
+    va_list ap;
+    va_start(ap, fmt);
+    int len = vsnprintf(src, sizeof src, fmt, ap);
+    va_end(ap);
+    assert_true(len > 0 && len < (int)sizeof src);
+    memset(x, 0, sizeof *x);
+    text_file *t = NULL;
+    lw_error err;
+    lw_error_clear(&err);
+    int rc = text_from_buffer(src, (size_t)len, &t, &err);
+    if (rc == LW_OK)
+        rc = desc_parse(t, "test.loop", &x->d, &err);
+    text_free(t);
+    if (rc == LW_OK)
+        rc = desc_eval(x->d, &err);
+    if (rc == LW_OK)
+        rc = model_new(x->d, &x->m, &err);
+    check_opts o; /* { 0, 0, 1, 1 }: automatic band, owners, declared loops */
+    memset(&o, 0, sizeof o);
+    o.want_owner = 1;
+    o.want_loops = 1;
+    if (rc == LW_OK)
+        rc = check_run(x->d, x->m, &o, &x->r, &err);
+    if (rc != LW_OK) {
+        print_error("analysis failed (%d) at %d:%d: %s\n--- input ---\n%s", rc, err.line,
+                    err.col, err.msg, src);
+        model_free(x->m);
+        desc_free(x->d);
+        fail();
+    }
+}
+
+static void release(run *x)
+{
+    check_result_free(&x->r);
+    model_free(x->m);
+    desc_free(x->d);
+}
+
+/* The reported (smallest) phase margin and where it occurs. */
+static margin_point best_cross(const run *x)
+{
+    const margins *m = &x->r.mg;
+    assert_true(m->ncross > 0);
+    assert_true(m->best_cross >= 0 && m->best_cross < m->ncross);
+    return m->cross[m->best_cross];
+}
+
+static margin_point best_phase(const run *x)
+{
+    const margins *m = &x->r.mg;
+    assert_true(m->nphase > 0);
+    assert_true(m->best_phase >= 0 && m->best_phase < m->nphase);
+    return m->phase[m->best_phase];
+}
+
+/* ---- networks ------------------------------------------------------------ */
+
+/* One RC pole with a resistive unity inverting sense node y:
+ * T(s) = gm R/(1 + sRC) (nodal analysis, worked by hand). */
+static void single_rc(run *x, double R, double C, double gm)
+{
+    analyse(x,
+            "node x r=%.17g c=%.17g\n"
+            "node y r=1k\n"
+            "gm gf y -> x %.17g\n"
+            "gm gb x -> y -1m\n"
+            "loop main negative x y\n",
+            R, C, gm);
+}
+
+/* Two gm-RC stages in a ring: T = A/((1 + s/w1)(1 + s/w2)), A = gm1 gm2 R1 R2.
+ * With out_node, o (3 kohm, 1 nF) hangs off b outside the loop. */
+static void two_pole(run *x, double R1, double C1, double R2, double C2, double gm1,
+                     double gm2, int out_node)
+{
+    analyse(x,
+            "node a r=%.17g c=%.17g\n"
+            "node b r=%.17g c=%.17g\n"
+            "%s"
+            "gm g1 b -> a %.17g\n"
+            "gm g2 a -> b -%.17g\n"
+            "%s"
+            "loop main negative a b\n",
+            R1, C1, R2, C2, out_node ? "node o r=3k c=1n\n" : "", gm1, gm2,
+            out_node ? "gm gx b -> o 1m\n" : "");
+}
+
+/* Three identical inverting gm-RC stages in a ring: T = A/(1 + s/p)^3. */
+static void three_pole(run *x, double A, double R, double C)
+{
+    analyse(x,
+            "param A = %.17g\n"
+            "param R = %.17g\n"
+            "param gs = A^(1/3) / R\n"
+            "node n1 r=R c=%.17g\n"
+            "node n2 r=R c=%.17g\n"
+            "node n3 r=R c=%.17g\n"
+            "gm g1 n3 -> n1 -gs\n"
+            "gm g2 n1 -> n2 -gs\n"
+            "gm g3 n2 -> n3 -gs\n"
+            "loop ring negative n1 n2 n3\n",
+            A, R, C, C, C);
+}
+
+/* Integrator a then RC stage b: T = wn^2/(s(s + 2 zeta wn)). */
+static void second_order(run *x, double wn, double zeta, double Ca, double Cb)
+{
+    double Rb = 1.0 / (2.0 * zeta * wn * Cb);
+    double g1 = wn * wn * Ca * Cb / 1e-3;
+    analyse(x,
+            "node a r=inf c=%.17g\n"
+            "node b r=%.17g c=%.17g\n"
+            "gm g1 b -> a %.17g\n"
+            "gm g2 a -> b -1m\n"
+            "loop main negative a b\n",
+            Ca, Rb, Cb, g1);
+}
+
+/* ---- tests ---------------------------------------------------------------- */
+
+static void test_single_rc_crossover_and_phase_margin(void **state)
+{
+    (void)state;
+    const double R = 10e3, C = 1.6e-9;
+    const double gains[] = { 1.5, 3.0, 20.0, 200.0 };
+    for (int k = 0; k < 4; k++) {
+        double A = gains[k], gm = A / R;
+        run x;
+        single_rc(&x, R, C, gm);
+        double p = 1 / (2 * PI_ * R * C);                 /* pole, Hz */
+        /* |A/(1 + jf/p)| = 1 at f = p sqrt(A^2 - 1) (closed form, from memory) */
+        double fc = p * sqrt(A * A - 1);
+        double pm = 180.0 - atan(sqrt(A * A - 1)) * DEG_; /* closed form, from memory */
+        assert_int_equal(x.r.mg.ncross, 1);
+        assert_int_equal(x.r.mg.why, CROSS_FOUND);
+        margin_point c = best_cross(&x);
+        assert_rel(c.hz, fc, 1e-8);
+        assert_rel(c.value, pm, 1e-7);
+        /* one pole never reaches -180 degrees: no gain margin */
+        assert_int_equal(x.r.mg.nphase, 0);
+        assert_int_equal(x.r.mg.best_phase, -1);
+        release(&x);
+    }
+}
+
+static void test_single_rc_unwrapped_phase(void **state)
+{
+    (void)state;
+    const double R = 10e3, C = 1.6e-9, A = 20;
+    run x;
+    single_rc(&x, R, C, A / R);
+    double p = 1 / (2 * PI_ * R * C);
+    const double fs[] = { 1e-2, 1.0, 10.0, 1e4 };
+    for (int k = 0; k < 4; k++) {
+        double mag;
+        int mis = 0;
+        double ph = margin_phase(x.r.lg, &x.r.tf, fs[k] * p, &mag, &mis);
+        /* phase -atan(f/p), magnitude A/sqrt(1 + (f/p)^2) (closed form, from memory) */
+        assert_rel(ph, -atan(fs[k]) * DEG_, 1e-9);
+        assert_rel(mag, A / sqrt(1 + fs[k] * fs[k]), 1e-10);
+        assert_false(mis);
+    }
+    release(&x);
+}
+
+static void test_two_pole_crossover_and_phase_margin(void **state)
+{
+    (void)state;
+    const double R1 = 20e3, C1 = 8e-12, R2 = 50e3, C2 = 20e-12, gm2 = 1e-3;
+    const double gm1s[] = { 50e-6, 5e-6, 400e-6 };
+    for (int k = 0; k < 3; k++) {
+        double gm1 = gm1s[k];
+        run x;
+        two_pole(&x, R1, C1, R2, C2, gm1, gm2, 0);
+        double A = gm1 * gm2 * R1 * R2;
+        double f1 = 1 / (2 * PI_ * R1 * C1), f2 = 1 / (2 * PI_ * R2 * C2);
+        /* |T| = 1: (1 + x/f1^2)(1 + x/f2^2) = A^2 with x = f^2, a quadratic in x:
+         * x^2 + (f1^2 + f2^2) x + (1 - A^2) f1^2 f2^2 = 0 (closed form, worked by hand) */
+        double bq = f1 * f1 + f2 * f2, cq = (1 - A * A) * f1 * f1 * f2 * f2;
+        double xr = 2 * (-cq) / (bq + sqrt(bq * bq - 4 * cq)); /* the positive root */
+        double fc = sqrt(xr);
+        /* PM = 180 - atan(fc/f1) - atan(fc/f2) (closed form, from memory) */
+        double pm = 180.0 - (atan(fc / f1) + atan(fc / f2)) * DEG_;
+        assert_int_equal(x.r.mg.ncross, 1);
+        margin_point c = best_cross(&x);
+        assert_rel(c.hz, fc, 1e-8);
+        assert_rel(c.value, pm, 1e-7);
+        assert_int_equal(x.r.mg.nphase, 0); /* two poles approach -180 but never reach it */
+        release(&x);
+    }
+}
+
+static void test_three_pole_gain_margin(void **state)
+{
+    (void)state;
+    const double R = 10e3, C = 2e-12;
+    const double gains[] = { 7.8, 8.2, 2.0 };
+    const int stable[] = { 1, 0, 1 };
+    for (int k = 0; k < 3; k++) {
+        double A = gains[k];
+        run x;
+        three_pole(&x, A, R, C);
+        double p = 1 / (2 * PI_ * R * C);
+        /* each pole gives 60 degrees at f = tan(60) p = sqrt(3) p, where
+         * |T| = A/(1 + 3)^(3/2) = A/8 (closed form, from memory) */
+        assert_int_equal(x.r.mg.nphase, 1);
+        margin_point g = best_phase(&x);
+        assert_rel(g.hz, sqrt(3.0) * p, 1e-8);
+        assert_rel(g.value, 20 * log10(8 / A), 1e-6); /* signed: negative for A > 8 */
+        /* Routh-Hurwitz: the closed loop is stable exactly for A < 8 */
+        assert_int_equal(x.r.stable, stable[k]);
+        /* crossover: A/(1 + u^2)^(3/2) = 1, u = sqrt(A^(2/3) - 1);
+         * PM = 180 - 3 atan(u) (closed form, worked by hand) */
+        double u = sqrt(pow(A, 2.0 / 3.0) - 1);
+        margin_point c = best_cross(&x);
+        assert_rel(c.hz, u * p, 1e-8);
+        assert_rel(c.value, 180.0 - 3 * atan(u) * DEG_, 1e-6);
+        /* phase margin and closed-loop stability agree in sign here */
+        assert_int_equal(c.value > 0, stable[k]);
+        release(&x);
+    }
+}
+
+static void test_second_order_phase_margin(void **state)
+{
+    (void)state;
+    const double wn = 2 * PI_ * 1e6;
+    const double zetas[] = { 0.3, 0.5, 0.7 };
+    for (int k = 0; k < 3; k++) {
+        double z = zetas[k];
+        run x;
+        second_order(&x, wn, z, 1e-12, 1e-12);
+        double q = sqrt(sqrt(1 + 4 * z * z * z * z) - 2 * z * z);
+        /* standard phase-margin/damping relation, from memory:
+         * PM = atan(2 zeta / sqrt(sqrt(1 + 4 zeta^4) - 2 zeta^2)) at wc = wn q */
+        double pm = atan(2 * z / q) * DEG_;
+        assert_int_equal(x.r.mg.ncross, 1);
+        margin_point c = best_cross(&x);
+        assert_rel(c.hz, wn * q / (2 * PI_), 1e-8);
+        assert_rel(c.value, pm, 1e-7);
+        /* the integrator anchors the phase at -90; it tends to -180 and never crosses */
+        assert_int_equal(x.r.mg.nphase, 0);
+        release(&x);
+    }
+}
+
+static void test_output_node_does_not_change_margins(void **state)
+{
+    (void)state;
+    const double R1 = 20e3, C1 = 8e-12, R2 = 50e3, C2 = 20e-12, gm1 = 50e-6, gm2 = 1e-3;
+    run with, without;
+    two_pole(&with, R1, C1, R2, C2, gm1, gm2, 1);
+    two_pole(&without, R1, C1, R2, C2, gm1, gm2, 0);
+    double A = gm1 * gm2 * R1 * R2;
+    double f1 = 1 / (2 * PI_ * R1 * C1), f2 = 1 / (2 * PI_ * R2 * C2);
+    double bq = f1 * f1 + f2 * f2, cq = (1 - A * A) * f1 * f1 * f2 * f2;
+    double fc = sqrt(2 * (-cq) / (bq + sqrt(bq * bq - 4 * cq))); /* closed form, worked by hand */
+    double pm = 180.0 - (atan(fc / f1) + atan(fc / f2)) * DEG_;   /* closed form, from memory */
+    margin_point a = best_cross(&with), b = best_cross(&without);
+    assert_int_equal(with.r.mg.ncross, without.r.mg.ncross);
+    assert_rel(a.hz, fc, 1e-8);
+    assert_rel(a.value, pm, 1e-7);
+    assert_rel(a.hz, b.hz, 1e-9);
+    assert_rel(a.value, b.value, 1e-9);
+    assert_int_equal(with.r.mg.nphase, without.r.mg.nphase);
+    assert_int_equal(with.r.mg.mismatch, 0);
+    release(&with);
+    release(&without);
+}
+
+static void test_no_crossover(void **state)
+{
+    (void)state;
+    const double R = 10e3, C = 1.6e-9;
+    const double gains[] = { 0.5, 0.99, 1e-3 };
+    for (int k = 0; k < 3; k++) {
+        run x;
+        single_rc(&x, R, C, gains[k] / R);
+        /* |T| <= A < 1 at every frequency: no crossover */
+        assert_int_equal(x.r.mg.ncross, 0);
+        assert_int_equal(x.r.mg.best_cross, -1);
+        assert_int_equal(x.r.mg.why, CROSS_BELOW);
+        assert_true(x.r.stable);
+        release(&x);
+    }
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_single_rc_crossover_and_phase_margin),
+        cmocka_unit_test(test_single_rc_unwrapped_phase),
+        cmocka_unit_test(test_two_pole_crossover_and_phase_margin),
+        cmocka_unit_test(test_three_pole_gain_margin),
+        cmocka_unit_test(test_second_order_phase_margin),
+        cmocka_unit_test(test_output_node_does_not_change_margins),
+        cmocka_unit_test(test_no_crossover),
+    };
+    return cmocka_run_group_tests_name("margins", tests, NULL, NULL);
+}
