@@ -5,7 +5,8 @@ PREFIX ?= /usr/local
 DESTDIR ?=
 CC ?= cc
 PKGS := gsl
-DEB_PKGS := build-essential pkg-config libgsl-dev libcmocka-dev python3-numpy python3-scipy
+DEB_PKGS := build-essential pkg-config libgsl-dev libcmocka-dev python3-numpy python3-scipy \
+            gnuplot-nox
 PYTHON := /usr/bin/python3
 
 WARN := -Wall -Wextra -Wshadow -Wconversion -Wstrict-prototypes -Wmissing-prototypes \
@@ -57,8 +58,9 @@ build/tests/%: tests/unit/%.c build/libloopwise.a | build
 build:
 	@mkdir -p build
 
+# Every test binary runs even when an earlier one fails; the target fails if any did.
 unit: $(TEST_BIN)
-	@for t in $(TEST_BIN); do echo "  RUN     $$t"; ./$$t || exit 1; done
+	@failed=0; for t in $(TEST_BIN); do echo "  RUN     $$t"; ./$$t || failed=1; done; exit $$failed
 
 golden: loopwise
 	@sh tests/golden/run.sh ./loopwise
@@ -77,6 +79,11 @@ demo: all
 	./loopwise size cases/refcore.loop --tune ccomp --pm 60 --density 2fF/um2
 	./loopwise sweep cases/refcore.loop --vary rser --from 540 --to 54k --points 13; test $$? -le 1
 	./loopwise load cases/refcore.loop --node vref --cload 1p..1n
+	./loopwise bode cases/refcore.loop --each -o plots/refcore-bode.png >/dev/null
+	./loopwise polemap cases/refcore.loop -o plots/refcore-polemap.png
+	./loopwise sweep cases/refcore.loop --vary rser --from 540 --to 54k -o plots/refcore-sweep-rser.png >/dev/null; test $$? -le 1
+	./loopwise load cases/refcore.loop --node brb --cload 0.1p..10p -o plots/refcore-load-brb.png >/dev/null; test $$? -le 1
+	@echo "plots written to plots/"
 
 install: all
 	install -d $(DESTDIR)$(PREFIX)/bin

@@ -39,7 +39,7 @@ enum { NFNS = sizeof fns / sizeof fns[0] };
 
 static const char *const reserved[] = {
     "param", "node", "res", "cap", "gm", "loop", "break", "gnd", "inf", "pi",
-    "sqrt", "exp", "ln", "log10", "abs", "min", "max", "vt",
+    "sqrt", "exp", "ln", "log10", "abs", "min", "max",
 };
 
 int expr_is_reserved(const char *name)
@@ -109,9 +109,9 @@ static int unit_of(const char *s)
 static int prefix_of(const char *s, double *factor)
 {
     static const struct { const char *p; double f; } tab[] = {
-        { "a", 1e-18 }, { "f", 1e-15 }, { "p", 1e-12 }, { "n", 1e-9 }, { "u", 1e-6 },
+        { "f", 1e-15 }, { "p", 1e-12 }, { "n", 1e-9 }, { "u", 1e-6 },
         { "\xC2\xB5", 1e-6 }, { "\xCE\xBC", 1e-6 }, { "m", 1e-3 }, { "k", 1e3 },
-        { "M", 1e6 }, { "G", 1e9 }, { "T", 1e12 }, { "P", 1e15 },
+        { "M", 1e6 }, { "G", 1e9 }, { "T", 1e12 },
     };
     for (size_t k = 0; k < sizeof tab / sizeof tab[0]; k++) {
         size_t l = strlen(tab[k].p);
@@ -195,7 +195,7 @@ static int read_number(const char *s, expr_unit unit, double *value, int *used, 
                 snprintf(msg, msgsz, "unknown suffix '%s'; for micro write u", sbuf);
             else
                 snprintf(msg, msgsz,
-                         "unknown suffix '%s'; expected an SI prefix (a f p n u m k M G T P) "
+                         "unknown suffix '%s'; expected an SI prefix (f p n u m k M G T) "
                          "optionally followed by %s", sbuf, unit_expect[unit]);
             return LW_EINPUT;
         }
@@ -448,8 +448,6 @@ static int parse_term(parser *ps, int *h)
 /* sum -> term {('+' | '-') term} */
 static int parse_sum(parser *ps, int *h)
 {
-    if (++ps->depth > EXPR_MAX_DEPTH)
-        return fail(ps, ps->p, "expression nested too deeply (limit %s levels)", "64");
     int rc = parse_term(ps, h);
     for (;;) {
         if (rc != LW_OK)
@@ -463,7 +461,6 @@ static int parse_sum(parser *ps, int *h)
             return rc;
         rc = add(ps, *at == '+' ? OP_ADD : OP_SUB, at, *h, b, h);
     }
-    ps->depth--;
     return LW_OK;
 }
 

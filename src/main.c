@@ -178,6 +178,11 @@ static int parse_options(int argc, char **argv, options *o)
     if (o->plot && (!strcmp(o->command, "check") || !strcmp(o->command, "size")))
         return usage_error("-o draws a picture with bode, polemap, sweep or load, not '%s'",
                            o->command);
+    if (o->plot) {
+        const char *dot = strrchr(o->plot, '.');
+        if (!dot || (strcmp(dot, ".png") && strcmp(dot, ".svg")))
+            return usage_error("-o '%s': the plot file must end in .png or .svg", o->plot);
+    }
     if (!strcmp(o->command, "polemap") && !o->plot)
         return usage_error("%s", "polemap draws a picture: give -o FILE.png or FILE.svg");
     if (o->each && strcmp(o->command, "bode"))

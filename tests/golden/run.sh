@@ -127,6 +127,43 @@ for p in d["settling"]:
     assert abs(p["settle_0p1pct_s"] - tau * math.log(1000)) < 1e-9 * tau
 PYEOF
 
+# Plots: gnuplot runs for real.
+"$LW" bode $R -o "$tmp/b.png" --size 640x480 >/dev/null 2>"$tmp/e" && $PY - "$tmp/b.png" <<'PYEOF' && ok || bad "bode PNG: $(cat "$tmp/e")"
+import struct, sys
+b = open(sys.argv[1], "rb").read()
+assert b[:8] == b"\x89PNG\r\n\x1a\n", "PNG signature"
+assert b[12:16] == b"IHDR"
+w, h = struct.unpack(">II", b[16:24])
+assert (w, h) == (640, 480), (w, h)
+PYEOF
+for cmd in "polemap $R" "bode $R --each" "sweep $R --vary rser --from 540 --to 54k --points 9" "load $R --node brb --cload 0.1p..10p --points 9"; do
+    rm -f "$tmp/p.svg"
+    "$LW" $cmd -o "$tmp/p.svg" >/dev/null 2>"$tmp/e"
+    [ $? -le 1 ] && $PY -c "import sys, xml.etree.ElementTree as E; r=E.parse(sys.argv[1]).getroot(); assert r.tag.endswith('svg'), r.tag" "$tmp/p.svg" &&
+        ok || bad "$cmd -o SVG: $(cat "$tmp/e")"
+done
+"$LW" bode $R -o "$tmp/k.png" --keep-script "$tmp/keep" >/dev/null 2>&1 &&
+    [ -s "$tmp/keep/plot.gp" ] && [ -s "$tmp/keep/net.dat" ] && ok || bad "--keep-script"
+"$LW" bode $R -o "$tmp/x.pdf" >"$tmp/o" 2>"$tmp/e"
+[ $? = 2 ] && [ ! -s "$tmp/o" ] && grep -q "must end in .png or .svg" "$tmp/e" && ok || bad "-o with a wrong extension"
+
+# A hostile file name (quotes and a gnuplot command) must not run anything.
+mkdir -p "$tmp/evil"
+evil="$tmp/evil/a'; system('touch PWNED'); print '\"\\`touch PWNED2\\`.loop"
+cp $R "$evil"
+( cd "$tmp/evil" && "$OLDPWD/$LW" bode "$evil" -o "$evil.png" >/dev/null 2>&1 &&
+  "$OLDPWD/$LW" polemap "$evil" -o "$evil.svg" >/dev/null 2>&1 )
+if [ -e "$tmp/evil/PWNED" ] || [ -e "$tmp/evil/PWNED2" ] || [ -e PWNED ] || [ -e PWNED2 ]; then
+    bad "a file name ran a command through gnuplot"
+elif [ ! -s "$evil.png" ] || [ ! -s "$evil.svg" ]; then bad "hostile file name: no plot"
+else ok; fi
+
+# gnuplot missing: exit 3, the package named, the analysis still printed, no image.
+PATH=/nonexistent "$(pwd)/$LW" bode $R -o "$tmp/none.png" >"$tmp/o" 2>"$tmp/e"
+rc=$?
+[ "$rc" = 3 ] && grep -q "gnuplot-nox" "$tmp/e" && [ -s "$tmp/o" ] && [ ! -e "$tmp/none.png" ] &&
+    ok || bad "gnuplot absent: exit $rc, $(cat "$tmp/e")"
+
 echo "golden: $pass passed, $fail failed"
 echo "$pass passed, $fail failed"
 [ "$fail" = 0 ]

@@ -79,7 +79,7 @@ static void size_two_pole_exact(void **state)
     (void)state;
     desc *d = load_text(two_pole);
     desc_target t = target(d, "cdom");
-    check_opts o = { 0, 0, 1, 0 };
+    check_opts o = { .want_owner = 1 };
     const double R1 = 100e3, A = 1e-3 * 100e3 * 10e-3 * 10e3, p2 = 1.0 / (10e3 * 1e-12);
     const double pms[] = { 45, 60, 75 };
     for (int k = 0; k < 3; k++) {
@@ -113,7 +113,7 @@ static void sweep_crossing_closed_form(void **state)
     (void)state;
     desc *d = load_text(moving_pole);
     desc_target t = target(d, "r2");
-    check_opts o = { 0, 0, 1, 0 };
+    check_opts o = { .want_owner = 1 };
     design_goal g = { 60, NAN };
     sweep_result r;
     lw_error err;
@@ -156,7 +156,7 @@ static void miller_rule_of_thumb(void **state)
     (void)state;
     desc *d = load_text(miller);
     desc_target t = target(d, "cc");
-    check_opts o = { 0, 0, 1, 0 };
+    check_opts o = { .want_owner = 1 };
     design_goal g = { 60, NAN };
     size_result r;
     lw_error err;
@@ -175,7 +175,7 @@ static void size_unreachable(void **state)
     (void)state;
     desc *d = load_text(two_pole);
     desc_target t = target(d, "cdom");
-    check_opts o = { 0, 0, 1, 0 };
+    check_opts o = { .want_owner = 1 };
     design_goal g = { 89.9, NAN };
     size_result r;
     lw_error err;
@@ -203,7 +203,7 @@ static void load_outside(void **state)
 {
     (void)state;
     desc *d = load_text(tap);
-    check_opts o = { 0, 0, 1, 0 };
+    check_opts o = { .want_owner = 1 };
     design_goal g = { 60, NAN };
     load_result r;
     lw_error err;
