@@ -1,21 +1,29 @@
 # loopwise: loop-stability analysis for small-signal networks.
-# Targets: all check demo bench install clean.  V=1 shows the commands.
+# Targets: all check demo bench install clean, and the hardening runs fuzz
+# (FUZZ_SECONDS=N) and sanitize.  V=1 shows the commands.
 
 PREFIX ?= /usr/local
 DESTDIR ?=
 CC ?= cc
 PKGS := gsl
+OMP := -fopenmp
 DEB_PKGS := build-essential pkg-config libgsl-dev libcmocka-dev python3-numpy python3-scipy \
             gnuplot-nox
+# For 'make fuzz' and 'make sanitize' only.
+FUZZ_PKGS := clang libclang-rt-14-dev valgrind
 PYTHON := /usr/bin/python3
 
 WARN := -Wall -Wextra -Wshadow -Wconversion -Wstrict-prototypes -Wmissing-prototypes \
         -Wno-sign-conversion
 CFLAGS ?= -O2 -g
-ALL_CFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L $(WARN) $(CFLAGS) -Iinclude -MMD -MP \
+ALL_CFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L $(WARN) $(CFLAGS) $(OMP) -Iinclude -MMD -MP \
               $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
-LDLIBS := $(shell pkg-config --libs $(PKGS) 2>/dev/null) -lm
+LDLIBS := $(OMP) $(shell pkg-config --libs $(PKGS) 2>/dev/null) -lm
 TEST_LDLIBS := $(shell pkg-config --libs cmocka 2>/dev/null) $(LDLIBS)
+
+# Output directory and binary; 'make sanitize' builds into build/asan.
+BUILD ?= build
+LW_BIN ?= loopwise
 
 ifeq ($(V),1)
 Q :=
@@ -24,46 +32,47 @@ Q := @
 endif
 
 LIB_SRC := $(filter-out src/main.c,$(wildcard src/*.c))
-LIB_OBJ := $(LIB_SRC:src/%.c=build/%.o)
+LIB_OBJ := $(LIB_SRC:src/%.c=$(BUILD)/%.o)
 TEST_SRC := $(wildcard tests/unit/test_*.c)
-TEST_BIN := $(TEST_SRC:tests/unit/%.c=build/tests/%)
+TEST_BIN := $(TEST_SRC:tests/unit/%.c=$(BUILD)/tests/%)
 
-.PHONY: all check demo bench install clean deps unit golden reference
+.PHONY: all check demo bench install clean deps unit golden reference fuzz fuzz-run \
+        sanitize sanitize-run memcheck
 
 # The package check runs first; a second make then sees pkg-config's answers.
 all: deps
-	@$(MAKE) --no-print-directory loopwise
+	@$(MAKE) --no-print-directory $(LW_BIN)
 
 # Installs the Debian packages the build and tests need (as root), or says
 # exactly what to run.
 deps:
 	@sh tools/deps.sh $(DEB_PKGS)
 
-loopwise: build/main.o build/libloopwise.a
+$(LW_BIN): $(BUILD)/main.o $(BUILD)/libloopwise.a
 	@echo "  LD      $@"
 	$(Q)$(CC) $(LDFLAGS) -o $@ $^ $(LDLIBS)
 
-build/libloopwise.a: $(LIB_OBJ)
+$(BUILD)/libloopwise.a: $(LIB_OBJ)
 	$(Q)rm -f $@ && ar rcs $@ $^
 
-build/%.o: src/%.c | build
+$(BUILD)/%.o: src/%.c | $(BUILD)
 	@echo "  CC      $<"
 	$(Q)$(CC) $(ALL_CFLAGS) -c -o $@ $<
 
-build/tests/%: tests/unit/%.c build/libloopwise.a | build
-	@mkdir -p build/tests
+$(BUILD)/tests/%: tests/unit/%.c $(BUILD)/libloopwise.a | $(BUILD)
+	@mkdir -p $(BUILD)/tests
 	@echo "  CC      $<"
-	$(Q)$(CC) $(ALL_CFLAGS) -Wno-missing-prototypes -o $@ $< build/libloopwise.a $(TEST_LDLIBS)
+	$(Q)$(CC) $(ALL_CFLAGS) -Wno-missing-prototypes -o $@ $< $(BUILD)/libloopwise.a $(TEST_LDLIBS)
 
-build:
-	@mkdir -p build
+$(BUILD):
+	@mkdir -p $(BUILD)
 
 # Every test binary runs even when an earlier one fails; the target fails if any did.
 unit: $(TEST_BIN)
 	@failed=0; for t in $(TEST_BIN); do echo "  RUN     $$t"; ./$$t || failed=1; done; exit $$failed
 
-golden: loopwise
-	@sh tests/golden/run.sh ./loopwise
+golden: $(LW_BIN)
+	@sh tests/golden/run.sh ./$(LW_BIN)
 
 reference: loopwise
 	@$(PYTHON) tests/ref/numpy_ref.py --selftest
@@ -92,4 +101,79 @@ install: all
 clean:
 	rm -rf build loopwise
 
--include $(LIB_OBJ:.o=.d) build/main.d
+# ---- hardening: fuzzing, sanitizers, memcheck ------------------------------
+
+# libFuzzer over parsing and the whole 'check' path (tests/fuzz/fuzz_check.c),
+# the library built with clang and sanitizers into build/fuzz. New inputs go
+# to build/fuzz/corpus, crashes to build/fuzz/crash-*; the committed seeds in
+# tests/fuzz/corpus and tests/fuzz/regress are only read. FUZZ_ARGS adds
+# libFuzzer options (e.g. -fork=1 -ignore_crashes=1 to go on after a crash).
+FUZZ_SECONDS ?= 60
+FUZZ_ARGS ?=
+SAN_FLAGS := -fsanitize=address,undefined -fno-sanitize-recover=all -fno-omit-frame-pointer
+FUZZ_CFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L $(WARN) -O1 -g $(SAN_FLAGS) \
+               -fsanitize=fuzzer-no-link -Iinclude $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
+FUZZ_LDLIBS := $(shell pkg-config --libs $(PKGS) 2>/dev/null) -lm
+FUZZ_OBJ := $(LIB_SRC:src/%.c=build/fuzz/%.o)
+
+fuzz: deps
+	@sh tools/deps.sh $(FUZZ_PKGS)
+	@$(MAKE) --no-print-directory fuzz-run
+
+build/fuzz/%.o: src/%.c
+	@mkdir -p build/fuzz
+	@echo "  CC      $< (fuzz)"
+	$(Q)clang $(FUZZ_CFLAGS) -c -o $@ $<
+
+build/fuzz/fuzz_check: tests/fuzz/fuzz_check.c $(FUZZ_OBJ)
+	@echo "  LD      $@"
+	$(Q)clang $(FUZZ_CFLAGS) -fsanitize=fuzzer -o $@ $^ $(FUZZ_LDLIBS)
+
+fuzz-run: build/fuzz/fuzz_check
+	@mkdir -p build/fuzz/corpus
+	./build/fuzz/fuzz_check -max_total_time=$(FUZZ_SECONDS) -timeout=25 -max_len=8192 \
+	    -dict=tests/fuzz/loop.dict -artifact_prefix=build/fuzz/ -print_final_stats=1 \
+	    $(FUZZ_ARGS) build/fuzz/corpus tests/fuzz/corpus tests/fuzz/regress
+
+# The unit and command-line tests with the binary and tests built under
+# AddressSanitizer and UndefinedBehaviorSanitizer (gcc, into build/asan), then
+# memcheck. Every sanitizer report goes to build/asan/logs, so one is caught
+# even where a test throws stderr away; any report fails the target.
+SAN_LOGS := $(CURDIR)/build/asan/logs
+SAN_ENV := ASAN_OPTIONS=detect_leaks=1:exitcode=86:log_path=$(SAN_LOGS)/asan \
+           UBSAN_OPTIONS=print_stacktrace=1:exitcode=86:log_path=$(SAN_LOGS)/ubsan
+
+sanitize: all
+	@sh tools/deps.sh $(FUZZ_PKGS)
+	@rm -rf $(SAN_LOGS) && mkdir -p $(SAN_LOGS)
+	@$(SAN_ENV) $(MAKE) --no-print-directory BUILD=build/asan LW_BIN=build/asan/loopwise \
+	    CC=gcc CFLAGS="-O1 -g $(SAN_FLAGS)" LDFLAGS="$(SAN_FLAGS)" sanitize-run
+	@$(MAKE) --no-print-directory memcheck
+
+sanitize-run: $(LW_BIN) $(TEST_BIN)
+	@failed=0; $(MAKE) --no-print-directory unit || failed=1; \
+	    $(MAKE) --no-print-directory golden || failed=1; \
+	    if [ -n "$$(ls $(SAN_LOGS))" ]; then \
+	        echo "sanitize: sanitizer reports:"; cat $(SAN_LOGS)/*; failed=1; \
+	    else echo "sanitize: no sanitizer reports"; fi; exit $$failed
+
+# valgrind memcheck of the normal binary: check on every case, and the design
+# commands and bode on the reference core (no plots). Zero errors and zero
+# definite or indirect leaks, whatever loopwise's own exit code (0 or 1).
+VG := valgrind -q --error-exitcode=97 --leak-check=full --errors-for-leak-kinds=definite,indirect \
+      --log-file=build/memcheck.log
+MC := cases/refcore.loop
+
+memcheck: all
+	@failed=0; \
+	for run in $(foreach c,$(wildcard cases/*.loop),"check $(c)") \
+	        "size $(MC) --tune ccomp --pm 60 --density 2fF/um2" \
+	        "sweep $(MC) --vary rser --from 540 --to 54k --points 13" \
+	        "load $(MC) --node vref --cload 1p..1n" "load $(MC) --node brb --cload 0.1p..10p" \
+	        "bode $(MC) --points 50"; do \
+	    $(VG) ./loopwise $$run >/dev/null 2>&1; rc=$$?; \
+	    if [ $$rc -le 1 ] && [ ! -s build/memcheck.log ]; then echo "  MEMCHECK ok      $$run"; \
+	    else echo "  MEMCHECK FAILED  $$run (exit $$rc)"; cat build/memcheck.log; failed=1; fi; \
+	done; exit $$failed
+
+-include $(LIB_OBJ:.o=.d) $(BUILD)/main.d

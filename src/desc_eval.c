@@ -118,6 +118,66 @@ static int check_floating(const desc *d, lw_error *err)
     return rc;
 }
 
+static int eval_bound(desc *d, const desc_bound *b, double nominal, double *v, lw_error *err)
+{
+    if (b->is_pct) {
+        *v = nominal * (1.0 + b->pct / 100.0);
+        return LW_OK;
+    }
+    int rc = expr_eval(d->pool, b->expr, d->pvals, v, err);
+    if (rc)
+        desc_error_source(d, err);
+    return rc;
+}
+
+static int spread_error(const desc *d, desc_pos at, const char *fmt, const char *name, double a,
+                        double b, lw_error *err)
+{
+    lw_error_at(err, at.line, at.col, fmt, name, a, b);
+    desc_error_source(d, err);
+    return LW_EINPUT;
+}
+
+/* Evaluates a param's corner range and distribution around its value. */
+static int eval_spread(desc *d, desc_param *p, lw_error *err)
+{
+    desc_spread *sp = &p->spread;
+    int rc = LW_OK;
+    if (sp->has_range) {
+        if ((rc = eval_bound(d, &sp->lo, p->value, &sp->lo_v, err)) ||
+            (rc = eval_bound(d, &sp->hi, p->value, &sp->hi_v, err)))
+            return rc;
+        if (!(sp->lo_v <= sp->hi_v) || !isfinite(sp->lo_v) || !isfinite(sp->hi_v))
+            return spread_error(d, sp->range_at, "param '%s': corner range %.6g..%.6g is "
+                                "inverted or not finite; expected LO..HI with LO below HI",
+                                p->name, sp->lo_v, sp->hi_v, err);
+    }
+    if (sp->dist == DIST_NORMAL) {
+        if (sp->a.is_pct) {
+            sp->a_v = fabs(p->value) * sp->a.pct / 100.0;
+        } else if ((rc = eval_bound(d, &sp->a, p->value, &sp->a_v, err))) {
+            return rc;
+        }
+        if (!(sp->a_v >= 0) || !isfinite(sp->a_v))
+        {
+            lw_error_at(err, sp->dist_at.line, sp->dist_at.col, "param '%s': sigma %.6g is "
+                        "negative or not finite; expected a sigma of zero or more", p->name,
+                        sp->a_v);
+            desc_error_source(d, err);
+            return LW_EINPUT;
+        }
+    } else if (sp->dist == DIST_UNIFORM) {
+        if ((rc = eval_bound(d, &sp->a, p->value, &sp->a_v, err)) ||
+            (rc = eval_bound(d, &sp->b, p->value, &sp->b_v, err)))
+            return rc;
+        if (!(sp->a_v <= sp->b_v) || !isfinite(sp->a_v) || !isfinite(sp->b_v))
+            return spread_error(d, sp->dist_at, "param '%s': uniform range %.6g..%.6g is "
+                                "inverted or not finite; expected LO..HI with LO below HI",
+                                p->name, sp->a_v, sp->b_v, err);
+    }
+    return LW_OK;
+}
+
 int desc_eval(desc *d, lw_error *err)
 {
     for (int k = 0; k < d->nparams; k++) {
@@ -126,6 +186,8 @@ int desc_eval(desc *d, lw_error *err)
         if (rc)
             return rc;
         d->pvals[k] = p->value;
+        if ((rc = eval_spread(d, p, err)))
+            return rc;
     }
     int rc = eval_nodes(d, err);
     if (!rc)

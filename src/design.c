@@ -57,7 +57,7 @@ static void two_poles(const check_result *r, design_point *pt)
     }
 }
 
-static void fill_point(const check_result *r, double value, design_point *pt)
+void design_point_from(const check_result *r, double value, design_point *pt)
 {
     const margins *mg = &r->mg;
     pt->value = value;
@@ -77,7 +77,7 @@ int design_eval(desc *d, desc_target t, double value, const check_opts *o, desig
     int rc = design_eval_full(d, t, value, o, &r, &m, err);
     if (rc)
         return rc;
-    fill_point(&r, value, pt);
+    design_point_from(&r, value, pt);
     check_result_free(&r);
     model_free(m);
     return LW_OK;
@@ -96,7 +96,7 @@ typedef struct refine_ctx {
 } refine_ctx;
 
 /* Distance to the goal: positive when met. Combines phase and gain margin. */
-static double goal_distance(const design_point *p, design_goal g)
+double design_goal_distance(const design_point *p, design_goal g)
 {
     double v = isnan(p->pm_deg) ? -1e3 : p->pm_deg - g.pm_deg;
     if (!isnan(g.gm_db))
@@ -113,7 +113,7 @@ static double refine_fn(double x, void *vp)
         c->failed = 1;
         return 0;
     }
-    return goal_distance(&pt, c->g);
+    return design_goal_distance(&pt, c->g);
 }
 
 /* Brent's method on [a, b] (in ln v when logscale) to relative 1e-6 in v. */
@@ -179,7 +179,7 @@ int sweep_run(desc *d, desc_target t, double from, double to, int npts, int lin,
     }
     refine_ctx c = { d, t, o, g, !lin, 0, err };
     for (int k = 1; k < r->npts && !rc; k++) {
-        double a = goal_distance(&r->pts[k - 1], g), b = goal_distance(&r->pts[k], g);
+        double a = design_goal_distance(&r->pts[k - 1], g), b = design_goal_distance(&r->pts[k], g);
         if ((a >= 0) == (b >= 0))
             continue;
         double root = r->pts[k].value;
@@ -221,7 +221,7 @@ int size_run(desc *d, desc_target t, double lo, double hi, design_goal g, const 
     if (first < 0) {
         int best = 0;
         for (int k = 1; k < sw.npts; k++)
-            if (goal_distance(&sw.pts[k], g) > goal_distance(&sw.pts[best], g))
+            if (design_goal_distance(&sw.pts[k], g) > design_goal_distance(&sw.pts[best], g))
                 best = k;
         r->best = sw.pts[best];
         sweep_result_free(&sw);

@@ -10,7 +10,7 @@
 /* Keep in step with lw_fn_names below. */
 typedef enum {
     OP_NUM, OP_PARAM, OP_NEG, OP_ADD, OP_SUB, OP_MUL, OP_DIV, OP_POW,
-    OP_SQRT, OP_EXP, OP_LN, OP_LOG10, OP_ABS, OP_MIN, OP_MAX
+    OP_SQRT, OP_EXP, OP_LN, OP_LOG10, OP_ABS, OP_MIN, OP_MAX, OP_VT
 } op_kind;
 
 typedef struct enode {
@@ -33,13 +33,13 @@ static const struct {
 } fns[] = {
     { "sqrt", OP_SQRT, 1 }, { "exp", OP_EXP, 1 }, { "ln", OP_LN, 1 },
     { "log10", OP_LOG10, 1 }, { "abs", OP_ABS, 1 }, { "min", OP_MIN, 2 },
-    { "max", OP_MAX, 2 },
+    { "max", OP_MAX, 2 }, { "vt", OP_VT, 1 },
 };
 enum { NFNS = sizeof fns / sizeof fns[0] };
 
 static const char *const reserved[] = {
     "param", "node", "res", "cap", "gm", "loop", "break", "gnd", "inf", "pi",
-    "sqrt", "exp", "ln", "log10", "abs", "min", "max",
+    "sqrt", "exp", "ln", "log10", "abs", "min", "max", "vt", "corners", "normal", "uniform",
 };
 
 int expr_is_reserved(const char *name)
@@ -286,7 +286,7 @@ static int parse_call(parser *ps, const char *at, const char *name, int *h)
     while (k < (int)NFNS && strcmp(fns[k].name, name))
         k++;
     if (k == (int)NFNS)
-        return fail(ps, at, "unknown function '%s'; expected sqrt, exp, ln, log10, abs, min or max",
+        return fail(ps, at, "unknown function '%s'; expected sqrt, exp, ln, log10, abs, min, max or vt",
                     name);
     ps->p++; /* '(' */
     int a = -1, b = -1, rc;
@@ -524,6 +524,13 @@ static int eval_node(const expr_pool *p, int h, const double *params, double *ou
     case OP_ABS: r = fabs(a); break;
     case OP_MIN: r = a < b ? a : b; break;
     case OP_MAX: r = a > b ? a : b; break;
+    case OP_VT:
+        /* thermal voltage kT/q in volts for T in kelvin; k and q are exact in
+         * the 2019 SI (CODATA 2018): k = 1.380649e-23 J/K, q = 1.602176634e-19 C */
+        if (!(a > 0))
+            return eval_fail(n, err, "vt() takes an absolute temperature in kelvin, above 0");
+        r = 1.380649e-23 * a / 1.602176634e-19;
+        break;
     default: r = NAN; break;
     }
     if (isnan(r))

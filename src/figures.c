@@ -299,3 +299,48 @@ int figure_margin(const figure_opts *fo, const desc *d, const char *what, const 
             "ls 3 title 'target %.4g\xC2\xB0'\n", plot_path(job, "margin.dat"), g.pm_deg, g.pm_deg);
     return plot_finish(job, fo->keep_dir, err);
 }
+
+/* ---- Monte Carlo histogram ------------------------------------------------- */
+
+int figure_histogram(const figure_opts *fo, const desc *d, const double *pm, int n,
+                     design_goal g, lw_error *err)
+{
+    plot_job *job;
+    int rc = plot_begin(fo->path, fo->width, fo->height, &job, err);
+    if (rc)
+        return rc;
+    double lo = INFINITY, hi = -INFINITY;
+    for (int k = 0; k < n; k++) {
+        lo = fmin(lo, pm[k]);
+        hi = fmax(hi, pm[k]);
+    }
+    lo = fmin(lo, g.pm_deg);
+    hi = fmax(hi, g.pm_deg);
+    int nb = 60;
+    double w = hi > lo ? (hi - lo) / nb : 1.0;
+    int counts[61] = { 0 };
+    for (int k = 0; k < n; k++) {
+        int b = (int)((pm[k] - lo) / w);
+        counts[b < 0 ? 0 : (b > nb ? nb : b)]++;
+    }
+    FILE *f = plot_data(job, "hist.dat", err);
+    if (!f) {
+        plot_abort(job);
+        return LW_ENUMERIC;
+    }
+    for (int b = 0; b <= nb; b++)
+        fprintf(f, "%.10g %d\n", lo + (b + 0.5) * w, counts[b]);
+    FILE *s = plot_script(job);
+    char extra[64];
+    snprintf(extra, sizeof extra, "%d samples", n);
+    style(s);
+    title(s, "Phase margin spread", d, extra);
+    fprintf(s, "set xlabel 'phase margin (degrees)'\nset ylabel 'samples'\nset boxwidth %.10g\n"
+            "set style fill solid 0.55 border lc rgb '%s'\nset yrange [0:*]\n"
+            "set arrow from %.10g, graph 0 to %.10g, graph 1 nohead lc rgb '%s' lw 2 dt 2\n"
+            "set label 'target %.4g\xC2\xB0' at %.10g, graph 0.95 offset 0.5,0 tc rgb '%s'\n",
+            w * 0.9, PLOT_INK, g.pm_deg, g.pm_deg, PLOT_ACCENT, g.pm_deg, g.pm_deg, PLOT_ACCENT);
+    fprintf(s, "plot '%s' using 1:2 with boxes lc rgb '%s' title 'samples per bin'\n",
+            plot_path(job, "hist.dat"), PLOT_INK);
+    return plot_finish(job, fo->keep_dir, err);
+}

@@ -30,6 +30,9 @@ static const char usage_text[] =
     "  load    --node N --cload LO..HI: whether N is inside the loop, the margin over\n"
     "          the load range and the largest load that still meets the target\n"
     "  polemap -o FILE: the s-plane picture of poles, zeros and closed-loop poles\n"
+    "  corners  the margin at every combination of the params' corner ranges\n"
+    "  montecarlo --samples N --seed S: margin distributions and yield under the params'\n"
+    "          distributions; -o draws the phase-margin histogram\n"
     "\n"
     "options:\n"
     "  --set NAME=EXPR   override a param, an element value, or NODE.r / NODE.c (repeatable)\n"
@@ -88,7 +91,7 @@ static int parse_options(int argc, char **argv, options *o)
         const char *val = k + 1 < argc ? argv[k + 1] : NULL;
         static const char *const with_value[] = { "--set", "--pm", "--fmin", "--fmax", "--csv",
             "--points", "--tune", "--within", "--vary", "--from", "--to", "--node", "--cload",
-            "--density", "--gm", "-o", "--size", "--keep-script" };
+            "--density", "--gm", "-o", "--size", "--keep-script", "--samples", "--seed" };
         int takes = 0;
         for (size_t j = 0; j < sizeof with_value / sizeof *with_value; j++)
             takes |= !strcmp(a, with_value[j]);
@@ -145,6 +148,21 @@ static int parse_options(int argc, char **argv, options *o)
             if (sscanf(val, "%dx%d", &o->width, &o->height) != 2 || o->width < 100 ||
                 o->height < 100 || o->width > 8000 || o->height > 8000)
                 return usage_error("--size takes WIDTHxHEIGHT in pixels, 100 to 8000, got '%s'", val);
+        } else if (!strcmp(a, "--samples") || !strcmp(a, "--seed")) {
+            double v;
+            if (option_number(a, val, UNIT_NONE, &v))
+                return 2;
+            int is_samples = !strcmp(a, "--samples");
+            if (v != floor(v) || v < is_samples || v > (is_samples ? 1e7 : 1.8e19))
+                return usage_error(is_samples ? "--samples takes a whole number from 1 to "
+                                   "10000000, got '%s'" : "--seed takes a whole number of 0 or "
+                                   "more, got '%s'", val);
+            if (is_samples)
+                o->samples = (int)v;
+            else {
+                o->seed = (unsigned long long)v;
+                o->seed_given = 1;
+            }
         } else if (!strcmp(a, "--each")) {
             o->each = 1;
         } else if (!strcmp(a, "--lin")) {
@@ -164,20 +182,24 @@ static int parse_options(int argc, char **argv, options *o)
     }
     if (!o->command)
         return usage_error("%s", "missing COMMAND");
-    static const char *const commands[] = { "check", "bode", "size", "sweep", "load", "polemap" };
+    static const char *const commands[] = { "check", "bode", "size", "sweep", "load", "polemap",
+                                            "corners", "montecarlo" };
     int known = 0;
     for (size_t j = 0; j < sizeof commands / sizeof *commands; j++)
         known |= !strcmp(o->command, commands[j]);
     if (!known)
-        return usage_error("unknown command '%s'; expected check, bode, size, sweep, load or "
-                           "polemap", o->command);
+        return usage_error("unknown command '%s'; expected check, bode, size, sweep, load, "
+                           "polemap, corners or montecarlo", o->command);
     if (!o->file)
         return usage_error("missing FILE after '%s'", o->command);
     if (o->csv && strcmp(o->command, "bode") && strcmp(o->command, "sweep"))
         return usage_error("--csv goes with 'bode' or 'sweep', not '%s'", o->command);
-    if (o->plot && (!strcmp(o->command, "check") || !strcmp(o->command, "size")))
-        return usage_error("-o draws a picture with bode, polemap, sweep or load, not '%s'",
-                           o->command);
+    if (o->plot && (!strcmp(o->command, "check") || !strcmp(o->command, "size") ||
+                    !strcmp(o->command, "corners")))
+        return usage_error("-o draws a picture with bode, polemap, sweep, load or montecarlo, "
+                           "not '%s'", o->command);
+    if (!strcmp(o->command, "montecarlo") && o->samples < 1)
+        return usage_error("%s", "montecarlo needs --samples N (1 or more) and --seed S");
     if (o->plot) {
         const char *dot = strrchr(o->plot, '.');
         if (!dot || (strcmp(dot, ".png") && strcmp(dot, ".svg")))
@@ -204,13 +226,11 @@ static int exit_code(int rc)
 }
 
 /* Loads, overrides and evaluates the description, and builds the model. */
-static int load(const options *o, desc **d, model **m, lw_error *err)
+static int load(const options *o, text_file **t, desc **d, model **m, lw_error *err)
 {
-    text_file *t = NULL;
-    int rc = text_read(o->file, &t, err);
+    int rc = text_read(o->file, t, err);
     if (!rc)
-        rc = desc_parse(t, strcmp(o->file, "-") ? o->file : "<stdin>", d, err);
-    text_free(t);
+        rc = desc_parse(*t, strcmp(o->file, "-") ? o->file : "<stdin>", d, err);
     for (int k = 0; !rc && k < o->nsets; k++)
         rc = desc_set(*d, o->sets[k], err);
     if (!rc)
@@ -261,10 +281,12 @@ int main(int argc, char **argv)
     model *m = NULL;
     check_result r;
     memset(&r, 0, sizeof r);
-    int rc = load(&o, &d, &m, &err);
+    text_file *t = NULL;
+    int rc = load(&o, &t, &d, &m, &err);
     check_opts co = { o.fmin, o.fmax, 1, 1, o.each };
     int design = !strcmp(o.command, "size") || !strcmp(o.command, "sweep") ||
-                 !strcmp(o.command, "load");
+                 !strcmp(o.command, "load") || !strcmp(o.command, "corners") ||
+                 !strcmp(o.command, "montecarlo");
     if (!rc)
         rc = check_run(d, m, &co, &r, &err);
     if (!rc && !strcmp(o.command, "check") && d->nnodes <= 64)
@@ -272,7 +294,9 @@ int main(int argc, char **argv)
     if (!rc && design) {
         rc = !strcmp(o.command, "size") ? cmd_size(&o, d, &code, &err)
              : !strcmp(o.command, "sweep") ? cmd_sweep(&o, d, &code, &err)
-                                           : cmd_load(&o, d, &code, &err);
+             : !strcmp(o.command, "load") ? cmd_load(&o, d, &code, &err)
+             : !strcmp(o.command, "corners") ? cmd_corners(&o, d, &code, &err)
+                                             : cmd_montecarlo(&o, d, t, &code, &err);
         if (rc == LW_ENUMERIC && err.msg[0] && o.plot) {
             /* the analysis printed; only the picture failed */
             lw_error_print(&err, o.file, stderr);
@@ -286,15 +310,15 @@ int main(int argc, char **argv)
         goto done;
     }
     check_warn_gm_cycles(d, stderr);
-    report_target t = { o.pm, o.pm_given };
+    report_target tg = { o.pm, o.pm_given };
     if (design) {
         /* output written by the command */
     } else if (!strcmp(o.command, "check")) {
         if (o.json)
             report_check_json(stdout, d, m, &r);
         else
-            report_check_text(stdout, d, m, &r, t);
-        code = report_check_status(&r, t);
+            report_check_text(stdout, d, m, &r, tg);
+        code = report_check_status(&r, tg);
     } else if (!strcmp(o.command, "polemap")) {
         rc = cmd_polemap(&o, d, &r, &err);
     } else if (!(rc = run_bode(&o, d, &r, &err)) && o.plot) {
@@ -310,6 +334,7 @@ int main(int argc, char **argv)
         code = 3;
     }
 done:
+    text_free(t);
     check_result_free(&r);
     model_free(m);
     desc_free(d);

@@ -69,32 +69,122 @@ void margin_band(const lg_tf *tf, const double complex *cl, int ncl, double *flo
     *fhi = hi / TWO_PI * 1000.0;
 }
 
+/* ---- the factored form, for scanning ------------------------------------- */
+
+/* T(jw) = K (jw)^m prod(1 - jw/z) / prod(1 - jw/p): for a root r = a + jb,
+ * 1 - jw/r = (1 - w b/|r|^2) - j w a/|r|^2, so each factor costs a few
+ * flops. K comes from one exact evaluation. Scanning with it costs O(roots)
+ * per frequency instead of an LU factorization; every root it brackets is
+ * then polished on the exact T. */
+typedef struct ffactor {
+    double c1, c2;       /* b/|r|^2 and a/|r|^2 */
+    double sign;         /* +1 for a zero, -1 for a pole */
+} ffactor;
+
+typedef struct fform {
+    ffactor *f;
+    int n;
+    int origin;
+    double logk;         /* log|K| */
+    double anchor;       /* phase at w -> 0, degrees */
+} fform;
+
+static int fform_add(fform *ff, double complex r, double sign)
+{
+    double m2 = creal(r) * creal(r) + cimag(r) * cimag(r);
+    ff->f[ff->n++] = (ffactor){ cimag(r) / m2, creal(r) / m2, sign };
+    return 0;
+}
+
+static void fform_eval(const fform *ff, double w, double *logmag, double *phase)
+{
+    double lm = ff->logk + ff->origin * log(w), ph = 0;
+    for (int k = 0; k < ff->n; k++) {
+        double re = 1.0 - w * ff->f[k].c1, im = -w * ff->f[k].c2;
+        lm += ff->f[k].sign * 0.5 * log(re * re + im * im);
+        ph += ff->f[k].sign * atan2(im, re);
+    }
+    *logmag = lm;
+    *phase = ff->anchor + ph * DEG;
+}
+
+/* Builds the factored form; returns 0 when K cannot be found (T is zero or
+ * singular at the reference point), in which case the caller scans exactly. */
+static int fform_build(lgain *lg, const lg_tf *tf, double flo, double fhi, fform *ff)
+{
+    ff->n = 0;
+    ff->origin = tf->origin;
+    ff->anchor = (tf->sign < 0 ? -180.0 : 0.0) + 90.0 * tf->origin;
+    ff->f = malloc(sizeof *ff->f * (size_t)(tf->npoles + tf->nzeros + 1));
+    if (!ff->f)
+        return 0;
+    for (int k = 0; k < tf->nzeros; k++)
+        if (tf->zeros[k] != 0)
+            fform_add(ff, tf->zeros[k], 1.0);
+    for (int k = 0; k < tf->npoles; k++)
+        if (!tf->hidden[k] && tf->poles[k] != 0)
+            fform_add(ff, tf->poles[k], -1.0);
+    double w0 = TWO_PI * sqrt(flo * fhi), lm, ph;
+    double complex t0 = lgain_eval(lg, I * w0);
+    ff->logk = 0;
+    fform_eval(ff, w0, &lm, &ph);
+    if (!(cabs(t0) > 0) || !isfinite(cabs(t0)) || !isfinite(lm))
+        return 0;
+    ff->logk = log(cabs(t0)) - lm;
+    return 1;
+}
+
 /* ---- root finding -------------------------------------------------------- */
 
 typedef struct fparams {
     lgain *lg;
     const lg_tf *tf;
+    const fform *ff;     /* NULL: scan with the exact T */
     double target;       /* phase target in degrees (phase crossings) */
 } fparams;
 
-static double log_mag(double u, void *vp)
+static void eval_at(const fparams *fp, double u, int exact, double *lm, double *ph)
 {
-    fparams *fp = vp;
-    double mag;
-    margin_phase(fp->lg, fp->tf, pow(10.0, u), &mag, NULL);
-    return log(mag);
+    double hz = pow(10.0, u), mag;
+    if (!exact && fp->ff) {
+        fform_eval(fp->ff, TWO_PI * hz, lm, ph);
+        return;
+    }
+    *ph = margin_phase(fp->lg, fp->tf, hz, &mag, NULL);
+    *lm = log(mag);
 }
 
-static double phase_offset(double u, void *vp)
+static double log_mag_ff(double u, void *vp)
 {
-    fparams *fp = vp;
-    double mag;
-    return margin_phase(fp->lg, fp->tf, pow(10.0, u), &mag, NULL) - fp->target;
+    double lm, ph;
+    eval_at(vp, u, 0, &lm, &ph);
+    return lm;
 }
 
-/* Brent's method on [lo, hi] in u = log10 f; |Δu| < 1e-13 is a relative
- * error in f below 3e-13. */
-static int brent(double (*fn)(double, void *), fparams *fp, double lo, double hi, double *root)
+static double log_mag_exact(double u, void *vp)
+{
+    double lm, ph;
+    eval_at(vp, u, 1, &lm, &ph);
+    return lm;
+}
+
+static double phase_ff(double u, void *vp)
+{
+    double lm, ph;
+    eval_at(vp, u, 0, &lm, &ph);
+    return ph - ((fparams *)vp)->target;
+}
+
+static double phase_exact(double u, void *vp)
+{
+    double lm, ph;
+    eval_at(vp, u, 1, &lm, &ph);
+    return ph - ((fparams *)vp)->target;
+}
+
+/* Brent's method on [lo, hi] in u = log10 f to |du| < tol. */
+static int brent(double (*fn)(double, void *), fparams *fp, double lo, double hi, double tol,
+                 double *root)
 {
     gsl_function F = { fn, fp };
     gsl_root_fsolver *s = gsl_root_fsolver_alloc(gsl_root_fsolver_brent);
@@ -107,12 +197,40 @@ static int brent(double (*fn)(double, void *), fparams *fp, double lo, double hi
             break;
         lo = gsl_root_fsolver_x_lower(s);
         hi = gsl_root_fsolver_x_upper(s);
-        if (gsl_root_test_interval(lo, hi, 1e-13, 0) == GSL_SUCCESS)
+        if (gsl_root_test_interval(lo, hi, tol, 0) == GSL_SUCCESS)
             break;
     }
     *root = gsl_root_fsolver_root(s);
     gsl_root_fsolver_free(s);
     return st == GSL_SUCCESS ? LW_OK : LW_ENUMERIC;
+}
+
+/* A root of the scanning function between grid points a and b, refined on
+ * the exact T: first on the factored form, then in a small bracket around
+ * it (widened until the exact function changes sign). |du| < 1e-13 is a
+ * relative error in f below 3e-13. Returns 1 in *approx when the exact
+ * function gave no bracket and the factored root stands. */
+static int find_root(double (*ffn)(double, void *), double (*efn)(double, void *), fparams *fp,
+                     double a, double b, double *root, int *approx)
+{
+    *approx = 0;
+    if (!fp->ff)
+        return brent(efn, fp, a, b, 1e-13, root);
+    double u0;
+    int rc = brent(ffn, fp, a, b, 1e-10, &u0);
+    if (rc)
+        return rc;
+    for (double d = 1e-9; d < 0.3; d *= 30) {
+        double lo = fmax(a, u0 - d), hi = fmin(b, u0 + d);
+        double flo = efn(lo, fp), fhi = efn(hi, fp);
+        if (isfinite(flo) && isfinite(fhi) && (flo < 0) != (fhi < 0))
+            return brent(efn, fp, lo, hi, 1e-13, root);
+        if (lo == a && hi == b)
+            break;
+    }
+    *root = u0;
+    *approx = 1;
+    return LW_OK;
 }
 
 static int cmp_double(const void *a, const void *b)
@@ -121,14 +239,15 @@ static int cmp_double(const void *a, const void *b)
     return x < y ? -1 : (x > y);
 }
 
-/* Log grid over the band plus every pole and zero frequency inside it. */
-static double *make_grid(const lg_tf *tf, double flo, double fhi, int *npts)
+/* Log grid over the band plus every pole and zero frequency inside it, and
+ * points on either side of each resonance so a narrow peak is not missed. */
+static double *make_grid(const lg_tf *tf, double flo, double fhi, int per_decade, int *npts)
 {
     double decades = log10(fhi / flo);
-    int nlog = (int)ceil(decades * MARGIN_PER_DECADE) + 1;
+    int nlog = (int)ceil(decades * per_decade) + 1;
     if (nlog < 2)
         nlog = 2;
-    int cap = nlog + 2 * (tf->npoles + tf->nzeros);
+    int cap = nlog + 5 * (tf->npoles + tf->nzeros);
     double *u = malloc(sizeof(double) * (size_t)cap);
     if (!u)
         return NULL;
@@ -138,9 +257,13 @@ static double *make_grid(const lg_tf *tf, double flo, double fhi, int *npts)
         u[n++] = ul + (uh - ul) * k / (nlog - 1);
     for (int k = 0; k < tf->npoles + tf->nzeros; k++) {
         double complex v = k < tf->npoles ? tf->poles[k] : tf->zeros[k - tf->npoles];
-        double m = cabs(v) / TWO_PI;
-        if (m > flo && m < fhi)
-            u[n++] = log10(m);
+        double m = cabs(v) / TWO_PI, q = cimag(v) != 0 ? cabs(v) / (2 * fabs(creal(v))) : 0;
+        double off[5] = { 0, 0.5, -0.5, 0.15, -0.15 };
+        for (int j = 0; j < (q > 0.5 ? 5 : 1); j++) {
+            double f = m * (1.0 + off[j] / q);
+            if (f > flo && f < fhi)
+                u[n++] = log10(f);
+        }
     }
     qsort(u, (size_t)n, sizeof *u, cmp_double);
     *npts = n;
@@ -156,13 +279,13 @@ static void add_point(margin_point *arr, int *n, double hz, double value)
 static int crossover(fparams *fp, margins *m, double ua, double ub)
 {
     double u;
-    int rc = brent(log_mag, fp, ua, ub, &u);
+    int approx, rc = find_root(log_mag_ff, log_mag_exact, fp, ua, ub, &u, &approx);
     if (rc)
         return rc;
     double mag, hz = pow(10.0, u);
     int mis = 0;
     double ph = margin_phase(fp->lg, fp->tf, hz, &mag, &mis);
-    m->mismatch += mis;
+    m->mismatch += mis + approx;
     add_point(m->cross, &m->ncross, hz, 180.0 + ph);
     return LW_OK;
 }
@@ -170,12 +293,14 @@ static int crossover(fparams *fp, margins *m, double ua, double ub)
 static int phase_crossing(fparams *fp, margins *m, double ua, double ub, double target)
 {
     double u;
+    int approx;
     fp->target = target;
-    int rc = brent(phase_offset, fp, ua, ub, &u);
+    int rc = find_root(phase_ff, phase_exact, fp, ua, ub, &u, &approx);
     if (rc)
         return rc;
     double mag, hz = pow(10.0, u);
     margin_phase(fp->lg, fp->tf, hz, &mag, NULL);
+    m->mismatch += approx;
     add_point(m->phase, &m->nphase, hz, -20.0 * log10(mag));
     return LW_OK;
 }
@@ -198,11 +323,16 @@ static int scan(fparams *fp, margins *m, const double *u, int n)
     double lm_prev = 0, ph_prev = 0;
     int above = 0, below = 0, rc = LW_OK;
     for (int k = 0; k < n && rc == LW_OK; k++) {
-        double mag;
-        int mis = 0;
-        double ph = margin_phase(fp->lg, fp->tf, pow(10.0, u[k]), &mag, &mis);
-        double lm = log(mag);
-        m->mismatch += mis;
+        double lm, ph;
+        eval_at(fp, u[k], 0, &lm, &ph);
+        if (fp->ff && k % 16 == 8) {
+            /* spot check of the factored form against the exact T */
+            double mag;
+            int mis = 0;
+            double pe = margin_phase(fp->lg, fp->tf, pow(10.0, u[k]), &mag, &mis);
+            m->mismatch += mis || fabs(log(mag) - lm) > 1e-6 * fmax(1.0, fabs(lm)) ||
+                           fabs(pe - ph) > 1e-3;
+        }
         if (!isfinite(lm))
             continue;
         above |= lm > 0;
@@ -228,15 +358,20 @@ int margins_find(lgain *lg, const lg_tf *tf, double flo, double fhi, margins *m,
     m->fmax_hz = fhi;
     m->ncross = m->nphase = m->mismatch = 0;
     m->why = CROSS_BELOW;
-    fparams fp = { lg, tf, 0 };
+    fform ff = { 0 };
+    int have_ff = tf->sign != 0 && fform_build(lg, tf, flo, fhi, &ff);
+    fparams fp = { lg, tf, have_ff ? &ff : NULL, 0 };
     int n;
-    double *u = make_grid(tf, flo, fhi, &n);
-    if (!u)
+    double *u = make_grid(tf, flo, fhi, have_ff ? MARGIN_PER_DECADE : 4 * MARGIN_PER_DECADE, &n);
+    if (!u) {
+        free(ff.f);
         return lw_error_set(err, LW_ENOMEM, "out of memory");
+    }
     gsl_error_handler_t *old = gsl_set_error_handler_off();
     int rc = tf->sign == 0 ? LW_OK : scan(&fp, m, u, n);
     gsl_set_error_handler(old);
     free(u);
+    free(ff.f);
     pick_best(m);
     if (rc == LW_ENOMEM)
         return lw_error_set(err, rc, "out of memory");

@@ -12,6 +12,8 @@ typedef struct options {
     const char *command, *file, *csv;
     const char *plot, *keep_script;   /* -o PATH, --keep-script DIR */
     int width, height, each;
+    int samples, seed_given;
+    unsigned long long seed;
     const char *tune, *within, *vary, *from, *to, *node, *cload, *density;
     int lin, gm_given;
     double gm;
@@ -27,6 +29,9 @@ int option_number(const char *name, const char *text, expr_unit unit, double *v)
 
 /* Draws fig after the text output; a failed plot turns *code into 3. */
 int cmd_polemap(const options *o, const desc *d, const check_result *r, lw_error *err);
+int cmd_corners(const options *o, desc *d, int *code, lw_error *err);
+int cmd_montecarlo(const options *o, const desc *d, const text_file *t, int *code,
+                   lw_error *err);
 int cmd_size(const options *o, desc *d, int *code, lw_error *err);
 int cmd_sweep(const options *o, desc *d, int *code, lw_error *err);
 int cmd_load(const options *o, desc *d, int *code, lw_error *err);

@@ -25,6 +25,28 @@ typedef struct desc_pos {
     int line, col;
 } desc_pos;
 
+/* A spread bound: a percentage of the nominal value, or an expression. */
+typedef struct desc_bound {
+    int is_pct;
+    double pct;
+    int expr;
+} desc_bound;
+
+/* Keep in step with spread_dist_names in desc_eval.c. */
+typedef enum { DIST_NONE, DIST_NORMAL, DIST_UNIFORM } desc_dist;
+
+/* The spread of a param: corners LO..HI, and normal SIGMA or uniform LO..HI. */
+typedef struct desc_spread {
+    int has_range;
+    desc_bound lo, hi;
+    desc_pos range_at;
+    desc_dist dist;
+    desc_bound a, b;        /* normal: a is sigma; uniform: a..b */
+    desc_pos dist_at;
+    double lo_v, hi_v;      /* after desc_eval */
+    double a_v, b_v;
+} desc_spread;
+
 typedef struct desc_param {
     char name[DESC_MAX_NAME + 1];
     desc_pos at;
@@ -32,6 +54,7 @@ typedef struct desc_param {
     int override;      /* DESC_NO_OVERRIDE, DESC_FIXED, or a --set expression handle */
     double fixed;      /* the value when override == DESC_FIXED */
     double value;      /* after desc_eval */
+    desc_spread spread;
 } desc_param;
 
 typedef struct desc_node {

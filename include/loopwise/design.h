@@ -34,6 +34,11 @@ typedef struct design_goal {
 /* 1 when the point is stable and meets the goal. */
 int design_meets(const design_point *p, design_goal g);
 
+/* Fills a design point from a finished analysis. */
+void design_point_from(const check_result *r, double value, design_point *pt);
+/* Distance to the goal: positive when met (phase and, if asked, gain margin). */
+double design_goal_distance(const design_point *p, design_goal g);
+
 /* Margins with target t set to value (desc restored afterwards). */
 int design_eval(desc *d, desc_target t, double value, const check_opts *o, design_point *pt,
                 lw_error *err);

@@ -21,4 +21,8 @@ int figure_polemap(const figure_opts *fo, const desc *d, const check_result *r, 
 int figure_margin(const figure_opts *fo, const desc *d, const char *what, const char *unit,
                   const sweep_result *s, design_goal g, int lin, lw_error *err);
 
+/* Histogram of the phase margin over Monte Carlo samples, with the target. */
+int figure_histogram(const figure_opts *fo, const desc *d, const double *pm, int n,
+                     design_goal g, lw_error *err);
+
 #endif

@@ -422,10 +422,15 @@ static void test_prefixes_outside_spec_rejected(void **state)
 
 /* SPEC 2: reserved are the keywords, gnd, inf, pi and the function names;
  * nothing else. */
+/* SPEC section 2 reserves the keywords, gnd, inf, pi and the function names;
+ * the corners issue adds the function vt and the spread words of a param line. */
 static void test_reserved_only_spec_names(void **state)
 {
     (void)state;
-    const char *names[] = { "vt", "e", "negative_x", "Pi", "INF" };
+    const char *reserved[] = { "vt", "corners", "normal", "uniform", "gnd", "pi", "inf", "sqrt" };
+    for (size_t k = 0; k < sizeof reserved / sizeof reserved[0]; k++)
+        assert_true(expr_is_reserved(reserved[k]));
+    const char *names[] = { "vtx", "e", "negative_x", "Pi", "INF" };
     for (size_t k = 0; k < sizeof names / sizeof names[0]; k++) {
         if (expr_is_reserved(names[k]))
             print_error("'%s' is reserved\n", names[k]);

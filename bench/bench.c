@@ -1,0 +1,370 @@
+/* bench: wall-clock timings of the loopwise engine on the benchmark networks,
+ * set against the numpy/scipy reference timings (bench/ref_bench.py).
+ *
+ *   build/bench/bench [--budget S] [--ref REF.json] [--sweep N=POINTS ...] FILE.loop ...
+ *
+ * For each file: (a) one full check as the command line runs it (read, parse,
+ * evaluate, stamp, check_run with owners and declared loops); (b) a sweep of
+ * the cap 'ccomp' over 0.5 pF .. 10 pF (log, target 60 degrees) with the
+ * point count given by --sweep for that node count; (c) one evaluation of T
+ * at the crossover. Each is repeated until it has taken S seconds (default
+ * 0.5) and the median per run is reported. A run longer than S is done once.
+ * No assertion is made on any time. */
+#include <complex.h>
+#include <gsl/gsl_errno.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+#include <unistd.h>
+
+#include "loopwise/design.h"
+
+#define TWO_PI 6.283185307179586
+enum { MAX_FILES = 16, MAX_REPS = 100000 };
+
+static const char *const SWEEP_CAP = "ccomp";
+static const double SWEEP_FROM = 50e-15, SWEEP_TO = 10e-12, SWEEP_PM = 60.0;
+
+static double now(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return x < y ? -1 : (x > y);
+}
+
+typedef struct timing {
+    double sec;      /* median per run; NAN when not measured */
+    int reps;
+} timing;
+
+static double median(double *t, int n)
+{
+    qsort(t, (size_t)n, sizeof *t, cmp_double);
+    return n % 2 ? t[n / 2] : 0.5 * (t[n / 2 - 1] + t[n / 2]);
+}
+
+static void die(const char *what, const lw_error *err, const char *path)
+{
+    fprintf(stderr, "bench: %s failed: ", what);
+    lw_error_print(err, path, stderr);
+    exit(3);
+}
+
+/* The command line's pipeline: text -> desc -> values -> model -> check. */
+static void full_check(const char *path, const check_opts *o, check_result *r, desc **dp,
+                       model **mp)
+{
+    lw_error err;
+    lw_error_clear(&err);
+    text_file *t = NULL;
+    desc *d = NULL;
+    model *m = NULL;
+    int rc = text_read(path, &t, &err);
+    if (!rc)
+        rc = desc_parse(t, path, &d, &err);
+    text_free(t);
+    if (!rc)
+        rc = desc_eval(d, &err);
+    if (!rc)
+        rc = model_new(d, &m, &err);
+    if (!rc)
+        rc = check_run(d, m, o, r, &err);
+    if (rc)
+        die("check", &err, path);
+    *dp = d;
+    *mp = m;
+}
+
+static double one_check(const char *path)
+{
+    check_opts o = { 0, 0, 1, 1, 0 };
+    check_result r;
+    desc *d;
+    model *m;
+    double t0 = now();
+    full_check(path, &o, &r, &d, &m);
+    check_result_free(&r);
+    model_free(m);
+    desc_free(d);
+    return now() - t0;
+}
+
+static timing time_check(const char *path, double budget)
+{
+    double *t = malloc(sizeof(double) * MAX_REPS), total = 0;
+    int n = 0;
+    while (n < MAX_REPS && (n == 0 || total < budget)) {
+        t[n] = one_check(path);
+        total += t[n++];
+    }
+    timing out = { median(t, n), n };
+    free(t);
+    return out;
+}
+
+static timing time_sweep(const char *path, int npts, double budget, int *ncross)
+{
+    check_opts o = { 0, 0, 1, 0, 0 };   /* as the sweep command: owners, no loops */
+    check_result r;
+    desc *d;
+    model *m;
+    full_check(path, &o, &r, &d, &m);
+    check_result_free(&r);
+    model_free(m);
+    lw_error err;
+    lw_error_clear(&err);
+    desc_target tg;
+    if (desc_target_find(d, SWEEP_CAP, &tg, &err))
+        die("finding the swept cap", &err, path);
+    design_goal g = { SWEEP_PM, NAN };
+    double t[64], total = 0;
+    int n = 0;
+    while (n < 64 && (n == 0 || total < budget)) {
+        sweep_result sw;
+        double t0 = now();
+        if (sweep_run(d, tg, SWEEP_FROM, SWEEP_TO, npts, 0, g, &o, &sw, &err))
+            die("sweep", &err, path);
+        t[n] = now() - t0;
+        total += t[n++];
+        *ncross = sw.ncross;
+        sweep_result_free(&sw);
+    }
+    desc_free(d);
+    return (timing){ median(t, n), n };
+}
+
+static timing time_eval(const check_result *r, double hz, double budget)
+{
+    double t[256], total = 0;
+    volatile double sink = 0;
+    int n = 0, batch = 1;
+    /* batches of calls long enough to time, 20 batches at least */
+    double t0 = now();
+    sink += creal(lgain_eval(r->lg, I * TWO_PI * hz));
+    double one = now() - t0;
+    while (batch * one < 1e-3 && batch < 1 << 20)
+        batch *= 2;
+    while (n < 256 && (n < 20 || total < budget)) {
+        t0 = now();
+        for (int k = 0; k < batch; k++)
+            sink += creal(lgain_eval(r->lg, I * TWO_PI * hz));
+        double dt = now() - t0;
+        t[n++] = dt / batch;
+        total += dt;
+    }
+    (void)sink;
+    return (timing){ median(t, n), n * batch };
+}
+
+/* ---- the reference's flat JSON: "NAME/OP/FIELD": number ---------------- */
+
+static char *slurp(const char *path)
+{
+    FILE *f = fopen(path, "rb");
+    if (!f)
+        return NULL;
+    char *buf = NULL;
+    size_t len = 0, cap = 0, got;
+    char chunk[8192];
+    while ((got = fread(chunk, 1, sizeof chunk, f)) > 0) {
+        if (len + got + 1 > cap) {
+            cap = 2 * (len + got + 1);
+            char *nb = realloc(buf, cap);
+            if (!nb) {
+                free(buf);
+                fclose(f);
+                return NULL;
+            }
+            buf = nb;
+        }
+        memcpy(buf + len, chunk, got);
+        len += got;
+    }
+    fclose(f);
+    if (buf)
+        buf[len] = 0;
+    return buf;
+}
+
+static double ref_get(const char *json, const char *name, const char *key)
+{
+    char pat[256];
+    snprintf(pat, sizeof pat, "\"%s/%s\":", name, key);
+    const char *p = json ? strstr(json, pat) : NULL;
+    if (!p)
+        return NAN;
+    p += strlen(pat);
+    while (*p == ' ')
+        p++;
+    if (!strncmp(p, "true", 4))
+        return 1;
+    if (!strncmp(p, "false", 5))
+        return 0;
+    char *end;
+    double v = strtod(p, &end);
+    return end == p ? NAN : v;
+}
+
+/* ---- output ---------------------------------------------------------------- */
+
+static void fmt_time(char *buf, size_t len, double s)
+{
+    if (isnan(s))
+        snprintf(buf, len, "-");
+    else if (s < 1e-3)
+        snprintf(buf, len, "%.3g us", s * 1e6);
+    else if (s < 1)
+        snprintf(buf, len, "%.3g ms", s * 1e3);
+    else
+        snprintf(buf, len, "%.3g s", s);
+}
+
+static void row(int n, const char *op, double units, const char *unit, timing lw, timing ref)
+{
+    char a[32], b[32], ta[32], tb[32], ratio[32];
+    fmt_time(a, sizeof a, lw.sec);
+    fmt_time(b, sizeof b, ref.sec);
+    snprintf(ta, sizeof ta, isnan(lw.sec) ? "-" : "%.3g %s/s", units / lw.sec, unit);
+    snprintf(tb, sizeof tb, isnan(ref.sec) ? "-" : "%.3g %s/s", units / ref.sec, unit);
+    if (isnan(lw.sec) || isnan(ref.sec))
+        snprintf(ratio, sizeof ratio, "-");
+    else
+        snprintf(ratio, sizeof ratio, "%.3g", ref.sec / lw.sec);
+    printf("%5d  %-16s %10s %17s %6d   %10s %17s %6d   %8s\n", n, op, a, ta, lw.reps, b, tb,
+           ref.reps, ratio);
+}
+
+/* Least-squares slope k of log t = a + k log N. */
+static double exponent(const int *n, const double *t, int m)
+{
+    double sx = 0, sy = 0, sxx = 0, sxy = 0;
+    int k = 0;
+    for (int j = 0; j < m; j++) {
+        if (!(t[j] > 0))
+            continue;
+        double x = log((double)n[j]), y = log(t[j]);
+        sx += x, sy += y, sxx += x * x, sxy += x * y, k++;
+    }
+    if (k < 2)
+        return NAN;
+    return (k * sxy - sx * sy) / (k * sxx - sx * sx);
+}
+
+int main(int argc, char **argv)
+{
+    const char *files[MAX_FILES], *ref_path = NULL;
+    int nfiles = 0, sweep_n[MAX_FILES], sweep_p[MAX_FILES], nsweeps = 0;
+    double budget = 0.5;
+    for (int k = 1; k < argc; k++) {
+        if (!strcmp(argv[k], "--budget") && k + 1 < argc)
+            budget = atof(argv[++k]);
+        else if (!strcmp(argv[k], "--ref") && k + 1 < argc)
+            ref_path = argv[++k];
+        else if (!strcmp(argv[k], "--sweep") && k + 1 < argc && nsweeps < MAX_FILES &&
+                 sscanf(argv[k + 1], "%d=%d", &sweep_n[nsweeps], &sweep_p[nsweeps]) == 2)
+            nsweeps++, k++;
+        else if (argv[k][0] != '-' && nfiles < MAX_FILES)
+            files[nfiles++] = argv[k];
+        else
+            nfiles = -1;
+        if (nfiles < 0) {
+            fprintf(stderr, "usage: bench [--budget S] [--ref REF.json] [--sweep N=POINTS ...] "
+                            "FILE.loop ...\n");
+            return 2;
+        }
+    }
+    gsl_set_error_handler_off();
+    char *json = ref_path ? slurp(ref_path) : NULL;
+    if (ref_path && !json)
+        fprintf(stderr, "bench: cannot read %s; reference columns left empty\n", ref_path);
+
+    if (nfiles == 0)
+        return fprintf(stderr, "bench: no networks given\n"), 2;
+    int sizes[MAX_FILES] = { 0 };
+    double lw_check[MAX_FILES] = { 0 }, ref_check[MAX_FILES] = { 0 };
+    char lines[MAX_FILES][200];
+    struct { timing lw, ref; int pts, ncross; double refcross; } sw[MAX_FILES];
+    timing ch[MAX_FILES][2], ev[MAX_FILES][2];
+    for (int f = 0; f < nfiles; f++) {
+        const char *path = files[f];
+        char name[128];
+        const char *base = strrchr(path, '/');
+        snprintf(name, sizeof name, "%s", base ? base + 1 : path);
+        char *dot = strrchr(name, '.');
+        if (dot)
+            *dot = 0;
+
+        fprintf(stderr, "bench: %s: check ...\n", name);
+        ch[f][0] = time_check(path, budget);
+        ch[f][1] = (timing){ ref_get(json, name, "check/s"), (int)ref_get(json, name, "check/reps") };
+
+        check_opts o = { 0, 0, 1, 1, 0 };
+        check_result r;
+        desc *d;
+        model *m;
+        full_check(path, &o, &r, &d, &m);
+        sizes[f] = m->n;
+        const margins *mg = &r.mg;
+        double hz = mg->best_cross >= 0 ? mg->cross[mg->best_cross].hz : 1e6;
+        double pm = mg->best_cross >= 0 ? mg->cross[mg->best_cross].value : NAN;
+        snprintf(lines[f], sizeof lines[f],
+                 "%5d  T(0) %-10.6g vs %-10.6g  PM %.6f vs %.6f deg  crossover %.9g vs %.9g Hz",
+                 m->n, r.tf.dc, ref_get(json, name, "dc"), pm, ref_get(json, name, "pm_deg"), hz,
+                 ref_get(json, name, "crossover_hz"));
+        fprintf(stderr, "bench: %s: eval ...\n", name);
+        ev[f][0] = time_eval(&r, hz, budget);
+        ev[f][1] = (timing){ ref_get(json, name, "eval/s"), (int)ref_get(json, name, "eval/reps") };
+        check_result_free(&r);
+        model_free(m);
+        desc_free(d);
+
+        sw[f].pts = 0;
+        for (int k = 0; k < nsweeps; k++)
+            if (sweep_n[k] == sizes[f])
+                sw[f].pts = sweep_p[k];
+        if (sw[f].pts > 1) {
+            fprintf(stderr, "bench: %s: sweep of %d points ...\n", name, sw[f].pts);
+            sw[f].lw = time_sweep(path, sw[f].pts, budget, &sw[f].ncross);
+            sw[f].ref = (timing){ ref_get(json, name, "sweep/s"),
+                                  (int)ref_get(json, name, "sweep/reps") };
+        }
+        lw_check[f] = ch[f][0].sec;
+        ref_check[f] = ch[f][1].sec;
+    }
+
+    printf("\nloopwise benchmark  (cores online: %ld; median wall time per run, "
+           "repeated until >= %.2g s)\n", sysconf(_SC_NPROCESSORS_ONLN), budget);
+    printf("ratio = reference time / loopwise time  (> 1: loopwise is faster)\n\n");
+    printf("%5s  %-16s %10s %17s %6s   %10s %17s %6s   %8s\n", "nodes", "op", "loopwise",
+           "throughput", "runs", "reference", "throughput", "runs", "ratio");
+    for (int f = 0; f < nfiles; f++) {
+        row(sizes[f], "check", 1, "check", ch[f][0], ch[f][1]);
+        if (sw[f].pts > 1) {
+            char op[32];
+            snprintf(op, sizeof op, "sweep %d pts", sw[f].pts);
+            row(sizes[f], op, sw[f].pts, "pt", sw[f].lw, sw[f].ref);
+        }
+        row(sizes[f], "T(jw) eval", 1, "eval", ev[f][0], ev[f][1]);
+    }
+    printf("\ncheck time ~ N^k, least squares over N = %d..%d:  loopwise k = %.2f,  "
+           "reference k = %.2f\n", sizes[0], sizes[nfiles - 1],
+           exponent(sizes, lw_check, nfiles), exponent(sizes, ref_check, nfiles));
+    printf("\nsame answers (loopwise vs reference):\n");
+    for (int f = 0; f < nfiles; f++)
+        printf("%s\n", lines[f]);
+    for (int f = 0; f < nfiles; f++)
+        if (sw[f].pts > 1)
+            printf("%5d  sweep of %s over %.3g..%.3g F: %d crossing(s) of %g deg found "
+                   "(root-refined, included in the time)\n", sizes[f], SWEEP_CAP, SWEEP_FROM,
+                   SWEEP_TO, sw[f].ncross, SWEEP_PM);
+    free(json);
+    return 0;
+}

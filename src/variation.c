@@ -1,0 +1,384 @@
+/* variation: corners and Monte Carlo on top of check. */
+#include "loopwise/variation.h"
+
+#include <gsl/gsl_cdf.h>
+#include <gsl/gsl_errno.h>
+#include <gsl/gsl_randist.h>
+#include <gsl/gsl_rng.h>
+#include <gsl/gsl_sort.h>
+#include <gsl/gsl_statistics.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+#ifdef _OPENMP
+#include <omp.h>
+#endif
+
+/* Sets params[j] = vals[j] (overrides), evaluates and analyses; restores the
+ * overrides. *valid is 0 when the values are not allowed (the error says why). */
+static int eval_at(desc *d, int np, const int *params, const double *vals, const check_opts *o,
+                   design_point *pt, int *valid, lw_error *err)
+{
+    desc_saved saved[64];
+    desc_saved *sv = np <= 64 ? saved : malloc(sizeof *sv * (size_t)np);
+    if (!sv)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    for (int j = 0; j < np; j++) {
+        desc_target t = { TARGET_PARAM, params[j] };
+        sv[j] = desc_target_save(d, t);
+        desc_target_set(d, t, vals[j], err);
+    }
+    model *m = NULL;
+    check_result r;
+    int rc = desc_eval(d, err);
+    *valid = rc == LW_OK;
+    if (rc == LW_EINPUT)
+        rc = LW_OK; /* a sampled value out of range is a failed sample, not a failed run */
+    else if (!rc && !(rc = model_new(d, &m, err)) && !(rc = check_run(d, m, o, &r, err))) {
+        design_point_from(&r, 0, pt);
+        check_result_free(&r);
+    }
+    model_free(m);
+    for (int j = 0; j < np; j++)
+        desc_target_restore(d, (desc_target){ TARGET_PARAM, params[j] }, sv[j]);
+    if (sv != saved)
+        free(sv);
+    return rc;
+}
+
+/* ---- corners ------------------------------------------------------------- */
+
+void corner_result_free(corner_result *r)
+{
+    if (!r)
+        return;
+    free(r->params);
+    free(r->values);
+    free(r->pts);
+    free(r->order);
+    memset(r, 0, sizeof *r);
+}
+
+typedef struct ranked {
+    double dist;
+    int index;
+} ranked;
+
+/* Worst first: smallest distance to the goal (undefined margins count as worst). */
+static int cmp_ranked(const void *a, const void *b)
+{
+    const ranked *x = a, *y = b;
+    if (x->dist != y->dist)
+        return x->dist < y->dist ? -1 : 1;
+    return x->index - y->index;
+}
+
+static int rank_corners(corner_result *r, design_goal g, lw_error *err)
+{
+    ranked *rk = malloc(sizeof *rk * (size_t)r->ncorners);
+    if (!rk)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    for (int c = 0; c < r->ncorners; c++)
+        rk[c] = (ranked){ design_goal_distance(&r->pts[c], g), c };
+    qsort(rk, (size_t)r->ncorners, sizeof *rk, cmp_ranked);
+    for (int c = 0; c < r->ncorners; c++)
+        r->order[c] = rk[c].index;
+    free(rk);
+    return LW_OK;
+}
+
+int corners_run(desc *d, const check_opts *o, design_goal g, corner_result *r, lw_error *err)
+{
+    memset(r, 0, sizeof *r);
+    int np = 0;
+    for (int k = 0; k < d->nparams; k++)
+        np += d->params[k].spread.has_range;
+    if (np == 0)
+        return lw_error_set(err, LW_EINPUT, "no param carries a corner range; add "
+                            "'corners LO..HI' to a param line, e.g. 'param temp = 300 corners "
+                            "233..398'");
+    if (np > 12)
+        return lw_error_set(err, LW_EINPUT, "%d params with corner ranges give 2^%d corners, "
+                            "more than the limit of %d; keep ranges on the 12 that matter most, "
+                            "or use 'montecarlo'", np, np, CORNERS_MAX);
+    int nc = 1 << np;
+    r->params = malloc(sizeof(int) * (size_t)np);
+    r->values = malloc(sizeof(double) * (size_t)(nc * np));
+    r->pts = calloc((size_t)nc, sizeof *r->pts);
+    r->order = malloc(sizeof(int) * (size_t)nc);
+    if (!r->params || !r->values || !r->pts || !r->order) {
+        corner_result_free(r);
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    }
+    r->nparams = np;
+    r->ncorners = nc;
+    for (int k = 0, j = 0; k < d->nparams; k++)
+        if (d->params[k].spread.has_range)
+            r->params[j++] = k;
+    /* the ends are taken once: evaluating a corner re-evaluates the spreads */
+    double ends[2][12];
+    for (int j = 0; j < np; j++) {
+        ends[0][j] = d->params[r->params[j]].spread.lo_v;
+        ends[1][j] = d->params[r->params[j]].spread.hi_v;
+    }
+    gsl_error_handler_t *old = gsl_set_error_handler_off();
+    int rc = LW_OK;
+    for (int c = 0; c < nc && !rc; c++) {
+        double *v = r->values + c * np;
+        for (int j = 0; j < np; j++)
+            v[j] = ends[(c >> (np - 1 - j)) & 1][j];
+        int valid;
+        rc = eval_at(d, np, r->params, v, o, &r->pts[c], &valid, err);
+        if (!rc && !valid) {
+            char msg[LW_MSG_MAX];
+            snprintf(msg, sizeof msg, "%.600s", err->msg);
+            rc = lw_error_set(err, LW_EINPUT, "corner %d gives a value that is not allowed: %s",
+                              c + 1, msg);
+        }
+        r->order[c] = c;
+    }
+    gsl_set_error_handler(old);
+    desc_eval(d, err);
+    if (rc) {
+        corner_result_free(r);
+        return rc;
+    }
+    if ((rc = rank_corners(r, g, err)))
+        corner_result_free(r);
+    return rc;
+}
+
+/* ---- Monte Carlo -------------------------------------------------------- */
+
+void mc_result_free(mc_result *r)
+{
+    if (!r)
+        return;
+    free(r->params);
+    free(r->values);
+    free(r->pts);
+    free(r->valid);
+    memset(r, 0, sizeof *r);
+}
+
+/* splitmix64 (Steele, Lea and Flood 2014): decorrelates (seed, index). */
+static uint64_t mix(uint64_t x)
+{
+    x += 0x9e3779b97f4a7c15ull;
+    x = (x ^ (x >> 30)) * 0xbf58476d1ce4e5b9ull;
+    x = (x ^ (x >> 27)) * 0x94d049bb133111ebull;
+    return x ^ (x >> 31);
+}
+
+void mc_clopper_pearson(int x, int n, double alpha, double *lo, double *hi, double *lower1)
+{
+    /* Clopper and Pearson (1934): the bounds are beta quantiles. */
+    *lo = x == 0 ? 0.0 : gsl_cdf_beta_Pinv(alpha / 2, x, n - x + 1);
+    *hi = x == n ? 1.0 : gsl_cdf_beta_Pinv(1 - alpha / 2, x + 1, n - x);
+    *lower1 = x == 0 ? 0.0 : gsl_cdf_beta_Pinv(alpha, x, n - x + 1);
+}
+
+static int load_copy(const text_file *t, const char *path, const char *const *sets, int nsets,
+                     desc **d, lw_error *err)
+{
+    int rc = desc_parse(t, path, d, err);
+    for (int k = 0; !rc && k < nsets; k++)
+        rc = desc_set(*d, sets[k], err);
+    if (!rc)
+        rc = desc_eval(*d, err);
+    return rc;
+}
+
+/* The distribution of each varied param, taken from the nominal evaluation
+ * (evaluating a sample changes the desc's own values). */
+typedef struct mc_dist {
+    desc_dist kind;
+    double centre, a, b;
+} mc_dist;
+
+static void draw(const mc_dist *dist, int np, gsl_rng *rng, double *v)
+{
+    for (int j = 0; j < np; j++)
+        v[j] = dist[j].kind == DIST_NORMAL ? dist[j].centre + gsl_ran_gaussian(rng, dist[j].a)
+                                           : gsl_ran_flat(rng, dist[j].a, dist[j].b);
+}
+
+static void stats_of(double *x, int n, mc_stats *s)
+{
+    memset(s, 0, sizeof *s);
+    s->n = n;
+    if (n == 0) {
+        s->mean = s->sigma = s->min = s->max = NAN;
+        s->p1 = s->p5 = s->p50 = s->p95 = s->p99 = NAN;
+        return;
+    }
+    gsl_sort(x, 1, (size_t)n);
+    s->mean = gsl_stats_mean(x, 1, (size_t)n);
+    s->sigma = n > 1 ? gsl_stats_sd_m(x, 1, (size_t)n, s->mean) : 0.0;
+    s->min = x[0];
+    s->max = x[n - 1];
+    s->p1 = gsl_stats_quantile_from_sorted_data(x, 1, (size_t)n, 0.01);
+    s->p5 = gsl_stats_quantile_from_sorted_data(x, 1, (size_t)n, 0.05);
+    s->p50 = gsl_stats_quantile_from_sorted_data(x, 1, (size_t)n, 0.50);
+    s->p95 = gsl_stats_quantile_from_sorted_data(x, 1, (size_t)n, 0.95);
+    s->p99 = gsl_stats_quantile_from_sorted_data(x, 1, (size_t)n, 0.99);
+}
+
+static int summarise(mc_result *r, design_goal g, lw_error *err)
+{
+    int n = r->nsamples;
+    double *x = malloc(sizeof(double) * (size_t)(n + 1));
+    if (!x)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    int m;
+    r->passes = r->invalid = 0;
+    r->worst = -1;
+    double worstd = INFINITY;
+    for (int i = 0; i < n; i++) {
+        if (!r->valid[i]) {
+            r->invalid++;
+            continue;
+        }
+        r->passes += design_meets(&r->pts[i], g);
+        double dist = design_goal_distance(&r->pts[i], g);
+        if (dist < worstd) {
+            worstd = dist;
+            r->worst = i;
+        }
+    }
+    m = 0;
+    for (int i = 0; i < n; i++)
+        if (r->valid[i] && !isnan(r->pts[i].pm_deg))
+            x[m++] = r->pts[i].pm_deg;
+    stats_of(x, m, &r->pm);
+    m = 0;
+    for (int i = 0; i < n; i++)
+        if (r->valid[i] && !isnan(r->pts[i].gm_db))
+            x[m++] = r->pts[i].gm_db;
+    stats_of(x, m, &r->gm);
+    m = 0;
+    for (int i = 0; i < n; i++)
+        if (r->valid[i] && !isnan(r->pts[i].crossover_hz))
+            x[m++] = r->pts[i].crossover_hz;
+    stats_of(x, m, &r->fc);
+    free(x);
+    r->yield = (double)r->passes / n;
+    mc_clopper_pearson(r->passes, n, 0.05, &r->ci_lo, &r->ci_hi, &r->lower95);
+    return LW_OK;
+}
+
+static int mc_setup(const desc *d, int nsamples, mc_result *r, lw_error *err)
+{
+    int np = 0;
+    for (int k = 0; k < d->nparams; k++)
+        np += d->params[k].spread.dist != DIST_NONE;
+    if (np == 0)
+        return lw_error_set(err, LW_EINPUT, "no param carries a distribution; add 'normal "
+                            "SIGMA' or 'uniform LO..HI' to a param line, e.g. 'param ib = 10u "
+                            "normal 2%%'");
+    r->nsamples = nsamples;
+    r->nparams = np;
+    r->params = malloc(sizeof(int) * (size_t)np);
+    r->values = malloc(sizeof(double) * (size_t)nsamples * (size_t)np);
+    r->pts = calloc((size_t)nsamples, sizeof *r->pts);
+    r->valid = calloc((size_t)nsamples, 1);
+    if (!r->params || !r->values || !r->pts || !r->valid)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    for (int k = 0, j = 0; k < d->nparams; k++)
+        if (d->params[k].spread.dist != DIST_NONE)
+            r->params[j++] = k;
+    return LW_OK;
+}
+
+int montecarlo_run(const text_file *t, const char *path, const char *const *sets, int nsets,
+                   int nsamples, uint64_t seed, design_goal g, const check_opts *o,
+                   FILE *progress, mc_result *r, lw_error *err)
+{
+    memset(r, 0, sizeof *r);
+    if (nsamples < 1 || nsamples > MC_MAX_SAMPLES)
+        return lw_error_set(err, LW_EINPUT, "--samples %d: expected 1 to %d samples", nsamples,
+                            MC_MAX_SAMPLES);
+    desc *d0;
+    mc_dist *dist = NULL;
+    int rc = load_copy(t, path, sets, nsets, &d0, err);
+    if (!rc)
+        rc = mc_setup(d0, nsamples, r, err);
+    if (!rc && !(dist = malloc(sizeof *dist * (size_t)r->nparams)))
+        rc = lw_error_set(err, LW_ENOMEM, "out of memory");
+    for (int j = 0; !rc && j < r->nparams; j++) {
+        const desc_param *p = &d0->params[r->params[j]];
+        dist[j] = (mc_dist){ p->spread.dist, p->value, p->spread.a_v, p->spread.b_v };
+    }
+    desc_free(d0);
+    if (rc) {
+        free(dist);
+        mc_result_free(r);
+        return rc;
+    }
+    gsl_error_handler_t *old = gsl_set_error_handler_off();
+    int failed = 0, done = 0;
+    lw_error first;
+    lw_error_clear(&first);
+    #pragma omp parallel
+    {
+        desc *d = NULL;
+        lw_error e;
+        lw_error_clear(&e);
+        gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+        int mine = rng && load_copy(t, path, sets, nsets, &d, &e) == LW_OK;
+        #pragma omp for schedule(dynamic, 64)
+        for (int i = 0; i < nsamples; i++) {
+            int bad;
+            #pragma omp atomic read
+            bad = failed;
+            if (bad || !mine)
+                continue;
+            double *v = r->values + (size_t)i * (size_t)r->nparams;
+            int valid;
+            gsl_rng_set(rng, (unsigned long)mix(seed ^ mix((uint64_t)i)));
+            draw(dist, r->nparams, rng, v);
+            if (eval_at(d, r->nparams, r->params, v, o, &r->pts[i], &valid, &e) != LW_OK) {
+                #pragma omp critical
+                {
+                    if (!failed)
+                        first = e;
+                    failed = 1;
+                }
+            }
+            r->valid[i] = (unsigned char)valid;
+            int k;
+            #pragma omp atomic capture
+            k = ++done;
+            if (progress && k % 2000 == 0) {
+                #pragma omp critical
+                {
+                    fprintf(progress, "\rmontecarlo: %d of %d samples", k, nsamples);
+                    fflush(progress);
+                }
+            }
+        }
+        if (!mine) {
+            #pragma omp critical
+            {
+                if (!failed)
+                    first = e;
+                failed = 1;
+            }
+        }
+        desc_free(d);
+        gsl_rng_free(rng);
+    }
+    gsl_set_error_handler(old);
+    free(dist);
+    if (progress)
+        fprintf(progress, "\r%60s\r", "");
+    if (failed) {
+        *err = first;
+        mc_result_free(r);
+        return LW_ENUMERIC;
+    }
+    if ((rc = summarise(r, g, err)))
+        mc_result_free(r);
+    return rc;
+}
