@@ -9,6 +9,7 @@
 
 #define TWO_PI 6.283185307179586
 #define DEG (180.0 / 3.14159265358979323846)
+#define M_LN2_ 0.69314718055994530942
 
 /* arg(1 - jw/r) in degrees: continuous in w for every r off the jw axis. */
 static double factor_arg(double w, double complex r)
@@ -96,15 +97,32 @@ static int fform_add(fform *ff, double complex r, double sign)
     return 0;
 }
 
+/* The magnitudes are multiplied (one log at the end), renormalised with
+ * frexp so that hundreds of factors cannot overflow. */
 static void fform_eval(const fform *ff, double w, double *logmag, double *phase)
 {
-    double lm = ff->logk + ff->origin * log(w), ph = 0;
+    double num = 1, den = 1, ph = 0;
+    int enum_ = 0, eden = 0;
     for (int k = 0; k < ff->n; k++) {
-        double re = 1.0 - w * ff->f[k].c1, im = -w * ff->f[k].c2;
-        lm += ff->f[k].sign * 0.5 * log(re * re + im * im);
-        ph += ff->f[k].sign * atan2(im, re);
+        double re = 1.0 - w * ff->f[k].c1, im = -w * ff->f[k].c2, m2 = re * re + im * im;
+        /* a real root keeps re = 1: atan is enough */
+        double a = ff->f[k].c1 == 0 ? atan(im) : atan2(im, re);
+        if (ff->f[k].sign > 0) {
+            num *= m2;
+            ph += a;
+        } else {
+            den *= m2;
+            ph -= a;
+        }
+        if ((k & 7) == 7) {
+            int e;
+            num = frexp(num, &e);
+            enum_ += e;
+            den = frexp(den, &e);
+            eden += e;
+        }
     }
-    *logmag = lm;
+    *logmag = ff->logk + ff->origin * log(w) + 0.5 * (log(num / den) + (enum_ - eden) * M_LN2_);
     *phase = ff->anchor + ph * DEG;
 }
 
@@ -220,6 +238,22 @@ static int find_root(double (*ffn)(double, void *), double (*efn)(double, void *
     int rc = brent(ffn, fp, a, b, 1e-10, &u0);
     if (rc)
         return rc;
+    /* secant steps on the exact function from the factored root: it is
+     * usually right to a few units in 1e-12 already */
+    double x0 = u0, f0 = efn(x0, fp), x1 = u0 + 1e-8, f1 = efn(x1, fp);
+    for (int it = 0; it < 4 && isfinite(f0) && isfinite(f1) && f1 != f0; it++) {
+        double x2 = x1 - f1 * (x1 - x0) / (f1 - f0);
+        if (!(x2 > a && x2 < b) || fabs(x2 - u0) > 1e-3)
+            break;
+        if (fabs(x2 - x1) < 1e-13) {
+            *root = x2;
+            return LW_OK;
+        }
+        x0 = x1;
+        f0 = f1;
+        x1 = x2;
+        f1 = efn(x1, fp);
+    }
     for (double d = 1e-9; d < 0.3; d *= 30) {
         double lo = fmax(a, u0 - d), hi = fmin(b, u0 + d);
         double flo = efn(lo, fp), fhi = efn(hi, fp);
@@ -240,21 +274,38 @@ static int cmp_double(const void *a, const void *b)
 }
 
 /* Log grid over the band plus every pole and zero frequency inside it, and
- * points on either side of each resonance so a narrow peak is not missed. */
+ * points on either side of each resonance so a narrow peak is not missed.
+ * Beyond a decade outside the poles and zeros T is a plain power of f, so
+ * the grid there is sparse. */
 static double *make_grid(const lg_tf *tf, double flo, double fhi, int per_decade, int *npts)
 {
-    double decades = log10(fhi / flo);
-    int nlog = (int)ceil(decades * per_decade) + 1;
-    if (nlog < 2)
-        nlog = 2;
-    int cap = nlog + 5 * (tf->npoles + tf->nzeros);
+    double slo = INFINITY, shi = 0;
+    for (int k = 0; k < tf->npoles + tf->nzeros; k++) {
+        double complex v = k < tf->npoles ? tf->poles[k] : tf->zeros[k - tf->npoles];
+        if (v != 0 && (k >= tf->npoles || !tf->hidden[k])) {
+            slo = fmin(slo, cabs(v) / TWO_PI / 10);
+            shi = fmax(shi, cabs(v) / TWO_PI * 10);
+        }
+    }
+    double ul = log10(flo), uh = log10(fhi);
+    double il = isfinite(slo) ? fmax(ul, log10(slo)) : ul, ih = shi > 0 ? fmin(uh, log10(shi)) : uh;
+    if (!(ih > il)) {
+        il = ul;
+        ih = uh;
+    }
+    int nin = (int)ceil((ih - il) * per_decade) + 1, nlo = (int)ceil((il - ul) * 3) + 1,
+        nhi = (int)ceil((uh - ih) * 3) + 1;
+    int cap = nin + nlo + nhi + 5 * (tf->npoles + tf->nzeros);
     double *u = malloc(sizeof(double) * (size_t)cap);
     if (!u)
         return NULL;
     int n = 0;
-    double ul = log10(flo), uh = log10(fhi);
-    for (int k = 0; k < nlog; k++)
-        u[n++] = ul + (uh - ul) * k / (nlog - 1);
+    for (int k = 0; k < nlo; k++)
+        u[n++] = ul + (il - ul) * k / (nlo > 1 ? nlo - 1 : 1);
+    for (int k = 0; k < nin; k++)
+        u[n++] = il + (ih - il) * k / (nin > 1 ? nin - 1 : 1);
+    for (int k = 0; k < nhi; k++)
+        u[n++] = ih + (uh - ih) * k / (nhi > 1 ? nhi - 1 : 1);
     for (int k = 0; k < tf->npoles + tf->nzeros; k++) {
         double complex v = k < tf->npoles ? tf->poles[k] : tf->zeros[k - tf->npoles];
         double m = cabs(v) / TWO_PI, q = cimag(v) != 0 ? cabs(v) / (2 * fabs(creal(v))) : 0;
@@ -325,7 +376,7 @@ static int scan(fparams *fp, margins *m, const double *u, int n)
     for (int k = 0; k < n && rc == LW_OK; k++) {
         double lm, ph;
         eval_at(fp, u[k], 0, &lm, &ph);
-        if (fp->ff && k % 16 == 8) {
+        if (fp->ff && (k == n / 4 || k == n / 2 || k == 3 * n / 4)) {
             /* spot check of the factored form against the exact T */
             double mag;
             int mis = 0;

@@ -316,7 +316,21 @@ int pencil_eigen(const pencil *p, const double *C, double complex *eig, int *own
     }
     gsl_matrix_memcpy(A, p->M);
     gsl_eigen_nonsymmv_params(1, w);
-    if (gsl_eigen_nonsymmv(A, ev, evec, w) != GSL_SUCCESS) {
+    int st;
+    if (owner) {
+        st = gsl_eigen_nonsymmv(A, ev, evec, w);
+    } else {
+        /* values only: the Schur vectors are not needed */
+        gsl_eigen_nonsymm_workspace *wv = gsl_eigen_nonsymm_alloc((size_t)r);
+        if (!wv) {
+            rc = lw_error_set(err, LW_ENOMEM, "out of memory");
+            goto done;
+        }
+        gsl_eigen_nonsymm_params(0, 1, wv);
+        st = gsl_eigen_nonsymm(A, ev, wv);
+        gsl_eigen_nonsymm_free(wv);
+    }
+    if (st != GSL_SUCCESS) {
         rc = lw_error_set(err, LW_ENUMERIC, "the eigenvalue iteration for the poles did not "
                           "converge");
         goto done;

@@ -12,7 +12,7 @@
 
 #include "loopwise/loopgain.h"
 
-enum { MARGIN_MAX_POINTS = 64, MARGIN_PER_DECADE = 16 };
+enum { MARGIN_MAX_POINTS = 64, MARGIN_PER_DECADE = 10 };
 
 typedef struct margin_point {
     double hz;
