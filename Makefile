@@ -73,6 +73,7 @@ unit: $(TEST_BIN)
 
 golden: $(LW_BIN)
 	@sh tests/golden/run.sh ./$(LW_BIN)
+	@sh tests/golden/variation.sh ./$(LW_BIN)
 
 reference: loopwise
 	@$(PYTHON) tests/ref/numpy_ref.py --selftest
