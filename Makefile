@@ -93,6 +93,8 @@ demo: all
 	./loopwise polemap cases/refcore.loop -o plots/refcore-polemap.png
 	./loopwise sweep cases/refcore.loop --vary rser --from 540 --to 54k -o plots/refcore-sweep-rser.png >/dev/null; test $$? -le 1
 	./loopwise load cases/refcore.loop --node brb --cload 0.1p..10p -o plots/refcore-load-brb.png >/dev/null; test $$? -le 1
+	./loopwise corners cases/refcore.loop; test $$? -le 1
+	./loopwise montecarlo cases/refcore.loop --samples 20000 --seed 1 -o plots/refcore-montecarlo.png
 	@echo "plots written to plots/"
 
 install: all

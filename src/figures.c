@@ -314,8 +314,8 @@ int figure_histogram(const figure_opts *fo, const desc *d, const double *pm, int
         lo = fmin(lo, pm[k]);
         hi = fmax(hi, pm[k]);
     }
-    lo = fmin(lo, g.pm_deg);
-    hi = fmax(hi, g.pm_deg);
+    /* bins over the data; the axis also reaches the target */
+    double xlo = fmin(lo, g.pm_deg), xhi = fmax(hi, g.pm_deg), pad = 0.03 * (xhi - xlo + 1e-9);
     int nb = 60;
     double w = hi > lo ? (hi - lo) / nb : 1.0;
     int counts[61] = { 0 };
@@ -335,6 +335,7 @@ int figure_histogram(const figure_opts *fo, const desc *d, const double *pm, int
     snprintf(extra, sizeof extra, "%d samples", n);
     style(s);
     title(s, "Phase margin spread", d, extra);
+    fprintf(s, "set xrange [%.10g:%.10g]\n", xlo - pad, xhi + pad);
     fprintf(s, "set xlabel 'phase margin (degrees)'\nset ylabel 'samples'\nset boxwidth %.10g\n"
             "set style fill solid 0.55 border lc rgb '%s'\nset yrange [0:*]\n"
             "set arrow from %.10g, graph 0 to %.10g, graph 1 nohead lc rgb '%s' lw 2 dt 2\n"
