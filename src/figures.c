@@ -339,9 +339,10 @@ int figure_histogram(const figure_opts *fo, const desc *d, const double *pm, int
     fprintf(s, "set xlabel 'phase margin (degrees)'\nset ylabel 'samples'\nset boxwidth %.10g\n"
             "set style fill solid 0.55 border lc rgb '%s'\nset yrange [0:*]\n"
             "set arrow from %.10g, graph 0 to %.10g, graph 1 nohead lc rgb '%s' lw 2 dt 2\n"
-            "set label 'target %.4g\xC2\xB0' at %.10g, graph 0.95 offset 0.5,0 tc rgb '%s'\n",
-            w * 0.9, PLOT_INK, g.pm_deg, g.pm_deg, PLOT_ACCENT, g.pm_deg, g.pm_deg, PLOT_ACCENT);
-    fprintf(s, "plot '%s' using 1:2 with boxes lc rgb '%s' title 'samples per bin'\n",
+            "set label 'target %.4g\xC2\xB0' at %.10g, graph 0.95 %s tc rgb '%s'\n",
+            w * 0.9, PLOT_INK, g.pm_deg, g.pm_deg, PLOT_ACCENT, g.pm_deg, g.pm_deg,
+            g.pm_deg > hi ? "right offset -0.5,0" : "left offset 0.5,0", PLOT_ACCENT);
+    fprintf(s, "set key top left\nplot '%s' using 1:2 with boxes lc rgb '%s' title 'samples per bin'\n",
             plot_path(job, "hist.dat"), PLOT_INK);
     return plot_finish(job, fo->keep_dir, err);
 }
