@@ -13,6 +13,8 @@
 struct lgain {
     int n, in, out;
     double gain;              /* -g d_in d_out */
+    pencil *p;                /* the reduction of Y0, shared with lg_tf_analyse */
+    pencil_hess *h;           /* O(rank^2) evaluation */
     double *Gs, *Cs;          /* D G0 D and D C D */
     gsl_matrix_complex *Y;
     gsl_permutation *perm;
@@ -23,6 +25,8 @@ void lgain_free(lgain *lg)
 {
     if (!lg)
         return;
+    pencil_hess_free(lg->h);
+    pencil_free(lg->p);
     free(lg->Gs);
     free(lg->Cs);
     gsl_matrix_complex_free(lg->Y);
@@ -69,11 +73,25 @@ int lgain_new(int n, const double *G0, const double *C, int in, int out, double 
         }
     lg->gain = -g * d[in] * d[out];
     free(d);
+    int rc = pencil_new(n, G0, C, &lg->p, err);
+    if (!rc)
+        rc = pencil_hess_new(lg->p, in, out, &lg->h, err);
+    if (rc) {
+        lgain_free(lg);
+        return rc;
+    }
     *out_lg = lg;
     return LW_OK;
 }
 
 double complex lgain_eval(lgain *lg, double complex s)
+{
+    if (lg->gain == 0)
+        return 0;
+    return lg->gain * pencil_hess_eval(lg->h, s);
+}
+
+double complex lgain_eval_full(lgain *lg, double complex s)
 {
     int n = lg->n, sig;
     if (lg->gain == 0)
@@ -396,11 +414,8 @@ int lg_tf_analyse(int n, const double *G0, const double *C, lgain *lg, int in, i
                   int want_owner, lg_tf *tf, lw_error *err)
 {
     memset(tf, 0, sizeof *tf);
-    pencil *p;
-    int rc = pencil_new(n, G0, C, &p, err);
-    if (rc)
-        return rc;
-    rc = open_loop_poles(n, G0, C, want_owner, p, tf, err);
+    pencil *p = lg->p;
+    int rc = open_loop_poles(n, G0, C, want_owner, p, tf, err);
     if (!rc && lg->gain == 0) {
         /* the break is switched off: T is identically zero */
         tf->sign = 0;
@@ -410,7 +425,6 @@ int lg_tf_analyse(int n, const double *G0, const double *C, lgain *lg, int in, i
         if (!rc)
             low_frequency(lg, tf);
     }
-    pencil_free(p);
     if (rc)
         lg_tf_free(tf);
     return rc;

@@ -376,13 +376,18 @@ static int scan(fparams *fp, margins *m, const double *u, int n)
     for (int k = 0; k < n && rc == LW_OK; k++) {
         double lm, ph;
         eval_at(fp, u[k], 0, &lm, &ph);
-        if (fp->ff && (k == n / 4 || k == n / 2 || k == 3 * n / 4)) {
-            /* spot check of the factored form against the exact T */
-            double mag;
+        if (k == n / 4 || k == n / 2 || k == 3 * n / 4) {
+            /* spot checks: the factored form against the fast exact T, and
+             * the fast T against an LU factorization of the whole network */
+            double mag, hz = pow(10.0, u[k]);
             int mis = 0;
-            double pe = margin_phase(fp->lg, fp->tf, pow(10.0, u[k]), &mag, &mis);
-            m->mismatch += mis || fabs(log(mag) - lm) > 1e-6 * fmax(1.0, fabs(lm)) ||
-                           fabs(pe - ph) > 1e-3;
+            double pe = margin_phase(fp->lg, fp->tf, hz, &mag, &mis);
+            double complex tf_ = lgain_eval(fp->lg, I * TWO_PI * hz);
+            double complex tl = lgain_eval_full(fp->lg, I * TWO_PI * hz);
+            m->mismatch += mis || !(cabs(tf_ - tl) <= 1e-7 * cabs(tl));
+            if (fp->ff)
+                m->mismatch += fabs(log(mag) - lm) > 1e-6 * fmax(1.0, fabs(lm)) ||
+                               fabs(pe - ph) > 1e-3;
         }
         if (!isfinite(lm))
             continue;

@@ -441,3 +441,135 @@ done:
     gsl_eigen_gen_free(w);
     return rc;
 }
+
+/* ---- O(rank^2) evaluation through the Hessenberg form ------------------------ */
+
+struct pencil_hess {
+    int r;
+    double *H;             /* r x r upper Hessenberg, row-major */
+    double *b, *c;
+    double d0;
+    double complex *work;  /* r x r + r */
+};
+
+void pencil_hess_free(pencil_hess *h)
+{
+    if (!h)
+        return;
+    free(h->H);
+    free(h->b);
+    free(h->work);
+    free(h);
+}
+
+double pencil_scale(const pencil *p, int k)
+{
+    return p->d[k];
+}
+
+int pencil_hess_new(const pencil *p, int i, int o, pencil_hess **out, lw_error *err)
+{
+    *out = NULL;
+    int r = p->r, rc = LW_OK;
+    pencil_hess *h = calloc(1, sizeof *h);
+    if (!h)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    h->r = r;
+    h->H = malloc(sizeof(double) * (size_t)(r * r + 1));
+    h->b = malloc(sizeof(double) * (size_t)(2 * r + 2));
+    h->work = malloc(sizeof(double complex) * (size_t)(r * r + r + 1));
+    gsl_matrix *A = r ? gsl_matrix_alloc((size_t)r, (size_t)r) : NULL;
+    gsl_matrix *U = r ? gsl_matrix_alloc((size_t)r, (size_t)r) : NULL;
+    gsl_vector *tau = r ? gsl_vector_alloc((size_t)r) : NULL;
+    if (!h->H || !h->b || !h->work || (r && (!A || !U || !tau))) {
+        rc = lw_error_set(err, LW_ENOMEM, "out of memory");
+        goto done;
+    }
+    h->c = h->b + r + 1;
+    double *b0 = malloc(sizeof(double) * (size_t)(2 * r + 2));
+    if (!b0) {
+        rc = lw_error_set(err, LW_ENOMEM, "out of memory");
+        goto done;
+    }
+    h->d0 = r || p->m ? io_vectors(p, i, o, b0, b0 + r + 1) : 0;
+    if (r > 0) {
+        gsl_matrix_memcpy(A, p->M);
+        if (gsl_linalg_hessenberg_decomp(A, tau) != GSL_SUCCESS ||
+            gsl_linalg_hessenberg_unpack(A, tau, U) != GSL_SUCCESS) {
+            free(b0);
+            rc = lw_error_set(err, LW_ENUMERIC, "Hessenberg reduction failed");
+            goto done;
+        }
+        gsl_linalg_hessenberg_set_zero(A);
+        for (int a = 0; a < r; a++) {
+            double sb = 0, sc = 0;
+            for (int k = 0; k < r; k++) {
+                sb += gsl_matrix_get(U, (size_t)k, (size_t)a) * b0[k];
+                sc += gsl_matrix_get(U, (size_t)k, (size_t)a) * b0[r + 1 + k];
+                h->H[a * r + k] = gsl_matrix_get(A, (size_t)a, (size_t)k);
+            }
+            h->b[a] = sb;
+            h->c[a] = sc;
+        }
+    }
+    free(b0);
+done:
+    gsl_matrix_free(A);
+    gsl_matrix_free(U);
+    gsl_vector_free(tau);
+    if (rc) {
+        pencil_hess_free(h);
+        return rc;
+    }
+    *out = h;
+    return LW_OK;
+}
+
+/* Gaussian elimination of the Hessenberg system (sI - H) x = b: each column
+ * has one entry below the diagonal, so each step compares two rows and
+ * swaps them when the lower one is larger (partial pivoting). O(r^2). */
+double complex pencil_hess_eval(pencil_hess *h, double complex s)
+{
+    int r = h->r;
+    if (r == 0)
+        return h->d0;
+    double complex *A = h->work, *x = h->work + r * r;
+    for (int a = 0; a < r; a++) {
+        for (int k = 0; k < r; k++)
+            A[a * r + k] = -h->H[a * r + k];
+        A[a * r + a] += s;
+        x[a] = h->b[a];
+    }
+    for (int k = 0; k < r - 1; k++) {
+        double complex *rk = A + k * r, *rn = A + (k + 1) * r;
+        if (cabs(rn[k]) > cabs(rk[k])) {
+            for (int j = k; j < r; j++) {
+                double complex t = rk[j];
+                rk[j] = rn[j];
+                rn[j] = t;
+            }
+            double complex t = x[k];
+            x[k] = x[k + 1];
+            x[k + 1] = t;
+        }
+        if (rk[k] == 0)
+            return NAN;
+        double complex f = rn[k] / rk[k];
+        if (f != 0) {
+            for (int j = k + 1; j < r; j++)
+                rn[j] -= f * rk[j];
+            x[k + 1] -= f * x[k];
+        }
+    }
+    double complex sum = 0;
+    for (int k = r - 1; k >= 0; k--) {
+        double complex v = x[k];
+        for (int j = k + 1; j < r; j++)
+            v -= A[k * r + j] * x[j];
+        if (A[k * r + k] == 0)
+            return NAN;
+        x[k] = v / A[k * r + k];
+        sum += h->c[k] * x[k];
+    }
+    return sum + h->d0;
+}

@@ -17,8 +17,12 @@ typedef struct lgain lgain;
 int lgain_new(int n, const double *G0, const double *C, int in, int out, double g,
               lgain **out_lg, lw_error *err);
 void lgain_free(lgain *lg);
-/* T(s) for s in rad/s; NaN when Y0(s) is singular at s. */
+/* T(s) for s in rad/s, through the Hessenberg form of the reduced network:
+ * O(rank^2) per point. NaN when Y0(s) is singular at s. */
 double complex lgain_eval(lgain *lg, double complex s);
+/* The same by a complex LU factorization of the whole Y0(s), O(n^3): an
+ * independent path, used to cross-check the fast one. */
+double complex lgain_eval_full(lgain *lg, double complex s);
 
 /* The loop gain's structure. Frequencies in rad/s. */
 typedef struct lg_tf {

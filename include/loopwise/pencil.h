@@ -42,4 +42,15 @@ int pencil_eigen(const pencil *p, const double *C, double complex *eig, int *own
 int pencil_zero_candidates(const pencil *p, int i, int o, double complex *z, int *nz,
                            lw_error *err);
 
+/* The state-space form of e_i^T (G + sC)^-1 e_o (up to the factor d_i d_o):
+ * c^T (sI - M)^-1 b + d0, with M in upper Hessenberg form H = U^T M U and
+ * b, c rotated alike, so that each evaluation costs O(rank^2). */
+typedef struct pencil_hess pencil_hess;
+int pencil_hess_new(const pencil *p, int i, int o, pencil_hess **out, lw_error *err);
+void pencil_hess_free(pencil_hess *h);
+/* c^T (sI - H)^-1 b + d0; NaN when sI - H is singular. */
+double complex pencil_hess_eval(pencil_hess *h, double complex s);
+/* The diagonal scaling factor d_k of node k. */
+double pencil_scale(const pencil *p, int k);
+
 #endif
