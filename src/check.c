@@ -213,7 +213,7 @@ int check_run(const desc *d, const model *m, const check_opts *o, check_result *
         rc = return_ratio(m, m->brk, off, G, o->want_owner, &r->tf, &r->lg, err);
     if (!rc) {
         model_fill_g(m, NULL, G);
-        rc = lg_natural_frequencies(m->n, G, m->C, &r->cl, &r->ncl, err);
+        rc = lgain_closed_loop(r->lg, m->n, G, m->C, &r->cl, &r->ncl, err);
     }
     if (!rc)
         rc = estimates(d, r, err);

@@ -158,6 +158,31 @@ static double complex tidy(double complex z)
     return z;
 }
 
+int lgain_closed_loop(lgain *lg, int n, const double *G, const double *C, double complex **roots,
+                      int *nroots, lw_error *err)
+{
+    int r = pencil_rank(lg->p), ok = 0;
+    *roots = malloc(sizeof **roots * (size_t)(r + 1));
+    if (!*roots)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    int rc = lg->gain == 0 ? LW_OK : pencil_hess_feedback_eigen(lg->h, lg->gain, *roots, &ok, err);
+    if (lg->gain == 0) {
+        /* the break is off: the closed loop is the open loop */
+        rc = pencil_eigen(lg->p, C, *roots, NULL, err);
+        ok = !rc;
+    }
+    if (rc || !ok) {
+        free(*roots);
+        *roots = NULL;
+        return rc ? rc : lg_natural_frequencies(n, G, C, roots, nroots, err);
+    }
+    for (int k = 0; k < r; k++)
+        (*roots)[k] = tidy((*roots)[k]);
+    lg_sort(*roots, r);
+    *nroots = r;
+    return LW_OK;
+}
+
 int lg_natural_frequencies(int n, const double *G, const double *C, double complex **roots,
                            int *nroots, lw_error *err)
 {

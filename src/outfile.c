@@ -2,10 +2,40 @@
 #include "loopwise/outfile.h"
 
 #include <errno.h>
+#include <signal.h>
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
 #include <unistd.h>
+
+/* The one piece of process-wide state in the program: the temporary file
+ * being written, so that an interrupting signal can remove it before the
+ * process dies. A signal handler has no other way to find it. Only one
+ * output file is open at a time. */
+static char pending_tmp[4096];
+static volatile sig_atomic_t pending;
+
+static void on_signal(int sig)
+{
+    if (pending)
+        unlink(pending_tmp);
+    signal(sig, SIG_DFL);
+    raise(sig);
+}
+
+static void watch(const char *tmp)
+{
+    static const int sigs[] = { SIGINT, SIGTERM, SIGHUP, SIGQUIT };
+    snprintf(pending_tmp, sizeof pending_tmp, "%s", tmp);
+    pending = 1;
+    for (size_t k = 0; k < sizeof sigs / sizeof *sigs; k++) {
+        struct sigaction sa;
+        memset(&sa, 0, sizeof sa);
+        sa.sa_handler = on_signal;
+        sigemptyset(&sa.sa_mask);
+        sigaction(sigs[k], &sa, NULL);
+    }
+}
 
 int outfile_open(const char *path, outfile **out, lw_error *err)
 {
@@ -38,6 +68,7 @@ int outfile_open(const char *path, outfile **out, lw_error *err)
         return lw_error_set(err, LW_EINPUT, "cannot write '%s': %s", path, strerror(e));
     }
     fchmod(fd, 0644);
+    watch(o->tmp);
     o->f = fdopen(fd, "w");
     if (!o->f) {
         close(fd);
@@ -63,6 +94,7 @@ int outfile_commit(outfile *o, lw_error *err)
         rc = lw_error_set(err, LW_EINPUT, "cannot write '%s': %s", o->path, strerror(errno));
         unlink(o->tmp);
     }
+    pending = 0;
     free(o->path);
     free(o->tmp);
     free(o);
@@ -77,6 +109,7 @@ void outfile_abort(outfile *o)
         fclose(o->f);
     if (o->tmp)
         unlink(o->tmp);
+    pending = 0;
     free(o->path);
     free(o->tmp);
     free(o);

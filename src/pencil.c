@@ -384,6 +384,174 @@ static double norm2(const double *v, int n)
     return sqrt(s);
 }
 
+/* Zeros as the eigenvalues of the zero dynamics, a standard eigenproblem of
+ * order r - k where k is the relative degree (the first Markov parameter
+ * c^T M^(k-1) b that is not zero to rounding). For x with c^T M^j x = 0,
+ * j < k, the input u = -c^T M^k x / (c^T M^(k-1) b) holds the output at zero,
+ * and x' = (I - b g^T) M x with g^T = c^T M^(k-1) / (c^T M^(k-1) b) maps that
+ * subspace into itself: its eigenvalues there are the invariant zeros.
+ * With a feedthrough d0 that matters, they are eig(M - b c^T / d0).
+ * Returns 0 in *done when the caller should use the bordered pencil. */
+static int zero_dynamics(const pencil *p, const double *b, const double *c, double d0,
+                         double complex *z, int *nz, int *done, lw_error *err)
+{
+    int r = p->r, rc = LW_OK;
+    *done = 0;
+    double nm = gsl_matrix_norm1(p->M), nb = 0, nc = 0;
+    for (int a = 0; a < r; a++) {
+        nb += b[a] * b[a];
+        nc += c[a] * c[a];
+    }
+    nb = sqrt(nb);
+    nc = sqrt(nc);
+    if (!(nm > 0) || !(nb > 0) || !(nc > 0))
+        return LW_OK;
+    /* M scaled to unit norm: zeros scale back by nm */
+    gsl_matrix *Ms = gsl_matrix_alloc((size_t)r, (size_t)r);
+    gsl_matrix *W = gsl_matrix_alloc((size_t)r, (size_t)r);
+    gsl_vector *tau = gsl_vector_alloc((size_t)r);
+    double *v = malloc(sizeof(double) * (size_t)(3 * r));
+    if (!Ms || !W || !tau || !v) {
+        rc = lw_error_set(err, LW_ENOMEM, "out of memory");
+        goto done;
+    }
+    gsl_matrix_memcpy(Ms, p->M);
+    gsl_matrix_scale(Ms, 1.0 / nm);
+    double *g = v, *t = v + r, *bb = v + 2 * r;
+    for (int a = 0; a < r; a++) {
+        g[a] = c[a] / nc; /* g runs through c^T Ms^j, normalised */
+        bb[a] = b[a] / nb;
+    }
+    double gnorm = 1.0;
+    if (fabs(d0) * nm > 1e-8 * nb * nc) {
+        /* feedthrough: zeros = eig(M - b c^T / d0), in the scaled units */
+        double kk = nb * nc / (nm * d0);
+        for (int a = 0; a < r; a++)
+            for (int q = 0; q < r; q++)
+                gsl_matrix_set(W, (size_t)a, (size_t)q,
+                               gsl_matrix_get(Ms, (size_t)a, (size_t)q) - kk * bb[a] * g[q]);
+        gsl_vector_complex *ev = gsl_vector_complex_alloc((size_t)r);
+        gsl_eigen_nonsymm_workspace *w = gsl_eigen_nonsymm_alloc((size_t)r);
+        if (ev && w) {
+            gsl_eigen_nonsymm_params(0, 1, w);
+            if (gsl_eigen_nonsymm(W, ev, w) == GSL_SUCCESS) {
+                for (int a = 0; a < r; a++) {
+                    gsl_complex e = gsl_vector_complex_get(ev, (size_t)a);
+                    z[(*nz)++] = nm * (GSL_REAL(e) + I * GSL_IMAG(e));
+                }
+                *done = 1;
+            }
+        }
+        gsl_vector_complex_free(ev);
+        gsl_eigen_nonsymm_free(w);
+        goto done;
+    }
+    /* relative degree: rows c^T Ms^j into W until c^T Ms^j b is not zero */
+    int k = 0;
+    double gamma = 0;
+    for (; k < r; k++) {
+        double mk = 0;
+        for (int a = 0; a < r; a++)
+            mk += g[a] * bb[a];
+        if (fabs(mk) > 1e-10 * gnorm) {
+            gamma = mk; /* relative degree k + 1: c^T x = ... = c^T M^k x = 0 on the subspace */
+            for (int a = 0; a < r; a++)
+                gsl_matrix_set(W, (size_t)a, (size_t)k, g[a]);
+            k++;
+            break;
+        }
+        for (int a = 0; a < r; a++)
+            gsl_matrix_set(W, (size_t)a, (size_t)k, g[a]);
+        /* g <- Ms^T g */
+        gnorm = 0;
+        for (int a = 0; a < r; a++) {
+            double sacc = 0;
+            for (int q = 0; q < r; q++)
+                sacc += gsl_matrix_get(Ms, (size_t)q, (size_t)a) * g[q];
+            t[a] = sacc;
+            gnorm += sacc * sacc;
+        }
+        gnorm = sqrt(gnorm);
+        if (!(gnorm > 0)) {
+            *done = 1; /* every Markov parameter vanishes: no dynamics seen, no zeros */
+            goto done;
+        }
+        for (int a = 0; a < r; a++)
+            g[a] = t[a];
+    }
+    if (gamma == 0) {
+        *done = 1;
+        goto done;
+    }
+    int nr = r - k;
+    if (nr == 0) {
+        *done = 1;
+        goto done;
+    }
+    /* N: orthonormal basis of the complement of span(W[:, 0..k-1]) from a QR */
+    gsl_matrix *Q = gsl_matrix_alloc((size_t)r, (size_t)r), *R = gsl_matrix_alloc((size_t)r, (size_t)r);
+    gsl_matrix *Z = gsl_matrix_alloc((size_t)nr, (size_t)nr);
+    gsl_vector_complex *ev = gsl_vector_complex_alloc((size_t)nr);
+    gsl_eigen_nonsymm_workspace *w = gsl_eigen_nonsymm_alloc((size_t)nr);
+    if (!Q || !R || !Z || !ev || !w) {
+        rc = lw_error_set(err, LW_ENOMEM, "out of memory");
+    } else {
+        for (int q = k; q < r; q++)
+            for (int a = 0; a < r; a++)
+                gsl_matrix_set(W, (size_t)a, (size_t)q, 0.0);
+        gsl_linalg_QR_decomp(W, tau);
+        gsl_linalg_QR_unpack(W, tau, Q, R);
+        /* Z = N^T (I - bb g^T / gamma) Ms N, N = Q[:, k..r-1] */
+        double *MN = malloc(sizeof(double) * (size_t)(r * nr + 1));
+        if (!MN) {
+            rc = lw_error_set(err, LW_ENOMEM, "out of memory");
+        } else {
+            for (int a = 0; a < r; a++)
+                for (int q = 0; q < nr; q++) {
+                    double sacc = 0;
+                    for (int j = 0; j < r; j++)
+                        sacc += gsl_matrix_get(Ms, (size_t)a, (size_t)j) *
+                                gsl_matrix_get(Q, (size_t)j, (size_t)(k + q));
+                    MN[a * nr + q] = sacc;
+                }
+            for (int q = 0; q < nr; q++) {
+                double gm = 0;
+                for (int a = 0; a < r; a++)
+                    gm += g[a] * MN[a * nr + q];
+                for (int a = 0; a < r; a++)
+                    MN[a * nr + q] -= bb[a] * gm / gamma;
+            }
+            for (int x = 0; x < nr; x++)
+                for (int q = 0; q < nr; q++) {
+                    double sacc = 0;
+                    for (int a = 0; a < r; a++)
+                        sacc += gsl_matrix_get(Q, (size_t)a, (size_t)(k + x)) * MN[a * nr + q];
+                    gsl_matrix_set(Z, (size_t)x, (size_t)q, sacc);
+                }
+            free(MN);
+            gsl_eigen_nonsymm_params(0, 1, w);
+            if (gsl_eigen_nonsymm(Z, ev, w) == GSL_SUCCESS) {
+                for (int a = 0; a < nr; a++) {
+                    gsl_complex e = gsl_vector_complex_get(ev, (size_t)a);
+                    z[(*nz)++] = nm * (GSL_REAL(e) + I * GSL_IMAG(e));
+                }
+                *done = 1;
+            }
+        }
+    }
+    gsl_matrix_free(Q);
+    gsl_matrix_free(R);
+    gsl_matrix_free(Z);
+    gsl_vector_complex_free(ev);
+    gsl_eigen_nonsymm_free(w);
+done:
+    gsl_matrix_free(Ms);
+    gsl_matrix_free(W);
+    gsl_vector_free(tau);
+    free(v);
+    return rc;
+}
+
 int pencil_zero_candidates(const pencil *p, int i, int o, double complex *z, int *nz,
                            lw_error *err)
 {
@@ -391,6 +559,18 @@ int pencil_zero_candidates(const pencil *p, int i, int o, double complex *z, int
     *nz = 0;
     if (r == 0)
         return LW_OK;
+    {
+        double *bc = malloc(sizeof(double) * (size_t)(2 * r));
+        if (!bc)
+            return lw_error_set(err, LW_ENOMEM, "out of memory");
+        double d0 = io_vectors(p, i, o, bc, bc + r);
+        int done = 0;
+        rc = zero_dynamics(p, bc, bc + r, d0, z, nz, &done, err);
+        free(bc);
+        if (rc || done)
+            return rc;
+        *nz = 0;
+    }
     double *b = malloc(sizeof(double) * (size_t)(2 * r));
     gsl_matrix *A = gsl_matrix_calloc((size_t)r + 1, (size_t)r + 1);
     gsl_matrix *B = gsl_matrix_calloc((size_t)r + 1, (size_t)r + 1);
@@ -542,7 +722,7 @@ double complex pencil_hess_eval(pencil_hess *h, double complex s)
     }
     for (int k = 0; k < r - 1; k++) {
         double complex *rk = A + k * r, *rn = A + (k + 1) * r;
-        if (cabs(rn[k]) > cabs(rk[k])) {
+        if (fabs(creal(rn[k])) + fabs(cimag(rn[k])) > fabs(creal(rk[k])) + fabs(cimag(rk[k]))) {
             for (int j = k; j < r; j++) {
                 double complex t = rk[j];
                 rk[j] = rn[j];
@@ -554,7 +734,10 @@ double complex pencil_hess_eval(pencil_hess *h, double complex s)
         }
         if (rk[k] == 0)
             return NAN;
-        double complex f = rn[k] / rk[k];
+        /* division by multiplying with the conjugate: the operands are scaled, so
+         * the overflow guards of the library's complex division are not needed */
+        double nk = creal(rk[k]) * creal(rk[k]) + cimag(rk[k]) * cimag(rk[k]);
+        double complex f = rn[k] * conj(rk[k]) / nk;
         if (f != 0) {
             for (int j = k + 1; j < r; j++)
                 rn[j] -= f * rk[j];
@@ -566,10 +749,54 @@ double complex pencil_hess_eval(pencil_hess *h, double complex s)
         double complex v = x[k];
         for (int j = k + 1; j < r; j++)
             v -= A[k * r + j] * x[j];
-        if (A[k * r + k] == 0)
+        double complex dk = A[k * r + k];
+        double nk = creal(dk) * creal(dk) + cimag(dk) * cimag(dk);
+        if (nk == 0)
             return NAN;
-        x[k] = v / A[k * r + k];
+        x[k] = v * conj(dk) / nk;
         sum += h->c[k] * x[k];
     }
     return sum + h->d0;
+}
+
+int pencil_hess_feedback_eigen(const pencil_hess *h, double gain, double complex *eig, int *ok,
+                               lw_error *err)
+{
+    int r = h->r;
+    double den = 1.0 + gain * h->d0;
+    *ok = 0;
+    if (r == 0)
+        return LW_OK;
+    /* 1 + T = (1 + gain d0) (1 + kappa c^T (sI - H)^-1 b), kappa = gain/(1 + gain d0),
+     * and det(sI - H + kappa b c^T) = det(sI - H) (1 + kappa c^T (sI - H)^-1 b). */
+    if (!(fabs(den) > 1e-9 * fmax(1.0, fabs(gain * h->d0))))
+        return LW_OK;
+    double kappa = gain / den;
+    gsl_matrix *A = gsl_matrix_alloc((size_t)r, (size_t)r);
+    gsl_vector_complex *ev = gsl_vector_complex_alloc((size_t)r);
+    gsl_eigen_nonsymm_workspace *w = gsl_eigen_nonsymm_alloc((size_t)r);
+    int rc = LW_OK;
+    if (!A || !ev || !w) {
+        rc = lw_error_set(err, LW_ENOMEM, "out of memory");
+        goto done;
+    }
+    for (int a = 0; a < r; a++)
+        for (int k = 0; k < r; k++)
+            gsl_matrix_set(A, (size_t)a, (size_t)k, h->H[a * r + k] - kappa * h->b[a] * h->c[k]);
+    gsl_eigen_nonsymm_params(0, 1, w);
+    if (gsl_eigen_nonsymm(A, ev, w) != GSL_SUCCESS) {
+        rc = lw_error_set(err, LW_ENUMERIC, "the eigenvalue iteration for the closed-loop poles "
+                          "did not converge");
+        goto done;
+    }
+    for (int k = 0; k < r; k++) {
+        gsl_complex z = gsl_vector_complex_get(ev, (size_t)k);
+        eig[k] = GSL_REAL(z) + I * GSL_IMAG(z);
+    }
+    *ok = 1;
+done:
+    gsl_matrix_free(A);
+    gsl_vector_complex_free(ev);
+    gsl_eigen_nonsymm_free(w);
+    return rc;
 }

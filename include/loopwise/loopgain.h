@@ -48,6 +48,12 @@ void lg_tf_free(lg_tf *tf);
 int lg_natural_frequencies(int n, const double *G, const double *C, double complex **roots,
                            int *nroots, lw_error *err);
 
+/* Closed-loop poles from the evaluator's reduced form (the loop closed
+ * around it); falls back to the whole network G (break on) when the closed
+ * loop loses a degree. */
+int lgain_closed_loop(lgain *lg, int n, const double *G, const double *C, double complex **roots,
+                      int *nroots, lw_error *err);
+
 /* Sorts by magnitude, then imaginary part. */
 void lg_sort(double complex *v, int n);
 

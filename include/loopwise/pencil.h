@@ -50,6 +50,12 @@ int pencil_hess_new(const pencil *p, int i, int o, pencil_hess **out, lw_error *
 void pencil_hess_free(pencil_hess *h);
 /* c^T (sI - H)^-1 b + d0; NaN when sI - H is singular. */
 double complex pencil_hess_eval(pencil_hess *h, double complex s);
+/* Closed-loop poles as the eigenvalues of H - kappa b c^T, the loop closed
+ * around the reduced form with T = gain (c^T (sI - H)^-1 b + d0). eig gets
+ * rank values; *ok is 0 when the closed loop drops a degree (1 + gain d0 = 0),
+ * and the caller must use the whole network's pencil instead. */
+int pencil_hess_feedback_eigen(const pencil_hess *h, double gain, double complex *eig, int *ok,
+                               lw_error *err);
 /* The diagonal scaling factor d_k of node k. */
 double pencil_scale(const pencil *p, int k);
 
