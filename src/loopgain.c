@@ -15,6 +15,7 @@ struct lgain {
     double gain;              /* -g d_in d_out */
     pencil *p;                /* the reduction of Y0, shared with lg_tf_analyse */
     pencil_hess *h;           /* O(rank^2) evaluation */
+    int full;                 /* 1: evaluate by the LU of the whole network */
     double *Gs, *Cs;          /* D G0 D and D C D */
     gsl_matrix_complex *Y;
     gsl_permutation *perm;
@@ -88,7 +89,19 @@ double complex lgain_eval(lgain *lg, double complex s)
 {
     if (lg->gain == 0)
         return 0;
+    if (lg->full)
+        return lgain_eval_full(lg, s);
     return lg->gain * pencil_hess_eval(lg->h, s);
+}
+
+void lgain_use_full(lgain *lg, int on)
+{
+    lg->full = on;
+}
+
+int lgain_uses_full(const lgain *lg)
+{
+    return lg->full;
 }
 
 double complex lgain_eval_full(lgain *lg, double complex s)
@@ -215,13 +228,14 @@ int lg_natural_frequencies(int n, const double *G, const double *C, double compl
 /* ---- zeros: verify the candidates -------------------------------------- */
 
 /* A candidate z is a zero of T when |T| near z is far below |T| on a small
- * circle around it (for a zero of order k the ratio is about (1e-8/1e-3)^k).
+ * circle around it (for a zero of order k the ratio is about (1e-11/1e-3)^k;
+ * a zero 1e-6 from a pole still gives 1e-5).
  * A mode T cannot see shows up as a candidate too, but T is not small there;
  * so does rounding debris at huge |z|, where T is noise. */
 static int verify_zero(lgain *lg, double complex z)
 {
     double mag = cabs(z);
-    double complex c = z + 1e-8 * mag * cexp(I * 0.7);
+    double complex c = z + 1e-11 * mag * cexp(I * 0.7);
     double tc = cabs(lgain_eval(lg, c));
     if (!isfinite(tc))
         return 0;
@@ -296,11 +310,27 @@ static int numerically_singular(const double *A, int n)
 {
     gsl_matrix *U = gsl_matrix_alloc((size_t)n, (size_t)n), *V = gsl_matrix_alloc((size_t)n, (size_t)n);
     gsl_vector *S = gsl_vector_alloc((size_t)n), *w = gsl_vector_alloc((size_t)n);
+    double *rs = malloc(sizeof(double) * (size_t)(2 * n));
     int sing = 1;
-    if (U && V && S && w) {
+    if (U && V && S && w && rs) {
+        /* equilibrate rows, then columns, by their largest entries: the test
+         * is about the matrix's rank, not about its units */
+        double *cs = rs + n;
+        for (int i = 0; i < n; i++) {
+            rs[i] = 0;
+            for (int j = 0; j < n; j++)
+                rs[i] = fmax(rs[i], fabs(A[i * n + j]));
+            rs[i] = rs[i] > 0 ? 1.0 / rs[i] : 1.0;
+        }
+        for (int j = 0; j < n; j++) {
+            cs[j] = 0;
+            for (int i = 0; i < n; i++)
+                cs[j] = fmax(cs[j], fabs(A[i * n + j]) * rs[i]);
+            cs[j] = cs[j] > 0 ? 1.0 / cs[j] : 1.0;
+        }
         for (int i = 0; i < n; i++)
             for (int j = 0; j < n; j++)
-                gsl_matrix_set(U, (size_t)i, (size_t)j, A[i * n + j]);
+                gsl_matrix_set(U, (size_t)i, (size_t)j, rs[i] * A[i * n + j] * cs[j]);
         if (gsl_linalg_SV_decomp(U, V, S, w) == GSL_SUCCESS) {
             double smax = gsl_vector_get(S, 0), smin = gsl_vector_get(S, (size_t)n - 1);
             sing = !(smin > 1e-13 * smax);
@@ -310,6 +340,7 @@ static int numerically_singular(const double *A, int n)
     gsl_matrix_free(V);
     gsl_vector_free(S);
     gsl_vector_free(w);
+    free(rs);
     return sing;
 }
 
@@ -430,7 +461,11 @@ static void low_frequency(lgain *lg, lg_tf *tf)
     } else if (tf->origin > 0 || tf->sign == 0) {
         tf->dc = 0;
     } else {
-        double complex t0 = lgain_eval(lg, 0);
+        /* T(0) from the LU of the whole network: the most direct path, and
+         * the one that keeps full accuracy when the poles span many decades */
+        double complex t0 = lgain_eval_full(lg, 0);
+        if (!isfinite(creal(t0)))
+            t0 = lgain_eval(lg, 0);
         tf->dc = isfinite(creal(t0)) ? creal(t0) : creal(lgain_eval(lg, sigma * 1e-6));
     }
 }

@@ -10,6 +10,7 @@
 #define TWO_PI 6.283185307179586
 #define DEG (180.0 / 3.14159265358979323846)
 #define M_LN2_ 0.69314718055994530942
+#define LW_EAGAIN_SCAN 100   /* internal: restart the scan on the LU path */
 
 /* arg(1 - jw/r) in degrees: continuous in w for every r off the jw axis. */
 static double factor_arg(double w, double complex r)
@@ -402,7 +403,7 @@ static int scan(fparams *fp, margins *m, const double *u, int n)
     for (int k = 0; k < n && rc == LW_OK; k++) {
         double lm, ph;
         eval_at(fp, u[k], 0, &lm, &ph);
-        if (k == n / 2) {
+        if (k == 1 || k == n / 2 || k == n - 2) {
             /* spot checks: the factored form against the fast exact T, and
              * the fast T against an LU factorization of the whole network */
             double mag, hz = pow(10.0, u[k]);
@@ -410,6 +411,11 @@ static int scan(fparams *fp, margins *m, const double *u, int n)
             double pe = margin_phase(fp->lg, fp->tf, hz, &mag, &mis);
             double complex tf_ = lgain_eval(fp->lg, I * TWO_PI * hz);
             double complex tl = lgain_eval_full(fp->lg, I * TWO_PI * hz);
+            if (!(cabs(tf_ - tl) <= 1e-9 * cabs(tl)) && !lgain_uses_full(fp->lg)) {
+                /* the fast path lost accuracy here: scan again on the LU path */
+                lgain_use_full(fp->lg, 1);
+                return LW_EAGAIN_SCAN;
+            }
             m->mismatch += mis || !(cabs(tf_ - tl) <= 1e-7 * cabs(tl));
             if (fp->ff)
                 m->mismatch += fabs(log(mag) - lm) > 1e-6 * fmax(1.0, fabs(lm)) ||
@@ -451,6 +457,10 @@ int margins_find(lgain *lg, const lg_tf *tf, double flo, double fhi, margins *m,
     }
     gsl_error_handler_t *old = gsl_set_error_handler_off();
     int rc = tf->sign == 0 ? LW_OK : scan(&fp, m, u, n);
+    if (rc == LW_EAGAIN_SCAN) {
+        m->ncross = m->nphase = m->mismatch = 0;
+        rc = scan(&fp, m, u, n);
+    }
     gsl_set_error_handler(old);
     free(u);
     free(ff.f);

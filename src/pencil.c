@@ -673,7 +673,22 @@ int pencil_hess_new(const pencil *p, int i, int o, pencil_hess **out, lw_error *
     }
     h->d0 = r || p->m ? io_vectors(p, i, o, b0, b0 + r + 1) : 0;
     if (r > 0) {
+        /* balance first (a diagonal similarity D^-1 M D, Parlett and Reinsch):
+         * the Householder steps then keep the small entries of a matrix whose
+         * rows span many decades, which the evaluation needs near s = 0 */
+        gsl_vector *bal = gsl_vector_alloc((size_t)r);
+        if (!bal) {
+            free(b0);
+            rc = lw_error_set(err, LW_ENOMEM, "out of memory");
+            goto done;
+        }
         gsl_matrix_memcpy(A, p->M);
+        gsl_linalg_balance_matrix(A, bal);
+        for (int a = 0; a < r; a++) {
+            b0[a] /= gsl_vector_get(bal, (size_t)a);
+            b0[r + 1 + a] *= gsl_vector_get(bal, (size_t)a);
+        }
+        gsl_vector_free(bal);
         if (gsl_linalg_hessenberg_decomp(A, tau) != GSL_SUCCESS ||
             gsl_linalg_hessenberg_unpack(A, tau, U) != GSL_SUCCESS) {
             free(b0);

@@ -218,6 +218,12 @@ static void verdict(FILE *f, const check_result *r, report_target t)
     if (r->stable && !isnan(pm) && pm < 0)
         fprintf(f, "Note: the closed loop is stable although the phase margin is negative: "
                 "the loop is conditionally stable; check the margin over gain changes.\n");
+    if (r->stable && mg->best_phase >= 0 && mg->phase[mg->best_phase].value < 0)
+        fprintf(f, "Note: conditionally stable: the loop is stable, but its gain margin is "
+                "negative (%.1f dB at %s): a gain %.1f dB lower would make it unstable.\n",
+                mg->phase[mg->best_phase].value,
+                si_format(mg->phase[mg->best_phase].hz, "Hz", (char[32]){ 0 }, 32),
+                -mg->phase[mg->best_phase].value);
     int olrhp = 0;
     for (int k = 0; k < r->tf.npoles; k++)
         olrhp += creal(r->tf.poles[k]) > 0 && !r->tf.hidden[k];

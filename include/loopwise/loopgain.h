@@ -23,6 +23,11 @@ double complex lgain_eval(lgain *lg, double complex s);
 /* The same by a complex LU factorization of the whole Y0(s), O(n^3): an
  * independent path, used to cross-check the fast one. */
 double complex lgain_eval_full(lgain *lg, double complex s);
+/* Makes lgain_eval use the LU path from now on: chosen when a spot check
+ * finds the fast path inaccurate (poles spread over many decades make the
+ * reduced form ill-conditioned far from them). */
+void lgain_use_full(lgain *lg, int on);
+int lgain_uses_full(const lgain *lg);
 
 /* The loop gain's structure. Frequencies in rad/s. */
 typedef struct lg_tf {
