@@ -354,6 +354,8 @@ static void add_point(margin_point *arr, int *n, double hz, double value)
         arr[(*n)++] = (margin_point){ hz, value };
 }
 
+static int spot_check(fparams *fp, margins *m, double u, double lm, double ph);
+
 static int crossover(fparams *fp, margins *m, double ua, double ub)
 {
     double u;
@@ -363,6 +365,8 @@ static int crossover(fparams *fp, margins *m, double ua, double ub)
     double mag, hz = pow(10.0, u);
     int mis = 0;
     double ph = margin_phase(fp->lg, fp->tf, hz, &mag, &mis);
+    if (spot_check(fp, m, u, NAN, NAN))
+        return LW_EAGAIN_SCAN;
     m->mismatch += mis + approx;
     add_point(m->cross, &m->ncross, hz, 180.0 + ph);
     return LW_OK;
@@ -396,6 +400,29 @@ static void pick_best(margins *m)
 
 /* Scans the grid: a sign change of log|T| brackets a crossover, a change of
  * floor((phase + 180)/360) brackets a phase crossing at -180 + 360 k. */
+/* Compares, at u, the factored form (lm, ph) with the fast exact T, and the
+ * fast T with the LU of the whole network. Where |T| matters for the margins
+ * (within 80 dB of unity) a disagreement of the fast path switches the
+ * evaluator to the LU path and asks for a new scan (returns 1). */
+static int spot_check(fparams *fp, margins *m, double u, double lm, double ph)
+{
+    double mag, hz = pow(10.0, u);
+    int mis = 0;
+    double pe = margin_phase(fp->lg, fp->tf, hz, &mag, &mis);
+    double complex tf_ = lgain_eval(fp->lg, I * TWO_PI * hz);
+    double complex tl = lgain_eval_full(fp->lg, I * TWO_PI * hz);
+    double al = cabs(tl);
+    int relevant = al > 1e-4 && al < 1e4;
+    if (relevant && !(cabs(tf_ - tl) <= 1e-9 * al) && !lgain_uses_full(fp->lg)) {
+        lgain_use_full(fp->lg, 1);
+        return 1;
+    }
+    m->mismatch += mis || (relevant && !(cabs(tf_ - tl) <= 1e-7 * al));
+    if (fp->ff && !isnan(lm))
+        m->mismatch += fabs(log(mag) - lm) > 1e-6 * fmax(1.0, fabs(lm)) || fabs(pe - ph) > 1e-3;
+    return 0;
+}
+
 static int scan(fparams *fp, margins *m, const double *u, int n)
 {
     double lm_prev = 0, ph_prev = 0;
@@ -403,24 +430,8 @@ static int scan(fparams *fp, margins *m, const double *u, int n)
     for (int k = 0; k < n && rc == LW_OK; k++) {
         double lm, ph;
         eval_at(fp, u[k], 0, &lm, &ph);
-        if (k == 1 || k == n / 2 || k == n - 2) {
-            /* spot checks: the factored form against the fast exact T, and
-             * the fast T against an LU factorization of the whole network */
-            double mag, hz = pow(10.0, u[k]);
-            int mis = 0;
-            double pe = margin_phase(fp->lg, fp->tf, hz, &mag, &mis);
-            double complex tf_ = lgain_eval(fp->lg, I * TWO_PI * hz);
-            double complex tl = lgain_eval_full(fp->lg, I * TWO_PI * hz);
-            if (!(cabs(tf_ - tl) <= 1e-9 * cabs(tl)) && !lgain_uses_full(fp->lg)) {
-                /* the fast path lost accuracy here: scan again on the LU path */
-                lgain_use_full(fp->lg, 1);
-                return LW_EAGAIN_SCAN;
-            }
-            m->mismatch += mis || !(cabs(tf_ - tl) <= 1e-7 * cabs(tl));
-            if (fp->ff)
-                m->mismatch += fabs(log(mag) - lm) > 1e-6 * fmax(1.0, fabs(lm)) ||
-                               fabs(pe - ph) > 1e-3;
-        }
+        if (k == n / 2 && spot_check(fp, m, u[k], lm, ph))
+            return LW_EAGAIN_SCAN;
         if (!isfinite(lm))
             continue;
         above |= lm > 0;
