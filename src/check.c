@@ -138,6 +138,17 @@ static int declared_loops(const desc *d, const model *m, check_result *r, double
                 if (o != l && hop_in_loop(&d->loops[o], m->gm[k].elem) &&
                     private_to(d, o, m->gm[k].elem))
                     off[k] = 1;
+        int any_off = 0;
+        for (int k = 0; k < m->ngm; k++)
+            any_off |= off[k];
+        if (cl->hop_gm == m->brk && !any_off && r->lg && !keep) {
+            /* the loop's own gain is the loop gain at the break: already known */
+            cl->dc = r->tf.dc;
+            cl->sign = r->tf.sign;
+            if (!(d->loops[l].negative ? cl->sign > 0 : cl->sign < 0))
+                rc = sign_error(d, l, cl, err);
+            continue;
+        }
         lg_tf tf;
         lgain *lg = NULL;
         if ((rc = return_ratio(m, cl->hop_gm, off, G, 0, &tf, &lg, err)))
@@ -207,10 +218,10 @@ int check_run(const desc *d, const model *m, const check_opts *o, check_result *
     double *G = malloc(sizeof(double) * (nn + 1));
     unsigned char *off = calloc((size_t)m->ngm + 1, 1);
     int rc = G && off ? LW_OK : lw_error_set(err, LW_ENOMEM, "out of memory");
-    if (!rc && o->want_loops)
-        rc = declared_loops(d, m, r, G, o->keep_loops, err);
     if (!rc)
         rc = return_ratio(m, m->brk, off, G, o->want_owner, &r->tf, &r->lg, err);
+    if (!rc && o->want_loops)
+        rc = declared_loops(d, m, r, G, o->keep_loops, err);
     if (!rc) {
         model_fill_g(m, NULL, G);
         rc = lgain_closed_loop(r->lg, m->n, G, m->C, &r->cl, &r->ncl, err);

@@ -446,13 +446,19 @@ static int zero_dynamics(const pencil *p, const double *b, const double *c, doub
         gsl_eigen_nonsymm_free(w);
         goto done;
     }
-    /* relative degree: rows c^T Ms^j into W until c^T Ms^j b is not zero */
+    /* relative degree: rows c^T Ms^j into W until c^T Ms^j b is not zero.
+     * The Krylov rows lose accuracy as j grows, so beyond a small order (or a
+     * large network) the bordered pencil decides instead. */
+    if (r > 32)
+        goto done;
     int k = 0;
     double gamma = 0;
     for (; k < r; k++) {
         double mk = 0;
         for (int a = 0; a < r; a++)
             mk += g[a] * bb[a];
+        if (k >= 6)
+            goto done; /* *done stays 0: the bordered pencil takes over */
         if (fabs(mk) > 1e-10 * gnorm) {
             gamma = mk; /* relative degree k + 1: c^T x = ... = c^T M^k x = 0 on the subspace */
             for (int a = 0; a < r; a++)
