@@ -5,9 +5,10 @@
  *
  * For each file: (a) one full check as the command line runs it (read, parse,
  * evaluate, stamp, check_run with owners and declared loops); (b) a sweep of
- * the cap 'ccomp' over 0.5 pF .. 10 pF (log, target 60 degrees) with the
- * point count given by --sweep for that node count; (c) one evaluation of T
- * at the crossover. Each is repeated until it has taken S seconds (default
+ * the cap 'ccomp' over 50 fF .. 10 pF (log spaced, target 60 degrees, the
+ * crossing root-refined as sweep_run does) with the point count given by
+ * --sweep for that node count, options as the sweep command (owners, no
+ * declared loops); (c) one evaluation of T at the crossover. Each is repeated until it has taken S seconds (default
  * 0.5) and the median per run is reported. A run longer than S is done once.
  * No assertion is made on any time. */
 #include <complex.h>
@@ -34,6 +35,17 @@ static double now(void)
     return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
 }
 
+static double cpu_now(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+/* CPU and wall time over every timed run: CPU well below wall means other
+ * processes had the core. */
+static double total_cpu, total_wall;
+
 static int cmp_double(const void *a, const void *b)
 {
     double x = *(const double *)a, y = *(const double *)b;
@@ -42,7 +54,7 @@ static int cmp_double(const void *a, const void *b)
 
 typedef struct timing {
     double sec;      /* median per run; NAN when not measured */
-    int reps;
+    int reps;        /* runs; 0 when not measured */
 } timing;
 
 static double median(double *t, int n)
@@ -58,74 +70,79 @@ static void die(const char *what, const lw_error *err, const char *path)
     exit(3);
 }
 
-/* The command line's pipeline: text -> desc -> values -> model -> check. */
-static void full_check(const char *path, const check_opts *o, check_result *r, desc **dp,
-                       model **mp)
+/* The command line's pipeline up to the model: text -> desc -> values -> model. */
+static void load(const char *path, desc **dp, model **mp)
 {
     lw_error err;
     lw_error_clear(&err);
     text_file *t = NULL;
-    desc *d = NULL;
-    model *m = NULL;
     int rc = text_read(path, &t, &err);
     if (!rc)
-        rc = desc_parse(t, path, &d, &err);
+        rc = desc_parse(t, path, dp, &err);
     text_free(t);
     if (!rc)
-        rc = desc_eval(d, &err);
-    if (!rc)
-        rc = model_new(d, &m, &err);
-    if (!rc)
-        rc = check_run(d, m, o, r, &err);
+        rc = desc_eval(*dp, &err);
+    if (!rc && mp)
+        rc = model_new(*dp, mp, &err);
     if (rc)
-        die("check", &err, path);
-    *dp = d;
-    *mp = m;
+        die("loading", &err, path);
 }
 
-static double one_check(const char *path)
+/* One full check as 'loopwise check' runs it (without the report and the
+ * per-node table); the result is handed back when keep is set. */
+static double one_check(const char *path, check_result *keep, desc **dk, model **mk)
 {
     check_opts o = { 0, 0, 1, 1, 0 };
     check_result r;
-    desc *d;
-    model *m;
+    desc *d = NULL;
+    model *m = NULL;
+    lw_error err;
+    lw_error_clear(&err);
     double t0 = now();
-    full_check(path, &o, &r, &d, &m);
-    check_result_free(&r);
-    model_free(m);
-    desc_free(d);
-    return now() - t0;
+    load(path, &d, &m);
+    if (check_run(d, m, &o, &r, &err))
+        die("check", &err, path);
+    double dt = now() - t0;
+    if (keep) {
+        *keep = r;
+        *dk = d;
+        *mk = m;
+    } else {
+        check_result_free(&r);
+        model_free(m);
+        desc_free(d);
+    }
+    return dt;
 }
 
-static timing time_check(const char *path, double budget)
+static timing time_check(const char *path, double budget, check_result *r, desc **d, model **m)
 {
-    double *t = malloc(sizeof(double) * MAX_REPS), total = 0;
+    double *t = malloc(sizeof(double) * MAX_REPS), total = 0, c0 = cpu_now();
     int n = 0;
     while (n < MAX_REPS && (n == 0 || total < budget)) {
-        t[n] = one_check(path);
+        t[n] = n == 0 ? one_check(path, r, d, m) : one_check(path, NULL, NULL, NULL);
         total += t[n++];
     }
+    total_cpu += cpu_now() - c0;
+    total_wall += total;
     timing out = { median(t, n), n };
     free(t);
     return out;
 }
 
-static timing time_sweep(const char *path, int npts, double budget, int *ncross)
+static timing time_sweep(const char *path, int npts, double budget, int *ncross,
+                         double *first)
 {
     check_opts o = { 0, 0, 1, 0, 0 };   /* as the sweep command: owners, no loops */
-    check_result r;
-    desc *d;
-    model *m;
-    full_check(path, &o, &r, &d, &m);
-    check_result_free(&r);
-    model_free(m);
+    desc *d = NULL;
+    load(path, &d, NULL);
     lw_error err;
     lw_error_clear(&err);
     desc_target tg;
     if (desc_target_find(d, SWEEP_CAP, &tg, &err))
         die("finding the swept cap", &err, path);
     design_goal g = { SWEEP_PM, NAN };
-    double t[64], total = 0;
+    double t[64], total = 0, c0 = cpu_now();
     int n = 0;
     while (n < 64 && (n == 0 || total < budget)) {
         sweep_result sw;
@@ -135,18 +152,21 @@ static timing time_sweep(const char *path, int npts, double budget, int *ncross)
         t[n] = now() - t0;
         total += t[n++];
         *ncross = sw.ncross;
+        *first = sw.ncross > 0 ? sw.cross[0].value : NAN;
         sweep_result_free(&sw);
     }
+    total_cpu += cpu_now() - c0;
+    total_wall += total;
     desc_free(d);
     return (timing){ median(t, n), n };
 }
 
+/* T(j 2 pi hz) by the check's own evaluator, in batches long enough to time. */
 static timing time_eval(const check_result *r, double hz, double budget)
 {
-    double t[256], total = 0;
+    double t[256], total = 0, c0 = cpu_now();
     volatile double sink = 0;
     int n = 0, batch = 1;
-    /* batches of calls long enough to time, 20 batches at least */
     double t0 = now();
     sink += creal(lgain_eval(r->lg, I * TWO_PI * hz));
     double one = now() - t0;
@@ -161,6 +181,8 @@ static timing time_eval(const check_result *r, double hz, double budget)
         total += dt;
     }
     (void)sink;
+    total_cpu += cpu_now() - c0;
+    total_wall += total;
     return (timing){ median(t, n), n * batch };
 }
 
@@ -238,8 +260,25 @@ static void row(int n, const char *op, double units, const char *unit, timing lw
         snprintf(ratio, sizeof ratio, "-");
     else
         snprintf(ratio, sizeof ratio, "%.3g", ref.sec / lw.sec);
-    printf("%5d  %-16s %10s %17s %6d   %10s %17s %6d   %8s\n", n, op, a, ta, lw.reps, b, tb,
-           ref.reps, ratio);
+    char ra[16], rb[16];
+    snprintf(ra, sizeof ra, lw.reps > 0 ? "%d" : "-", lw.reps);
+    snprintf(rb, sizeof rb, ref.reps > 0 ? "%d" : "-", ref.reps);
+    printf("%5d  %-16s %10s %17s %7s   %10s %17s %7s   %8s\n", n, op, a, ta, ra, b, tb, rb,
+           ratio);
+}
+
+static timing ref_timing(const char *json, const char *name, const char *op)
+{
+    char k1[64], k2[64];
+    snprintf(k1, sizeof k1, "%s/s", op);
+    snprintf(k2, sizeof k2, "%s/reps", op);
+    double s = ref_get(json, name, k1), n = ref_get(json, name, k2);
+    return (timing){ s, isfinite(n) ? (int)n : 0 };
+}
+
+static int close_rel(double a, double b, double rel)
+{
+    return fabs(a - b) <= rel * fmax(fabs(a), fabs(b));
 }
 
 /* Least-squares slope k of log t = a + k log N. */
@@ -290,60 +329,62 @@ int main(int argc, char **argv)
         return fprintf(stderr, "bench: no networks given\n"), 2;
     int sizes[MAX_FILES] = { 0 };
     double lw_check[MAX_FILES] = { 0 }, ref_check[MAX_FILES] = { 0 };
-    char lines[MAX_FILES][200];
-    struct { timing lw, ref; int pts, ncross; double refcross; } sw[MAX_FILES];
+    char lines[MAX_FILES][240], names[MAX_FILES][128];
+    int agree[MAX_FILES] = { 0 };
+    struct { timing lw, ref; int pts, ncross; double first; } sw[MAX_FILES];
     timing ch[MAX_FILES][2], ev[MAX_FILES][2];
     for (int f = 0; f < nfiles; f++) {
         const char *path = files[f];
-        char name[128];
+        char *name = names[f];
         const char *base = strrchr(path, '/');
-        snprintf(name, sizeof name, "%s", base ? base + 1 : path);
+        snprintf(name, sizeof names[f], "%s", base ? base + 1 : path);
         char *dot = strrchr(name, '.');
         if (dot)
             *dot = 0;
 
         fprintf(stderr, "bench: %s: check ...\n", name);
-        ch[f][0] = time_check(path, budget);
-        ch[f][1] = (timing){ ref_get(json, name, "check/s"), (int)ref_get(json, name, "check/reps") };
-
-        check_opts o = { 0, 0, 1, 1, 0 };
         check_result r;
         desc *d;
         model *m;
-        full_check(path, &o, &r, &d, &m);
+        ch[f][0] = time_check(path, budget, &r, &d, &m);
+        ch[f][1] = ref_timing(json, name, "check");
         sizes[f] = m->n;
         const margins *mg = &r.mg;
         double hz = mg->best_cross >= 0 ? mg->cross[mg->best_cross].hz : 1e6;
         double pm = mg->best_cross >= 0 ? mg->cross[mg->best_cross].value : NAN;
+        double rdc = ref_get(json, name, "dc"), rpm = ref_get(json, name, "pm_deg");
+        double rhz = ref_get(json, name, "crossover_hz");
+        agree[f] = close_rel(r.tf.dc, rdc, 1e-6) && fabs(pm - rpm) <= 0.01 &&
+                   close_rel(hz, rhz, 1e-6);
         snprintf(lines[f], sizeof lines[f],
-                 "%5d  T(0) %-10.6g vs %-10.6g  PM %.6f vs %.6f deg  crossover %.9g vs %.9g Hz",
-                 m->n, r.tf.dc, ref_get(json, name, "dc"), pm, ref_get(json, name, "pm_deg"), hz,
-                 ref_get(json, name, "crossover_hz"));
+                 "%5d  T(0) %-9.6g vs %-9.6g  PM %.6f vs %.6f deg  crossover %.9g vs %.9g Hz  %s",
+                 m->n, r.tf.dc, rdc, pm, rpm, hz, rhz, !json ? "" : agree[f] ? "agree" : "DIFFER");
         fprintf(stderr, "bench: %s: eval ...\n", name);
         ev[f][0] = time_eval(&r, hz, budget);
-        ev[f][1] = (timing){ ref_get(json, name, "eval/s"), (int)ref_get(json, name, "eval/reps") };
+        ev[f][1] = ref_timing(json, name, "eval");
         check_result_free(&r);
         model_free(m);
         desc_free(d);
 
         sw[f].pts = 0;
+        sw[f].ncross = 0;
         for (int k = 0; k < nsweeps; k++)
             if (sweep_n[k] == sizes[f])
                 sw[f].pts = sweep_p[k];
         if (sw[f].pts > 1) {
             fprintf(stderr, "bench: %s: sweep of %d points ...\n", name, sw[f].pts);
-            sw[f].lw = time_sweep(path, sw[f].pts, budget, &sw[f].ncross);
-            sw[f].ref = (timing){ ref_get(json, name, "sweep/s"),
-                                  (int)ref_get(json, name, "sweep/reps") };
+            sw[f].lw = time_sweep(path, sw[f].pts, budget, &sw[f].ncross, &sw[f].first);
+            sw[f].ref = ref_timing(json, name, "sweep");
         }
         lw_check[f] = ch[f][0].sec;
         ref_check[f] = ch[f][1].sec;
     }
 
-    printf("\nloopwise benchmark  (cores online: %ld; median wall time per run, "
-           "repeated until >= %.2g s)\n", sysconf(_SC_NPROCESSORS_ONLN), budget);
+    printf("\nloopwise benchmark  (cores online: %ld; median wall time per run; each run is "
+           "repeated until\n%.2g s have passed, so a run longer than that is done once)\n",
+           sysconf(_SC_NPROCESSORS_ONLN), budget);
     printf("ratio = reference time / loopwise time  (> 1: loopwise is faster)\n\n");
-    printf("%5s  %-16s %10s %17s %6s   %10s %17s %6s   %8s\n", "nodes", "op", "loopwise",
+    printf("%5s  %-16s %10s %17s %7s   %10s %17s %7s   %8s\n", "nodes", "op", "loopwise",
            "throughput", "runs", "reference", "throughput", "runs", "ratio");
     for (int f = 0; f < nfiles; f++) {
         row(sizes[f], "check", 1, "check", ch[f][0], ch[f][1]);
@@ -351,20 +392,43 @@ int main(int argc, char **argv)
             char op[32];
             snprintf(op, sizeof op, "sweep %d pts", sw[f].pts);
             row(sizes[f], op, sw[f].pts, "pt", sw[f].lw, sw[f].ref);
+        } else {
+            printf("%5d  %-16s %10s\n", sizes[f], "sweep", "not run");
         }
         row(sizes[f], "T(jw) eval", 1, "eval", ev[f][0], ev[f][1]);
     }
     printf("\ncheck time ~ N^k, least squares over N = %d..%d:  loopwise k = %.2f,  "
            "reference k = %.2f\n", sizes[0], sizes[nfiles - 1],
            exponent(sizes, lw_check, nfiles), exponent(sizes, ref_check, nfiles));
+    double rcpu = ref_get(json, "all", "cpu_s"), rwall = ref_get(json, "all", "wall_s");
+    printf("CPU time / wall time over the timed runs: loopwise %.0f%%, reference %.0f%% "
+           "(a share well below\n100%% means other processes had the cores and the times are "
+           "inflated)\n", 100 * total_cpu / total_wall, 100 * rcpu / rwall);
     printf("\nsame answers (loopwise vs reference):\n");
     for (int f = 0; f < nfiles; f++)
         printf("%s\n", lines[f]);
     for (int f = 0; f < nfiles; f++)
-        if (sw[f].pts > 1)
-            printf("%5d  sweep of %s over %.3g..%.3g F: %d crossing(s) of %g deg found "
-                   "(root-refined, included in the time)\n", sizes[f], SWEEP_CAP, SWEEP_FROM,
-                   SWEEP_TO, sw[f].ncross, SWEEP_PM);
+        if (sw[f].pts > 1) {
+            double rn = ref_get(json, names[f], "sweep/ncross");
+            double rfirst = ref_get(json, names[f], "sweep/first");
+            int ok = rn == sw[f].ncross && (sw[f].ncross == 0 || close_rel(sw[f].first, rfirst, 1e-5));
+            agree[f] &= ok;
+            printf("%5d  sweep of %s over %.3g..%.3g F, target %g deg: %d vs %.0f crossing(s), "
+                   "first at %.7g vs %.7g F  %s\n", sizes[f], SWEEP_CAP, SWEEP_FROM, SWEEP_TO,
+                   SWEEP_PM, sw[f].ncross, rn, sw[f].first, rfirst,
+                   !json ? "" : ok ? "agree" : "DIFFER");
+        }
+    int ndiffer = 0;
+    for (int f = 0; f < nfiles; f++)
+        ndiffer += json && !agree[f];
+    if (ndiffer) {
+        printf("answers DIFFER at N =");
+        for (int f = 0; f < nfiles; f++)
+            if (!agree[f])
+                printf(" %d", sizes[f]);
+        printf(": the times there compare different results (tolerances: T(0) and crossover\n"
+               "1e-6 relative, PM 0.01 deg, sweep crossing 1e-5 relative)\n");
+    }
     free(json);
     return 0;
 }

@@ -17,7 +17,8 @@ Shape of chainN (K = 3N/4 chain nodes c0..c{K-1}, N/4 side nodes s*):
   - every fifth pair of neighbouring chain nodes is coupled by a cap;
   - the declared loop `main` runs through every chain node and is negative:
     g0 is the only inverting stage, so T(0) > 0.
-T(0) comes out near 1e4, the crossover near 15 MHz with a finite margin.
+T(0) comes out near 1e4 (9.3e3 .. 9.9e3); the crossover lies between 6 and
+18 MHz with a phase margin from about 59 degrees (512 nodes) to 88 (8 nodes).
 """
 
 import os

@@ -19,7 +19,8 @@ For each network it times, with numpy/scipy from Debian:
          wherever the margin crosses the target (60 degrees), like sweep_run.
   eval   T(jw) at one frequency: form Y0(jw), one numpy.linalg.solve.
 Each measurement is repeated until it has taken --budget seconds (default 0.5)
-or --max-reps runs; the median per run is reported.  Output: one flat JSON
+or --max-reps runs, and the median per run is reported: a run longer than the
+budget (the large networks) is done once.  Output: one flat JSON
 object on stdout, keys "NAME/OP/FIELD" (NAME is the file name without .loop).
 """
 
@@ -128,6 +129,10 @@ class Analysis:
         npts = int(math.ceil(math.log10(fhi / flo) * PER_DECADE)) + 1
         u = np.linspace(math.log10(flo), math.log10(fhi), npts)
         t = np.array([self.T(1j * TWO_PI * 10.0 ** x) for x in u])
+        # far above the poles |T| underflows to 0: keep the points where it is a number
+        ok = np.isfinite(t) & (t != 0)
+        u, t = u[ok], t[ok]
+        npts = len(u)
         ph = np.degrees(np.unwrap(np.angle(t)))
         ph += 360.0 * round(((0.0 if self.dc > 0 else -180.0) - ph[0]) / 360.0)
         lm = np.log(np.abs(t))
@@ -189,15 +194,29 @@ def ref_eval(a, hz):
     return a.T(1j * TWO_PI * hz)
 
 
+CPU_WALL = [0.0, 0.0]   # process CPU time and wall time over every timed run
+
+
 def timed(fn, budget, max_reps, min_reps=1):
     times = []
-    start = time.perf_counter()
-    while len(times) < min_reps or (time.perf_counter() - start < budget and
+    start, cpu0 = time.monotonic(), time.process_time()
+    while len(times) < min_reps or (time.monotonic() - start < budget and
                                     len(times) < max_reps):
-        t0 = time.perf_counter()
+        t0 = time.monotonic()
         res = fn()
-        times.append(time.perf_counter() - t0)
+        times.append(time.monotonic() - t0)
+    CPU_WALL[0] += time.process_time() - cpu0
+    CPU_WALL[1] += time.monotonic() - start
     return float(np.median(times)), len(times), res
+
+
+def blas_in_use():
+    """The BLAS and LAPACK libraries Debian's alternatives point numpy at."""
+    names = []
+    for lib in ("libblas.so.3", "liblapack.so.3"):
+        link = "/etc/alternatives/%s-x86_64-linux-gnu" % lib
+        names.append(os.path.realpath(link) if os.path.exists(link) else lib + ": unknown")
+    return ", ".join(names)
 
 
 def main(argv):
@@ -213,28 +232,30 @@ def main(argv):
             sweeps[int(n)] = int(p)
         else:
             files.append(a)
-    out = {"budget_s": budget, "blas_env": {k: os.environ.get(k) for k in
-                                             ("OPENBLAS_CORETYPE", "OPENBLAS_L2_SIZE",
-                                              "OPENBLAS_NUM_THREADS")}}
+    import scipy
+    out = {"budget_s": budget, "numpy": np.__version__, "scipy": scipy.__version__,
+           "blas": blas_in_use(),
+           "blas_env": " ".join("%s=%s" % (k, os.environ[k]) for k in sorted(os.environ)
+                                if k.startswith("OPENBLAS")) or "none"}
     for path in files:
         name = os.path.splitext(os.path.basename(path))[0]
         nnodes = len(nr.parse_loop_file(path).nodes)
-        # the largest networks get fewer repeats: one run is already long
-        reps = max_reps if nnodes < 512 else min(max_reps, 3)
-        sec, n, a = timed(lambda: ref_check(path), budget, reps)
+        sec, n, a = timed(lambda: ref_check(path), budget, max_reps)
         out.update({name + "/nodes": nnodes, name + "/check/s": sec, name + "/check/reps": n,
                     name + "/dc": a.dc, name + "/pm_deg": a.pm,
                     name + "/crossover_hz": a.crossover_hz, name + "/gm_db": a.gm_db,
                     name + "/stable": a.stable})
         hz = a.crossover_hz or 1e6
-        sec, n, _ = timed(lambda: ref_eval(a, hz), budget, max(reps, 20), min_reps=20)
+        sec, n, _ = timed(lambda: ref_eval(a, hz), budget, 10 ** 6, min_reps=20)
         out.update({name + "/eval/s": sec, name + "/eval/reps": n})
         if nnodes in sweeps:
             p = sweeps[nnodes]
-            sec, n, cr = timed(lambda: ref_sweep(path, p), budget, min(reps, 3))
+            sec, n, cr = timed(lambda: ref_sweep(path, p), budget, max_reps)
             out.update({name + "/sweep/s": sec, name + "/sweep/reps": n,
-                        name + "/sweep/points": p, name + "/sweep/crossings": cr})
+                        name + "/sweep/points": p, name + "/sweep/ncross": len(cr),
+                        name + "/sweep/first": cr[0] if cr else None})
         print("ref_bench: %s done" % name, file=sys.stderr, flush=True)
+    out["all/cpu_s"], out["all/wall_s"] = CPU_WALL
     json.dump(out, sys.stdout, indent=1)
     print()
     return 0

@@ -1,0 +1,62 @@
+#!/bin/sh
+# The driver behind 'make bench': builds the benchmark against the library,
+# writes the networks, times the numpy/scipy reference, then times loopwise
+# and prints both side by side. Nothing here asserts on a time.
+#
+#   BENCH_BUDGET=S   seconds each measurement is repeated for (default 0.5)
+#   BENCH_FULL=1     also the long sweeps: 200 points at 128 nodes is the
+#                    default; FULL adds 20 points at 512 nodes (about an hour
+#                    on a 2-core machine, most of it in the reference)
+#   BENCH_SIZES="8 32", BENCH_SWEEPS="8=100"   a quick trial run
+set -eu
+cd "$(dirname "$0")/.."
+OUT=build/bench
+PY=/usr/bin/python3
+BUDGET=${BENCH_BUDGET:-0.5}
+SIZES=${BENCH_SIZES:-8 32 128 512}
+SWEEPS=${BENCH_SWEEPS:-8=2000 32=2000 128=200}
+[ "${BENCH_FULL:-0}" = 1 ] && SWEEPS="$SWEEPS 512=20"
+start=$(date +%s)
+load_before=$(cut -d' ' -f1-3 /proc/loadavg)
+
+mkdir -p "$OUT"
+make --no-print-directory build/libloopwise.a >/dev/null
+echo "  CC      bench/bench.c"
+${CC:-cc} -std=c11 -D_POSIX_C_SOURCE=200809L -Wall -Wextra -Wshadow -Wconversion \
+    -Wstrict-prototypes -Wmissing-prototypes -Wno-sign-conversion -O2 -g -fopenmp -Iinclude \
+    $(pkg-config --cflags gsl) -o "$OUT/bench" bench/bench.c build/libloopwise.a \
+    $(pkg-config --libs gsl) -lm
+
+echo "  GEN     networks (seeded) into $OUT"
+$PY bench/gen_net.py "$OUT" $SIZES
+NETS=""
+for n in $SIZES; do NETS="$NETS $OUT/chain$n.loop"; done
+SWEEP_ARGS=""
+for s in $SWEEPS; do SWEEP_ARGS="$SWEEP_ARGS --sweep $s"; done
+
+# The reference runs without the OpenBLAS tuning variables the environment
+# may carry (in this command only).
+echo "  REF     numpy/scipy reference (sweeps: $SWEEPS)"
+env -u OPENBLAS_CORETYPE -u OPENBLAS_L2_SIZE $PY bench/ref_bench.py --budget "$BUDGET" \
+    $SWEEP_ARGS $NETS >"$OUT/ref.json"
+echo "  RUN     loopwise"
+"$OUT/bench" --budget "$BUDGET" --ref "$OUT/ref.json" $SWEEP_ARGS $NETS
+
+$PY - "$OUT/ref.json" <<'EOF'
+import json, sys
+r = json.load(open(sys.argv[1]))
+blas = r.get("blas", "")
+kind = "OpenBLAS" if "openblas" in blas else \
+    "Debian's reference (netlib) BLAS/LAPACK, single-threaded" if "/blas/" in blas else "?"
+print("reference: numpy %s, scipy %s on %s\n  (%s); OPENBLAS_* in its environment: %s"
+      % (r.get("numpy"), r.get("scipy"), kind, blas, r.get("blas_env")))
+EOF
+case " $SIZES " in
+*" 512 "*) case " $SWEEPS " in
+    *" 512="*) ;;
+    *) echo "512 nodes: sweep not run by default (a point costs about one check on each" \
+            "side); BENCH_FULL=1 runs 20 points." ;;
+    esac ;;
+esac
+echo "load average before: $load_before, after: $(cut -d' ' -f1-3 /proc/loadavg);" \
+     "whole run $(( $(date +%s) - start )) s"
