@@ -15,16 +15,7 @@
 #include "loopwise/diag.h"
 #include "loopwise/text.h"
 
-#define assert_rel(got, want, tol)                                                       \
-    do {                                                                                 \
-        double g_ = (got), w_ = (want);                                                  \
-        double s_ = fabs(w_) > 0 ? fabs(w_) : 1.0;                                       \
-        if (!(fabs(g_ - w_) <= (tol) * s_)) {                                            \
-            print_error("%s = %.17g, expected %.17g (relative tolerance %g)\n", #got, g_, \
-                        w_, (double)(tol));                                              \
-            fail();                                                                      \
-        }                                                                                \
-    } while (0)
+#include "testutil.h"
 
 #define assert_contains(hay, needle)                                                     \
     do {                                                                                 \

@@ -12,34 +12,10 @@
 
 #include "loopwise/design.h"
 
-#define PI 3.14159265358979323846
-#define DEG (PI / 180.0)
+#include "testutil.h"
+#define PI PI_
+#define DEG (PI_ / 180.0)
 
-#define assert_rel(got, want, tol)                                                   \
-    do {                                                                             \
-        double g_ = (got), w_ = (want);                                              \
-        if (!(fabs(g_ - w_) <= (tol) * fabs(w_))) {                                  \
-            print_error("%s = %.12g, expected %.12g (rel tol %g)\n", #got, g_, w_,   \
-                        (double)(tol));                                              \
-            fail();                                                                  \
-        }                                                                            \
-    } while (0)
-
-static desc *load_text(const char *src)
-{
-    text_file *t;
-    desc *d;
-    lw_error err;
-    lw_error_clear(&err);
-    assert_int_equal(text_from_buffer(src, strlen(src), &t, &err), 0);
-    int rc = desc_parse(t, "test.loop", &d, &err);
-    text_free(t);
-    if (rc)
-        print_error("%d:%d: %s\n", err.line, err.col, err.msg);
-    assert_int_equal(rc, 0);
-    assert_int_equal(desc_eval(d, &err), 0);
-    return d;
-}
 
 static desc_target target(const desc *d, const char *name)
 {

@@ -14,18 +14,8 @@
 #include "loopwise/diag.h"
 #include "loopwise/expr.h"
 
-#define PI_ 3.14159265358979323846
 
-#define assert_rel(got, want, tol)                                                       \
-    do {                                                                                 \
-        double g_ = (got), w_ = (want);                                                  \
-        double s_ = fabs(w_) > 0 ? fabs(w_) : 1.0;                                       \
-        if (!(fabs(g_ - w_) <= (tol) * s_)) {                                            \
-            print_error("%s = %.17g, expected %.17g (relative tolerance %g)\n", #got, g_, \
-                        w_, (double)(tol));                                              \
-            fail();                                                                      \
-        }                                                                                \
-    } while (0)
+#include "testutil.h"
 
 #define assert_contains(hay, needle)                                                     \
     do {                                                                                 \

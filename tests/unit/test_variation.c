@@ -13,18 +13,9 @@
 
 #include "loopwise/variation.h"
 
-#define PI 3.14159265358979323846
-#define DEG (PI / 180.0)
-
-#define assert_rel(got, want, tol)                                                   \
-    do {                                                                             \
-        double g_ = (got), w_ = (want);                                              \
-        if (!(fabs(g_ - w_) <= (tol) * fabs(w_))) {                                  \
-            print_error("%s = %.12g, expected %.12g (rel tol %g)\n", #got, g_, w_,   \
-                        (double)(tol));                                              \
-            fail();                                                                  \
-        }                                                                            \
-    } while (0)
+#include "testutil.h"
+#define PI PI_
+#define DEG (PI_ / 180.0)
 
 static text_file *text_of(const char *src)
 {
@@ -34,20 +25,6 @@ static text_file *text_of(const char *src)
     return t;
 }
 
-static desc *load_text(const char *src)
-{
-    text_file *t = text_of(src);
-    desc *d;
-    lw_error err;
-    int rc = desc_parse(t, "test.loop", &d, &err);
-    text_free(t);
-    if (!rc)
-        rc = desc_eval(d, &err);
-    if (rc)
-        print_error("%d:%d: %s\n", err.line, err.col, err.msg);
-    assert_int_equal(rc, 0);
-    return d;
-}
 
 /* Thermal voltage kT/q at 300 K from the exact SI values of k and q
  * (CODATA 2018: k = 1.380649e-23 J/K, q = 1.602176634e-19 C): 25.852 mV,
