@@ -133,7 +133,7 @@ static timing time_check(const char *path, double budget, check_result *r, desc 
 static timing time_sweep(const char *path, int npts, double budget, int *ncross,
                          double *first)
 {
-    check_opts o = { 0, 0, 1, 0, 0 };   /* as the sweep command: owners, no loops */
+    check_opts o = { 0, 0, 0, 0, 0 };   /* as the sweep command: no owners, no loops */
     desc *d = NULL;
     load(path, &d, NULL);
     lw_error err;

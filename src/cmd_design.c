@@ -82,9 +82,11 @@ static figure_opts fig(const options *o)
     return fo;
 }
 
+/* Sweeps and sizing need no owner nodes: the participation factors cost as
+ * much as the poles themselves on larger networks. */
 static check_opts design_opts(const options *o)
 {
-    check_opts co = { o->fmin, o->fmax, 1, 0, 0 };
+    check_opts co = { o->fmin, o->fmax, 0, 0, 0 };
     return co;
 }
 
@@ -144,8 +146,10 @@ int cmd_size(const options *o, desc *d, int *code, lw_error *err)
         return rc;
     check_result at;
     model *m = NULL;
+    co.want_owner = 1; /* the report names the node of the limiting pole */
     if ((rc = design_eval_full(d, t, r.best.value, &co, &at, &m, err)))
         return rc;
+    design_point_from(&at, r.best.value, &r.best);
     report_size(stdout, d, o->tune, t, &r, &at, goal(o), dens, o->json ? OUT_JSON : OUT_TEXT);
     check_result_free(&at);
     model_free(m);
