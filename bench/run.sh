@@ -58,5 +58,13 @@ case " $SIZES " in
             "side); BENCH_FULL=1 runs 20 points." ;;
     esac ;;
 esac
+# Monte Carlo: 100,000 samples of a ten-node loop (bench/mc10.loop), both
+# cores, timed as the command runs.
+echo
+echo "Monte Carlo: 100000 samples of bench/mc10.loop (10 nodes), $(nproc) cores:"
+mc_start=$(date +%s.%N)
+./loopwise montecarlo bench/mc10.loop --samples 100000 --seed 1 --pm 45 >/dev/null
+mc_end=$(date +%s.%N)
+$PY -c "import sys; t=float(sys.argv[2])-float(sys.argv[1]); print('  %.2f s wall, %.1f us per sample (target: under 3 s)' % (t, t/1e5*1e6))" "$mc_start" "$mc_end"
 echo "load average before: $load_before, after: $(cut -d' ' -f1-3 /proc/loadavg);" \
      "whole run $(( $(date +%s) - start )) s"
