@@ -6,9 +6,22 @@ Run with Debian's interpreter (it carries numpy and scipy):
     /usr/bin/python3 tests/ref/numpy_ref.py --selftest
     LOOPWISE=./loopwise /usr/bin/python3 tests/ref/numpy_ref.py [FILE.loop ...]
 
-With no files, every tests/ref/nets/*.loop is checked.  Each check prints one
-line; the last line is "N passed, M failed" and the exit status is 1 when any
-check failed.
+With no files, every tests/ref/nets/*.loop and tests/ref/extreme/*.loop is
+checked.  Each check prints one line; the last line is "N passed, M failed"
+and the exit status is 1 when any check failed.
+
+The networks in extreme/ stress the numerics (values over 33 decades, DC
+gains of 1e9, near-singular G, doublets, integrators, right-half-plane and
+conditionally stable loops).  For them double-precision scipy is only the
+starting point: the true answer is decided in exact rational arithmetic
+(class Truth: det polynomials over fractions.Fraction, roots polished by
+exactly evaluated Newton steps, stability by an exact Routh array, T(jw) and
+the margins on the exact rational T), and an INFO line says how far scipy
+was from it.  Their '#%' header lines set per-network tolerances, the
+expected accuracy_warning, and known issues (see read_directives).  When
+loopwise sets accuracy_warning, a number outside its tolerance prints as
+WARNED (the report said not to trust it); a known issue prints as KNOWN;
+neither counts as failed.
 
 The reference uses only dense linear algebra (numpy/scipy), none of the C
 code's numerics: poles and zeros come from generalized eigenvalues, T(jw) from
@@ -404,7 +417,7 @@ def clean(z):
 class Ref:
     """Reference answers for one network (all frequencies in rad/s inside)."""
 
-    def __init__(self, net):
+    def __init__(self, net, margins=True):
         self.net = net
         n = len(net.nodes)
         self.n = n
@@ -431,8 +444,9 @@ class Ref:
         self.cl = [clean(z) for z in gen_eig(-self.G, self.C)[0]]
         self.zeros_all, self.zeros = self._zeros()
         self.T0 = self._dc()
-        self._band()
-        self._margins()
+        if margins:              # else attach_truth() does it, exactly
+            self._band()
+            self._margins()
 
     # T(s) = -g [Y0(s)^-1]_(i,o)
     def T(self, s):
@@ -489,8 +503,12 @@ class Ref:
 
     def _band(self):
         mags = [abs(z) / TWO_PI for z in self.ol + self.zeros + self.cl]
-        big = max(mags) if mags else 0.0
-        mags = [m for m in mags if m > 1e-9 * big]
+        if getattr(self, "truth", None) is not None:
+            # exact roots: those at s = 0 are exactly 0
+            mags = [m for m in mags if m > 0]
+        else:
+            big = max([abs(z) / TWO_PI for z in self.ol + self.zeros] or [0])
+            mags = [m for m in mags if m > 1e-9 * big]
         if mags:
             self.fmin, self.fmax = min(mags) / 1000.0, max(mags) * 1000.0
         else:
@@ -500,12 +518,24 @@ class Ref:
         big = max([abs(z) for z in self.ol + self.zeros] or [0.0])
         p0 = sum(1 for z in self.ol if abs(z) <= 1e-9 * big)
         z0 = sum(1 for z in self.zeros if abs(z) <= 1e-9 * big)
+        if getattr(self, "truth", None) is not None:
+            p0, z0 = max(0, -self.truth.origin), max(0, self.truth.origin)
         t0 = self.T0
         base = 0.0 if (math.isinf(t0) or t0 > 0) else -180.0
         if math.isinf(t0) or t0 == 0:
-            # sign of the lowest-order term; not needed by the reference nets
-            base = 0.0
+            # SPEC: the sign of the lowest-order nonzero term of T at s -> 0
+            base = 0.0 if self.low_sign() > 0 else -180.0
         return base - 90.0 * (p0 - z0)
+
+    def low_sign(self):
+        """Sign of the lowest-order term of T at s -> 0: from T on the
+        positive real axis far below every nonzero pole and zero (the exact
+        truth of an extreme network sets it from the polynomials instead)."""
+        if getattr(self, "lowsign", None) is not None:
+            return self.lowsign
+        mags = [abs(z) for z in self.ol + self.zeros if abs(z) > 0]
+        sig = 1e-4 * min(mags) if mags else 1.0
+        return 1 if self.T(sig).real > 0 else -1
 
     def phase_profile(self, extra=()):
         """Dense grid (Hz) from well below the band to its top, with the
@@ -599,6 +629,27 @@ class Ref:
 
     def loop_own_gains(self):
         """SPEC 'Declared loops': own DC gain of every declared loop."""
+        truth = getattr(self, "truth", None)
+        if truth is not None:
+            return truth.loop_own_gains()
+        net = self.net
+        out = []
+        for name, sign, off_, pg in self.loop_plan():
+            if pg is None:
+                out.append((name, sign, None))
+                continue
+            e = net.elem(pg)
+            G0, _ = build(net, off=off_ | {pg})
+            i, o = net.idx(e[2]), net.idx(e[3])
+            eo = np.zeros(self.n)
+            eo[o] = 1.0
+            x = np.linalg.solve(G0, eo)
+            out.append((name, sign, float(-e[4] * x[i])))
+        return out
+
+    def loop_plan(self):
+        """For every declared loop: (name, sign, gms switched off, the
+        private gm its own gain is measured at, or None)."""
         net = self.net
         hops = []
         for name, sign, nodes in net.loops:
@@ -619,7 +670,7 @@ class Ref:
             mine = [g for gms in hops[k] for g in gms]
             private = [g for g in mine if g not in others]
             if not private:
-                out.append((name, sign, None))
+                out.append((name, sign, set(), None))
                 continue
             pg = private[0]
             off_ = set()
@@ -627,13 +678,7 @@ class Ref:
                 if j != k:
                     for gms in h:
                         off_.update(x for x in gms if x not in mine)
-            e = net.elem(pg)
-            G0, _ = build(net, off=off_ | {pg})
-            i, o = net.idx(e[2]), net.idx(e[3])
-            eo = np.zeros(self.n)
-            eo[o] = 1.0
-            x = np.linalg.solve(G0, eo)
-            out.append((name, sign, float(-e[4] * x[i])))
+            out.append((name, sign, off_, pg))
         return out
 
     def estimate_hz(self, node):
@@ -805,6 +850,339 @@ def exact_model(net):
 
 
 # --------------------------------------------------------------------------
+# Exact truth for the extreme networks (tests/ref/extreme/)
+# --------------------------------------------------------------------------
+#
+# Where double precision is not to be trusted (values over 33 decades, a near
+# singular G, doublets, a DC gain of 1e9), the true answer is decided in exact
+# rational arithmetic: D0 = det Y0(s), N = det of the bordered matrix and
+# Dcl = det Y(s) as Fraction polynomials (T = g N / D0), every root polished by
+# Newton steps evaluated exactly, stability from an exact Routh array, T(jw)
+# as the exact ratio at the rational frequency nearest to w, and the
+# crossovers and phase crossings refined by brentq on that exact T.  scipy's
+# answers serve only as starting points; how far they were off is printed as
+# INFO lines.
+
+def fsolve_entry(A, i, o):
+    """[A^-1]_(i,o) in exact arithmetic, or None when A is singular."""
+    n = len(A)
+    M = [row[:] + [Fraction(1 if r == o else 0)] for r, row in enumerate(A)]
+    for c in range(n):
+        p = next((r for r in range(c, n) if M[r][c] != 0), None)
+        if p is None:
+            return None
+        M[c], M[p] = M[p], M[c]
+        for r in range(n):
+            if r != c and M[r][c] != 0:
+                q = M[r][c] / M[c][c]
+                for k in range(c, n + 1):
+                    M[r][k] -= q * M[c][k]
+    return M[i][n] / M[i][i]
+
+
+def low_order(p):
+    """Index of the lowest nonzero coefficient."""
+    return next(k for k, c in enumerate(p) if c != 0)
+
+
+def rhp_count(p):
+    """(roots with Re > 0, roots exactly at s = 0) of the exact real
+    polynomial p (low to high), from the Routh array; None when a zero pivot
+    (a root pair on the imaginary axis, say) makes the plain array
+    inapplicable."""
+    p = ptrim(p)
+    k0 = 0
+    while len(p) > 1 and p[0] == 0:
+        p = p[1:]
+        k0 += 1
+    a = list(reversed(p))            # high to low
+    n = len(a) - 1
+    if n <= 0:
+        return 0, k0
+    w = (n + 2) // 2 + 1
+    r1 = a[0::2] + [Fraction(0)] * (w - len(a[0::2]))
+    r2 = a[1::2] + [Fraction(0)] * (w - len(a[1::2]))
+    first = [r1[0], r2[0]]
+    for _ in range(n - 1):
+        if r2[0] == 0:
+            return None
+        r3 = [(r2[0] * r1[j + 1] - r1[0] * r2[j + 1]) / r2[0]
+              for j in range(w - 1)] + [Fraction(0)]
+        r1, r2 = r2, r3
+        first.append(r2[0])
+    if any(x == 0 for x in first):
+        return None
+    changes = sum(1 for x, y in zip(first, first[1:]) if (x > 0) != (y > 0))
+    return changes, k0
+
+
+def peval(p, s):
+    """Exact value of p at the complex rational s = (x, y)."""
+    return cpoly_eval(p, s)[0]
+
+
+class TruthError(Exception):
+    pass
+
+
+class Truth:
+    """The exact answers for one network, started from a Ref's numbers."""
+
+    def __init__(self, ref):
+        self.ref = ref
+        net = ref.net
+        self.D0, self.N, self.Dcl, self.g = exact_model(net)
+        m = max(len(self.D0), len(self.N), len(self.Dcl))
+        pad = lambda p: list(p) + [Fraction(0)] * (m - len(p))
+        if pad(self.Dcl) != [a + self.g * b for a, b in zip(pad(self.D0),
+                                                            pad(self.N))]:
+            raise TruthError("det Y != det Y0 (1 + T) exactly")
+        common = pgcd(self.D0, self.N)
+        self.Dr = pdivmod(self.D0, common)[0]
+        self.Nr = pdivmod(self.N, common)[0]
+        self.hidden_deg = pdeg(common)
+        kn, kd = low_order(self.Nr), low_order(self.Dr)
+        self.origin = kn - kd            # > 0: zeros at s = 0; < 0: poles
+        lead = self.g * self.Nr[kn] / self.Dr[kd]
+        self.lowsign = 1 if lead > 0 else -1
+        if self.origin == 0:
+            self.T0 = float(lead)
+        elif self.origin < 0:
+            self.T0 = math.inf if lead > 0 else -math.inf
+        else:
+            self.T0 = 0.0
+        self.ol = self.roots(self.D0, ref.ol, "open-loop poles")
+        self.zeros = self.roots(self.Nr, ref.zeros, "zeros")
+        self.cl = self.roots(self.Dcl, ref.cl, "closed-loop poles")
+        rc = rhp_count(self.Dcl)
+        if rc is None:
+            self.stable = all(z.real < 0 for z in self.cl)
+        else:
+            self.stable = rc == (0, 0)
+            if self.stable != all(z.real < 0 for z in self.cl):
+                raise TruthError("Routh array and polished roots disagree")
+        rc0 = rhp_count(self.Dr)
+        self.ol_rhp = rc0[0] if rc0 else sum(1 for z in self.ol
+                                            if z.real > 0)
+
+    # ---- roots ----------------------------------------------------------
+    def roots(self, poly, starts, what):
+        poly = ptrim(poly)
+        k0 = 0
+        while len(poly) > 1 and poly[0] == 0:
+            poly = poly[1:]
+            k0 += 1
+        d = pdeg(poly)
+        if d <= 0:
+            return [0j] * k0
+        starts = list(starts)
+        if len(starts) == k0 + d:
+            # keep scipy's order (owner nodes are indexed by it): the k0
+            # smallest become the exact roots at s = 0
+            zero_at = set(sorted(range(len(starts)),
+                                 key=lambda j: abs(starts[j]))[:k0])
+        else:
+            # scipy found a different number: start from numpy.roots of the
+            # polynomial in a scaled variable instead
+            sc = float(abs(poly[0] / poly[-1])) ** (1.0 / d) or 1.0
+            cf = [float(c * Fraction(sc) ** k / poly[-1]) for k, c in
+                  enumerate(poly)]
+            starts = [0j] * k0 + [z * sc for z in np.roots(cf[::-1])]
+            zero_at = set(range(k0))
+        dp = [k * c for k, c in enumerate(poly)][1:]
+        if pdeg(pgcd(poly, dp)) > 0:
+            raise TruthError("%s: multiple root, exact polish not used" % what)
+        got = [polish_root(poly, z, iters=60)
+               for j, z in enumerate(starts) if j not in zero_at]
+        for z in got:
+            # converged: one more exact Newton step no longer moves it
+            (a, b), (c, e) = cpoly_eval(poly, (Fraction(z.real),
+                                               Fraction(z.imag)))
+            den = c * c + e * e
+            step = abs(complex(float((a * c + b * e) / den),
+                               float((b * c - a * e) / den))) if den else 0
+            if not step <= 1e-12 * abs(z):
+                raise TruthError("%s: Newton did not converge at %r (step "
+                                 "%.3g)" % (what, z, step))
+        for a in range(len(got)):
+            for b in range(a):
+                if abs(got[a] - got[b]) <= 1e-13 * abs(got[a]):
+                    raise TruthError("%s: two starts polished to one root %r"
+                                     % (what, got[a]))
+        # completeness: the roots reproduce the coefficients' sum and product
+        ssum = -poly[-2] / poly[-1] if d >= 1 else Fraction(0)
+        tot = sum(got)
+        scale = sum(abs(z) for z in got)
+        if abs(tot - complex(float(ssum))) > 1e-9 * scale:
+            raise TruthError("%s: root sum %r, coefficients say %r"
+                             % (what, tot, float(ssum)))
+        lp = sum(math.log(abs(z)) for z in got)
+        lq = (math.log(abs(poly[0].numerator)) - math.log(poly[0].denominator)
+              - math.log(abs(poly[-1].numerator))
+              + math.log(poly[-1].denominator))
+        if abs(lp - lq) > 1e-9 * d * max(1.0, abs(lq)):
+            raise TruthError("%s: root product off (log %r vs %r)"
+                             % (what, lp, lq))
+        it = iter(got)
+        return [0j if j in zero_at else complex(next(it))
+                for j in range(len(starts))]
+
+    # ---- T(jw) ----------------------------------------------------------
+    def T(self, w):
+        """Exact T at the rational point s = j Fraction(w), as a complex."""
+        s = (Fraction(0), Fraction(float(w)))
+        nr, ni = peval(self.N, s)
+        dr, di = peval(self.D0, s)
+        den = dr * dr + di * di
+        g = self.g
+        return complex(float(g * (nr * dr + ni * di) / den),
+                       float(g * (ni * dr - nr * di) / den))
+
+    def logmag(self, w):
+        s = (Fraction(0), Fraction(float(w)))
+        nr, ni = peval(self.N, s)
+        dr, di = peval(self.D0, s)
+        num = self.g * self.g * (nr * nr + ni * ni)
+        den = dr * dr + di * di
+        return 0.5 * (math.log(num.numerator) - math.log(num.denominator)
+                      - math.log(den.numerator) + math.log(den.denominator))
+
+    # ---- margins, on the Ref's (scipy) grid, refined on the exact T -----
+    def margins(self):
+        ref = self.ref
+        f, t, ph = ref.grid
+        n = len(f)
+        # how far is scipy's T from the exact one?  A sample of the grid
+        sample = sorted(set(list(range(0, n, max(1, n // 150))) + [n - 1]))
+        worst_m, worst_p = 0.0, 0.0
+        for k in sample:
+            te = self.T(TWO_PI * f[k])
+            worst_m = max(worst_m, abs(math.log(abs(te) / abs(t[k]))))
+            worst_p = max(worst_p, abs(math.degrees(cmath.phase(te / t[k]))))
+        self.scipy_T_err = (worst_m, worst_p)
+        if worst_m > 1e-6 or worst_p > 1e-3:
+            # scipy cannot be trusted on this grid: the exact T everywhere
+            te = np.array([self.T(TWO_PI * x) for x in f])
+            phe = np.degrees(np.unwrap(np.angle(te)))
+            phe += 360.0 * round((ph[0] - phe[0]) / 360.0)
+            t, ph = te, phe
+        else:
+            t = np.array(t, dtype=complex)
+        self.grid = (f, t, ph)
+        sel = (f >= ref.fmin * (1 - 1e-12)) & (f <= ref.fmax * (1 + 1e-12))
+        idx = np.nonzero(sel)[0]
+        lf = np.log10(f)
+        cache = {}
+
+        def tex(k):
+            if k not in cache:
+                cache[k] = self.T(TWO_PI * f[k])
+            return cache[k]
+
+        def lm_at(k):
+            return math.log(abs(tex(k)))
+
+        def logmag(x):
+            return self.logmag(TWO_PI * 10.0 ** x)
+
+        def phase_local(x, k):
+            tv = self.T(TWO_PI * 10.0 ** x)
+            return ph[k] + math.degrees(cmath.phase(tv / t[k]))
+
+        lm = np.log(np.abs(t))
+        self.crossovers = []
+        for a, b in zip(idx[:-1], idx[1:]):
+            if lm[a] * lm[b] >= 0 and lm[a] != 0:
+                continue
+            la, lb = lm_at(a), lm_at(b)
+            if la * lb > 0:
+                raise TruthError("crossover bracket at %.6g Hz does not hold "
+                                 "on the exact T" % f[a])
+            xc = brentq(logmag, lf[a], lf[b], xtol=1e-15, rtol=1e-15,
+                        maxiter=200) if la != 0 else lf[a]
+            fc = 10.0 ** xc
+            self.crossovers.append((fc, 180.0 + phase_local(xc, a)))
+        if self.crossovers:
+            self.crossover_hz, self.pm = min(self.crossovers,
+                                             key=lambda c: c[1])
+        else:
+            self.crossover_hz, self.pm = None, None
+        self.phase_crossings = []
+        for a, b in zip(idx[:-1], idx[1:]):
+            ua, ub = (ph[a] + 180.0) / 360.0, (ph[b] + 180.0) / 360.0
+            lo_, hi_ = min(ua, ub), max(ua, ub)
+            for m in range(math.floor(lo_) + 1, math.floor(hi_) + 1):
+                target = -180.0 + 360.0 * m
+                fp = 10.0 ** brentq(lambda x: phase_local(x, a) - target,
+                                    lf[a], lf[b], xtol=1e-15, rtol=1e-15,
+                                    maxiter=200)
+                gm = -self.logmag(TWO_PI * fp) / math.log(10.0) * 20.0
+                self.phase_crossings.append((fp, gm))
+        if self.phase_crossings:
+            self.phase_crossover_hz, self.gm = min(self.phase_crossings,
+                                                   key=lambda c: c[1])
+        else:
+            self.phase_crossover_hz, self.gm = None, None
+
+    def bode(self, fq):
+        """Exact |T| (dB) and unwrapped phase (deg) at the CSV frequencies."""
+        f, t, ph = self.ref.phase_profile(extra=fq)
+        pos = {x: k for k, x in enumerate(f)}
+        out = {}
+        for fr in fq:
+            k = pos[fr]
+            te = self.T(TWO_PI * fr)
+            out[fr] = (20.0 * math.log10(abs(te)),
+                       ph[k] + math.degrees(cmath.phase(te / t[k])))
+        return out
+
+    def loop_own_gains(self):
+        """Own DC gains of the declared loops, by exact elimination."""
+        net = self.ref.net
+        res = []
+        for name, sign, off, pg in self.ref.loop_plan():
+            if pg is None:
+                res.append((name, sign, None))
+                continue
+            e = net.elem(pg)
+            G0, _ = build_exact(net, off=off | {pg})
+            x = fsolve_entry(G0, net.idx(e[2]), net.idx(e[3]))
+            res.append((name, sign, None if x is None
+                        else float(-Fraction(e[4]) * x)))
+        return res
+
+
+def attach_truth(ref):
+    """Replace the Ref's answers by the exact ones; returns the Truth and
+    what scipy (double precision) had said, for the INFO lines."""
+    scipy = dict(T0=ref.T0, ol=list(ref.ol), zeros=list(ref.zeros),
+                 cl=list(ref.cl),
+                 stable=all(z.real < 0 for z in ref.cl))
+    sp_ol = list(ref.ol)
+    tr = Truth(ref)
+    ref.truth = tr
+    ref.lowsign = tr.lowsign
+    ref.T0, ref.ol, ref.zeros, ref.cl = tr.T0, tr.ol, tr.zeros, tr.cl
+    ref._band()
+    ref._margins()                   # scipy's T on a grid over the exact band
+    scipy["crossovers"] = list(ref.crossovers)
+    scipy["phase_crossings"] = list(ref.phase_crossings)
+    ref.stable = tr.stable
+    tr.margins()
+    for k in ("crossovers", "crossover_hz", "pm", "phase_crossings",
+              "phase_crossover_hz", "gm"):
+        setattr(ref, k, getattr(tr, k))
+    if len(sp_ol) == len(tr.ol):
+        # owner nodes were found for scipy's poles: follow the exact ones
+        cost = np.array([[abs(a - b) for b in sp_ol] for a in tr.ol])
+        rows, cols = linear_sum_assignment(cost)
+        own, pfr = list(ref.ol_owner), list(ref.ol_pf_ratio)
+        for r, c in zip(rows, cols):
+            ref.ol_owner[r], ref.ol_pf_ratio[r] = own[c], pfr[c]
+    return tr, scipy
+
+
+# --------------------------------------------------------------------------
 # Self test: closed forms and exact polynomials
 # --------------------------------------------------------------------------
 
@@ -864,6 +1242,27 @@ gm gb a -> b 100u
 gm gx b -> ext 1m
 loop main negative a b
 break ga
+"""
+
+SELF_INTEGRATOR = """
+node int r=inf c=10p
+node out r=10k c=1p
+gm gi out -> int -100u
+gm go int -> out 1m
+loop main negative int out
+break gi
+"""
+
+# node a alone has a negative conductance (-1/100k net, pole at +1/(R C));
+# the loop through b (gain 2 * 10) holds it: 1 + T = 0 has its root at -.
+SELF_RHP = """
+node a r=50k c=1p
+node b r=10k c=1p
+gm gneg a -> a 30u
+gm gab a -> b -1m
+gm gba b -> a 200u
+loop main negative a b
+break gab
 """
 
 
@@ -1027,6 +1426,46 @@ def selftest():
     assert len(ref.ol) == 3 and len(ref.zeros) == 0
     check_exact(ref, "decoupled")
 
+    # --- the exact machinery used for tests/ref/extreme/ ---
+    F = Fraction
+    # Routh array: (RHP roots, roots at s = 0); polynomials low to high
+    assert rhp_count([F(2), F(3), F(1)]) == (0, 0)          # (s+1)(s+2)
+    assert rhp_count([F(-2), F(1), F(1)]) == (1, 0)         # (s-1)(s+2)
+    assert rhp_count([F(0), F(1), F(1)]) == (0, 1)          # s(s+1)
+    assert rhp_count([F(3), F(-2), F(-2), F(1)]) == (2, 0)  # (s^2-s+1)(s+3)
+    assert rhp_count([F(6), F(11), F(6), F(1)]) == (0, 0)   # (s+1)(s+2)(s+3)
+    # exact [A^-1]_(i,o)
+    assert fsolve_entry([[F(2), F(1)], [F(1), F(1)]], 0, 1) == F(-1)
+    assert fsolve_entry([[F(1), F(1)], [F(1), F(1)]], 0, 0) is None
+    # two poles again, through the exact truth: the closed forms above
+    ref = Ref(parse_loop_text(SELF_TWO_POLE), margins=False)
+    tr, _ = attach_truth(ref)
+    p1, p2 = 1 / (1.6e6 * 100e-12), 1 / (1e3 * 159e-12)
+    A = 62.5e-6 * 1.6e6 * 1e-3 * 1e3
+    qa, qb, qc = 1 / (p1 * p2) ** 2, 1 / p1 ** 2 + 1 / p2 ** 2, 1 - A * A
+    wc = math.sqrt((-qb + math.sqrt(qb * qb - 4 * qa * qc)) / (2 * qa))
+    assert close(tr.T0, A, 1e-12) and tr.origin == 0 and tr.lowsign == 1
+    assert close(tr.crossover_hz, wc / TWO_PI, 1e-12)
+    assert close(tr.pm, 180 - math.degrees(math.atan(wc / p1) +
+                                           math.atan(wc / p2)), 0, 1e-9)
+    assert all(min(abs(z + p) for z in tr.ol) <= 1e-14 * p for p in (p1, p2))
+    assert tr.stable and tr.ol_rhp == 0
+    # an integrator: T = K/(s (1 + s/p)), K = gm1 gm2 R2/C1, p = 1/(R2 C2);
+    # |T(j wc)| = 1 -> wc^2 = p^2 (sqrt(1 + 4 K^2/p^2) - 1)/2,
+    # PM = 90 - atan(wc/p); T(0) unbounded, anchor -90 degrees
+    ref = Ref(parse_loop_text(SELF_INTEGRATOR), margins=False)
+    tr, _ = attach_truth(ref)
+    K, p = 100e-6 * 1e-3 * 10e3 / 10e-12, 1 / (10e3 * 1e-12)
+    wc = p * math.sqrt((math.sqrt(1 + 4 * K * K / (p * p)) - 1) / 2)
+    assert tr.origin == -1 and tr.T0 == math.inf and ref.anchor() == -90.0
+    assert close(tr.crossover_hz, wc / TWO_PI, 1e-12)
+    assert close(tr.pm, 90 - math.degrees(math.atan(wc / p)), 0, 1e-9)
+    assert tr.ol[0] == 0 or tr.ol[1] == 0
+    # an open-loop right-half-plane pole: the Routh count sees it
+    ref = Ref(parse_loop_text(SELF_RHP), margins=False)
+    tr, _ = attach_truth(ref)
+    assert tr.ol_rhp == 1 and tr.T0 < 0 and tr.stable
+
     # --- every reference network: exact polynomials agree with numpy ---
     for path in sorted(glob.glob(os.path.join(HERE, "nets", "*.loop"))):
         net = parse_loop_file(path)
@@ -1054,6 +1493,7 @@ class Tally:
     def __init__(self):
         self.passed = 0
         self.failed = 0
+        self.known = 0
 
     def check(self, ok, label, detail=""):
         if ok:
@@ -1064,6 +1504,65 @@ class Tally:
                            (": " + detail) if detail else ""))
         return ok
 
+    def note(self, tag, label, detail=""):
+        print("%s %s%s" % (tag, label, (": " + detail) if detail else ""))
+
+
+class FileTally:
+    """Collects one network's checks; `numeric` marks the ones that measure
+    accuracy (the ones an accuracy warning may excuse)."""
+
+    def __init__(self, prefix):
+        self.prefix = prefix
+        self.items = []
+
+    def check(self, ok, label, detail="", numeric=True):
+        self.items.append((bool(ok), label, detail, numeric))
+        return ok
+
+    def flush(self, tally, known=None, warned=False, expect_warning=None,
+              reported_warning=None):
+        """Into the main tally.  A failing check named in `known` is printed
+        as KNOWN (not counted as failed).  When loopwise set accuracy_warning,
+        a failing numeric check is printed as WARNED and counts as passed:
+        the report said that number is not to be trusted."""
+        known = known or {}
+        lost = []
+        seen_known = []
+        for ok, label, detail, numeric in self.items:
+            key = label[len(self.prefix):]
+            kn = next((k for k in known if key.startswith(k)), None)
+            if not ok and kn is not None:
+                tally.known += 1
+                seen_known.append(key)
+                tally.note("KNOWN", label, detail + " [known issue: %s]"
+                           % known[kn])
+            elif not ok and numeric and warned:
+                tally.passed += 1
+                lost.append(key)
+                tally.note("WARNED", label, detail + " [accuracy_warning set]")
+            else:
+                if not ok and numeric:
+                    lost.append(key)
+                tally.check(ok, label, detail)
+        if expect_warning is not None:
+            # 'true': a double-precision nodal method genuinely loses these
+            # numbers, so loopwise must warn unless it got them right anyway;
+            # 'false': it must not warn, and every number must be right.
+            rep = reported_warning is True
+            if expect_warning:
+                ok = rep or not lost
+            else:
+                ok = not rep and not lost
+            why = ("numbers outside tolerance without the warning: "
+                   if lost and not rep else "numbers outside tolerance: ")
+            tally.check(ok, self.prefix + "accuracy_warning honest",
+                        "expected %s, reported %r; %s%s%s"
+                        % (str(expect_warning).lower(), reported_warning, why,
+                           ", ".join(lost) if lost else "none",
+                           "; known issues: " + ", ".join(seen_known)
+                           if seen_known else ""))
+
 
 def relerr(a, b):
     if a == b:
@@ -1071,15 +1570,24 @@ def relerr(a, b):
     return abs(a - b) / max(abs(a), abs(b))
 
 
-def match_sets(label, ref_hz, rep, tally, cluster_rel=1e-3):
-    """ref_hz: list of complex (Hz); rep: list of dicts with re_hz, im_hz."""
+def match_sets(label, ref_hz, rep, tally, cluster_rel=1e-3, rel=1e-6,
+               verbose=False, floor=1e-9):
+    """ref_hz: list of complex (Hz); rep: list of dicts with re_hz, im_hz.
+    Errors are relative to max(|ref|, floor * largest |ref|); the exact
+    roots of an extreme network are compared with floor 0 (a root exactly at
+    s = 0 then against 1e-9 of the largest)."""
     try:
         got = [complex(float(d["re_hz"]), float(d["im_hz"])) for d in rep]
     except (TypeError, KeyError, ValueError) as e:
         tally.check(False, label, "bad entries: %r" % (e,))
         return []
     if not tally.check(len(got) == len(ref_hz), label + " count",
-                       "ref %d, reported %d" % (len(ref_hz), len(got))):
+                       "ref %d, reported %d%s" %
+                       (len(ref_hz), len(got),
+                        "" if len(got) == len(ref_hz) or not verbose else
+                        "; ref [%s], reported [%s]"
+                        % (", ".join(fmtc(z) for z in sorted(ref_hz, key=abs)),
+                           ", ".join(fmtc(z) for z in got)))):
         return []
     if not ref_hz:
         return []
@@ -1096,10 +1604,13 @@ def match_sets(label, ref_hz, rep, tally, cluster_rel=1e-3):
                 cl_id = [cl_id[b] if c == old else c for c in cl_id]
     worst = 0.0
     bad = []
+    every = []
     done_clusters = set()
+    def scale_of(r):
+        return max(abs(r), floor * big) if r != 0 else 1e-9 * big
     for k, r in enumerate(ref_hz):
         g = got[pairs[k]]
-        scale = max(abs(r), 1e-9 * big)
+        scale = scale_of(r)
         err = abs(r - g) / scale
         members = [j for j in range(len(ref_hz)) if cl_id[j] == cl_id[k]]
         if len(members) > 1:
@@ -1108,25 +1619,35 @@ def match_sets(label, ref_hz, rep, tally, cluster_rel=1e-3):
             done_clusters.add(cl_id[k])
             rm = sum(ref_hz[j] for j in members) / len(members)
             gmn = sum(got[pairs[j]] for j in members) / len(members)
-            e_mean = abs(rm - gmn) / max(abs(rm), 1e-9 * big)
-            e_mem = max(abs(ref_hz[j] - got[pairs[j]]) /
-                        max(abs(ref_hz[j]), 1e-9 * big) for j in members)
-            ok = e_mean <= 1e-6 and e_mem <= 1e-4
+            e_mean = abs(rm - gmn) / scale_of(rm)
+            e_mem = max(abs(ref_hz[j] - got[pairs[j]]) / scale_of(ref_hz[j])
+                        for j in members)
+            ok = e_mean <= rel and e_mem <= 1e-4
             worst = max(worst, e_mean)
             if not ok:
                 bad.append("cluster x%d at %s: mean err %.2e, member err %.2e"
                            % (len(members), fmtc(rm), e_mean, e_mem))
             continue
         worst = max(worst, err)
-        if err > 1e-6:
+        every.append("%s rel %.1e" % (fmtg(r), err))
+        if err > rel:
             bad.append("ref %s got %s (rel %.2e)" % (fmtc(r), fmtc(g), err))
     tally.check(not bad, label + " values",
-                ("worst rel %.2e" % worst) if not bad else "; ".join(bad))
+                (("worst rel %.2e" % worst) +
+                 (" [%s]" % "; ".join(every) if verbose else ""))
+                if not bad else "; ".join(bad))
     return [(ref_hz[k], pairs[k]) for k in range(len(ref_hz))]
 
 
 def fmtc(z):
     return "%.9g%+.9gj" % (z.real, z.imag)
+
+
+def fmtg(z):
+    """Short form of a root in Hz for the summaries."""
+    if z.imag == 0:
+        return "%.6g" % z.real
+    return "%.6g%+.6gj" % (z.real, z.imag)
 
 
 def num_close(tally, label, ref, got, rel=None, abs_=None):
@@ -1146,22 +1667,113 @@ def num_close(tally, label, ref, got, rel=None, abs_=None):
                        % (ref, got, e))
 
 
-def compare_file(path, exe, tally):
+DEFAULT_TOL = {"dc": 1e-9, "dc_db": 1e-8, "cross": 1e-6, "pm": 0.01,
+               "gm": 1e-4, "pcross": 1e-6, "roots": 1e-6, "bode_mag": 1e-6,
+               "bode_phase": 1e-4, "loop_dc": 1e-9}
+
+
+def read_directives(path):
+    """'#%' lines of an extreme network:
+         #% tol KEY=VALUE ...          tolerances (keys of DEFAULT_TOL)
+         #% accuracy_warning true|false   what loopwise's flag must be
+         #% known CHECK: text          a failing check that is a known issue
+    """
+    tol, known, warn = dict(DEFAULT_TOL), {}, None
+    with open(path, encoding="utf-8") as fh:
+        for line in fh:
+            if not line.startswith("#%"):
+                continue
+            head, _, rest = line[2:].strip().partition(" ")
+            if head == "tol":
+                for kv in rest.split():
+                    k, v = kv.split("=")
+                    if k not in tol:
+                        raise LoopError("unknown tolerance %r" % k)
+                    tol[k] = float(v)
+            elif head == "accuracy_warning":
+                warn = {"true": True, "false": False}[rest.strip()]
+            elif head == "known":
+                k, _, text = rest.partition(":")
+                known[k.strip()] = text.strip()
+            else:
+                raise LoopError("unknown directive %r" % line.strip())
+    return tol, known, warn
+
+
+def scipy_info(tally, L, ref, tr, sp):
+    """How far double-precision scipy was from the exact answer."""
+    def rootserr(ex, got):
+        if len(ex) != len(got):
+            return "count %d vs exact %d" % (len(got), len(ex))
+        if not ex:
+            return "none"
+        cost = np.array([[abs(a - b) for b in got] for a in ex])
+        rows, cols = linear_sum_assignment(cost)
+        big = max(abs(z) for z in ex)
+        return "%.1e" % max(abs(ex[r] - got[c]) / max(abs(ex[r]), 1e-9 * big)
+                            for r, c in zip(rows, cols))
+    parts = []
+    if math.isfinite(tr.T0) and math.isfinite(sp["T0"]):
+        parts.append("T0 rel %.1e" % relerr(tr.T0, sp["T0"]))
+    else:
+        parts.append("T0 %r (exact %r)" % (sp["T0"], tr.T0))
+    parts.append("poles %s" % rootserr(tr.ol, sp["ol"]))
+    parts.append("zeros %s" % rootserr(tr.zeros, sp["zeros"]))
+    parts.append("cl poles %s" % rootserr(tr.cl, sp["cl"]))
+    if len(sp["crossovers"]) == len(tr.crossovers):
+        parts.append("crossovers rel %.1e" % max(
+            [relerr(a[0], b[0]) for a, b in zip(tr.crossovers,
+                                                sp["crossovers"])] or [0]))
+        parts.append("PM abs %.1e deg" % max(
+            [abs(a[1] - b[1]) for a, b in zip(tr.crossovers,
+                                              sp["crossovers"])] or [0]))
+    else:
+        parts.append("crossovers %d vs exact %d" % (len(sp["crossovers"]),
+                                                    len(tr.crossovers)))
+    parts.append("T(jw) on the grid: |log| %.1e, phase %.1e deg"
+                 % tr.scipy_T_err)
+    parts.append("stable %s%s" % (sp["stable"], "" if sp["stable"] ==
+                                  tr.stable else " (exact %s)" % tr.stable))
+    tally.note("INFO", L + "scipy (double) vs exact", ", ".join(parts))
+
+
+def compare_file(path, exe, tally, extreme=False):
     base = os.path.basename(path)
+    if extreme:
+        base = "extreme/" + base
+    L = base + " "
+    tol, known, expect_warning = DEFAULT_TOL, {}, None
     try:
+        if extreme:
+            tol, known, expect_warning = read_directives(path)
         net = parse_loop_file(path)
-        ref = Ref(net)
+        ref = Ref(net, margins=not extreme)
+        if extreme:
+            tr, sp = attach_truth(ref)
+            scipy_info(tally, L, ref, tr, sp)
     except Exception as e:          # the reference itself failed
         tally.check(False, base + " reference", repr(e))
         return
+    ft = FileTally(L)
+    js = compare_run(path, exe, ft, net, ref, L, tol, verbose=extreme)
+    warned = bool(js and js.get("accuracy_warning") is True)
+    ft.flush(tally, known=known, warned=warned and extreme,
+             expect_warning=expect_warning if js is not None else None,
+             reported_warning=js.get("accuracy_warning") if js else None)
+
+
+def compare_run(path, exe, tally, net, ref, L, tol, verbose=False):
+    """Runs check --json and bode --csv; every comparison goes to `tally`
+    (a FileTally).  Returns the check JSON (None when it did not parse)."""
+    base = L.strip()
     try:
         proc = subprocess.run([exe, "check", path, "--json"],
                               capture_output=True, timeout=120)
     except (OSError, subprocess.TimeoutExpired) as e:
-        tally.check(False, base + " check run", repr(e))
-        return
+        tally.check(False, base + " check run", repr(e), numeric=False)
+        return None
     want_rc = 0 if ref.stable else 1
-    tally.check(proc.returncode == want_rc, base + " check exit code",
+    tally.check(proc.returncode == want_rc, L + "check exit code",
                 "expected %d, got %d%s" % (want_rc, proc.returncode,
                                            ("; stderr: " +
                                             proc.stderr.decode(errors="replace")
@@ -1171,22 +1783,23 @@ def compare_file(path, exe, tally):
     try:
         js = json.loads(proc.stdout.decode("utf-8"))
     except (ValueError, UnicodeDecodeError) as e:
-        tally.check(False, base + " json", "unparsable: %s" % e)
-        return
-    L = base + " "
+        tally.check(False, L + "json", "unparsable: %s" % e, numeric=False)
+        return None
 
     tally.check(js.get("break") == net.brk, L + "break",
-                "ref %r, reported %r" % (net.brk, js.get("break")))
-    num_close(tally, L + "dc_loop_gain", ref.T0, js.get("dc_loop_gain"),
-              rel=1e-9)
-    if js.get("dc_loop_gain_db") is not None and ref.T0 != 0:
-        num_close(tally, L + "dc_loop_gain_db",
-                  20 * math.log10(abs(ref.T0)), js.get("dc_loop_gain_db"),
-                  abs_=1e-8)
+                "ref %r, reported %r" % (net.brk, js.get("break")),
+                numeric=False)
+    t0 = None if math.isinf(ref.T0) else ref.T0
+    num_close(tally, L + "dc_loop_gain", t0, js.get("dc_loop_gain"),
+              rel=tol["dc"])
+    t0db = None if (t0 is None or t0 == 0) else 20 * math.log10(abs(t0))
+    if js.get("dc_loop_gain_db") is not None or verbose:
+        num_close(tally, L + "dc_loop_gain_db", t0db,
+                  js.get("dc_loop_gain_db"), abs_=tol["dc_db"])
     num_close(tally, L + "crossover_hz", ref.crossover_hz,
-              js.get("crossover_hz"), rel=1e-6)
+              js.get("crossover_hz"), rel=tol["cross"])
     num_close(tally, L + "phase_margin_deg", ref.pm,
-              js.get("phase_margin_deg"), abs_=0.01)
+              js.get("phase_margin_deg"), abs_=tol["pm"])
     rep_x = js.get("crossovers") or []
     if tally.check(len(rep_x) == len(ref.crossovers), L + "crossovers count",
                    "ref %d, reported %d" % (len(ref.crossovers), len(rep_x))):
@@ -1194,23 +1807,27 @@ def compare_file(path, exe, tally):
                                               sorted(rep_x,
                                                      key=lambda d: d["hz"]))):
             num_close(tally, L + "crossovers[%d].hz" % k, fc, d.get("hz"),
-                      rel=1e-6)
+                      rel=tol["cross"])
             num_close(tally, L + "crossovers[%d].phase_margin_deg" % k, pm,
-                      d.get("phase_margin_deg"), abs_=0.01)
+                      d.get("phase_margin_deg"), abs_=tol["pm"])
     num_close(tally, L + "gain_margin_db", ref.gm, js.get("gain_margin_db"),
-              abs_=1e-4)
+              abs_=tol["gm"])
     num_close(tally, L + "phase_crossover_hz", ref.phase_crossover_hz,
-              js.get("phase_crossover_hz"), rel=1e-6)
+              js.get("phase_crossover_hz"), rel=tol["pcross"])
     tally.check(js.get("stable") is ref.stable, L + "stable",
                 "ref %r, reported %r" % (ref.stable, js.get("stable")))
 
     to_hz = lambda zs: [z / TWO_PI for z in zs]
     olp = js.get("open_loop_poles") or []
-    pairs = match_sets(L + "open_loop_poles", to_hz(ref.ol), olp, tally)
+    floor = 0.0 if verbose else 1e-9
+    pairs = match_sets(L + "open_loop_poles", to_hz(ref.ol), olp, tally,
+                       rel=tol["roots"], verbose=verbose, floor=floor)
     match_sets(L + "open_loop_zeros", to_hz(ref.zeros),
-               js.get("open_loop_zeros") or [], tally)
+               js.get("open_loop_zeros") or [], tally, rel=tol["roots"],
+               verbose=verbose, floor=floor)
     match_sets(L + "closed_loop_poles", to_hz(ref.cl),
-               js.get("closed_loop_poles") or [], tally)
+               js.get("closed_loop_poles") or [], tally, rel=tol["roots"],
+               verbose=verbose, floor=floor)
     for key in ("open_loop_poles", "open_loop_zeros", "closed_loop_poles"):
         lst = js.get(key) or []
         ok = True
@@ -1221,7 +1838,31 @@ def compare_file(path, exe, tally):
                 ok = False
             elif abs(ma - mb) <= 1e-9 * max(ma, mb) and b["im_hz"] < a["im_hz"]:
                 ok = False
-        tally.check(ok, L + key + " sorted", "by magnitude, then imaginary part")
+        tally.check(ok, L + key + " sorted",
+                    "by magnitude, then imaginary part", numeric=False)
+
+    # whether T sees each open-loop pole (extreme networks: from the exact
+    # common factor of D0 and N, SPEC section 1 'decoupled modes')
+    truth = getattr(ref, "truth", None)
+    if truth is not None and pairs and len(olp) == len(ref.ol):
+        hid = []
+        for z, j in pairs:
+            zr = z * TWO_PI
+            seen = True
+            if truth.hidden_deg > 0:
+                common = pgcd(truth.D0, truth.N)
+                v = peval(common, (Fraction(zr.real), Fraction(zr.imag)))
+                dv = cpoly_eval(common, (Fraction(zr.real),
+                                         Fraction(zr.imag)))[1]
+                seen = not (abs(complex(float(v[0]), float(v[1]))) <=
+                            1e-6 * abs(zr) * abs(complex(float(dv[0]),
+                                                         float(dv[1]))))
+            rep = olp[j].get("in_loop_gain")
+            if rep is not seen:
+                hid.append("%s: exact %s, reported %r"
+                           % (fmtg(z), seen, rep))
+        tally.check(not hid, L + "open_loop_poles in_loop_gain",
+                    "; ".join(hid))
 
     # owner node and one-pole-per-node estimate (extra, SPEC section 1)
     if pairs and len(olp) == len(ref.ol):
@@ -1246,7 +1887,7 @@ def compare_file(path, exe, tally):
         tally.check(not bad_owner, L + "open_loop_poles owner node",
                     "; ".join(bad_owner))
         tally.check(not bad_est, L + "open_loop_poles estimate_hz",
-                    "; ".join(bad_est))
+                    "; ".join(bad_est), numeric=False)
 
     # declared loops' own DC gains
     rep_loops = {d.get("name"): d for d in (js.get("loops") or [])}
@@ -1254,12 +1895,18 @@ def compare_file(path, exe, tally):
         d = rep_loops.get(name)
         if not tally.check(d is not None and d.get("sign") == sign,
                            L + "loop %s sign" % name,
-                           "ref %s, reported %r" % (sign, d)):
+                           "ref %s, reported %r" % (sign, d), numeric=False):
             continue
+        if dc is not None and math.isinf(dc):
+            dc = None
         num_close(tally, L + "loop %s dc_gain" % name, dc, d.get("dc_gain"),
-                  rel=1e-9)
+                  rel=tol["loop_dc"])
 
-    # bode CSV
+    compare_bode(path, exe, tally, ref, L, tol)
+    return js
+
+
+def compare_bode(path, exe, tally, ref, L, tol):
     tmpd = tempfile.mkdtemp(prefix="loopwise_ref_")
     csv = os.path.join(tmpd, "bode.csv")
     try:
@@ -1270,7 +1917,8 @@ def compare_file(path, exe, tally):
                            L + "bode run",
                            "exit %d; %s" % (proc.returncode,
                                             proc.stderr.decode(
-                                                errors="replace")[:300])):
+                                                errors="replace")[:300]),
+                           numeric=False):
             return
         with open(csv, encoding="utf-8") as fh:
             lines = [ln.strip() for ln in fh if ln.strip()]
@@ -1279,7 +1927,8 @@ def compare_file(path, exe, tally):
             os.remove(csv)
         os.rmdir(tmpd)
     if not tally.check(lines and lines[0] == "freq_hz,mag_db,phase_deg",
-                       L + "bode header", repr(lines[0] if lines else None)):
+                       L + "bode header", repr(lines[0] if lines else None),
+                       numeric=False):
         return
     rows = []
     try:
@@ -1287,9 +1936,11 @@ def compare_file(path, exe, tally):
             f, m, p = (float(x) for x in ln.split(","))
             rows.append((f, m, p))
     except ValueError:
-        tally.check(False, L + "bode rows", "unparsable row %r" % ln)
+        tally.check(False, L + "bode rows", "unparsable row %r" % ln,
+                    numeric=False)
         return
-    tally.check(len(rows) == 60, L + "bode points", "got %d rows" % len(rows))
+    tally.check(len(rows) == 60, L + "bode points", "got %d rows" % len(rows),
+                numeric=False)
     if not rows:
         return
     tally.check(relerr(rows[0][0], ref.fmin) <= 1e-6 and
@@ -1297,19 +1948,24 @@ def compare_file(path, exe, tally):
                 "ref %.9g..%.9g Hz, csv %.9g..%.9g Hz"
                 % (ref.fmin, ref.fmax, rows[0][0], rows[-1][0]))
     fq = [r[0] for r in rows]
-    f, t, ph = ref.phase_profile(extra=fq)
-    pos = {x: k for k, x in enumerate(f)}
+    truth = getattr(ref, "truth", None)
+    if truth is not None:
+        want = truth.bode(fq)
+    else:
+        f, t, ph = ref.phase_profile(extra=fq)
+        pos = {x: k for k, x in enumerate(f)}
+        want = {fr: (20 * math.log10(abs(t[pos[fr]])), ph[pos[fr]])
+                for fr in fq}
     wm, wp = 0.0, 0.0
     badm, badp = [], []
     for fr, m, p in rows:
-        k = pos[fr]
-        rm = 20 * math.log10(abs(t[k]))
-        em, ep = abs(rm - m), abs(ph[k] - p)
+        rm, rp = want[fr]
+        em, ep = abs(rm - m), abs(rp - p)
         wm, wp = max(wm, em), max(wp, ep)
-        if em > 1e-6:
+        if em > tol["bode_mag"]:
             badm.append("%.6g Hz: ref %.9f dB, csv %.9f" % (fr, rm, m))
-        if ep > 1e-4:
-            badp.append("%.6g Hz: ref %.6f deg, csv %.6f" % (fr, ph[k], p))
+        if ep > tol["bode_phase"]:
+            badp.append("%.6g Hz: ref %.6f deg, csv %.6f" % (fr, rp, p))
     tally.check(not badm, L + "bode magnitude",
                 ("max abs err %.2e dB" % wm) if not badm else
                 "%d rows off, max %.2e dB; first: %s" % (len(badm), wm,
@@ -1321,8 +1977,13 @@ def compare_file(path, exe, tally):
 
 
 def describe(path):
-    """Print the reference answers for one network (no comparison)."""
-    ref = Ref(parse_loop_file(path))
+    """Print the reference answers for one network (no comparison); the
+    exact ones for a network in extreme/."""
+    extreme = os.path.basename(os.path.dirname(os.path.abspath(path))) \
+        == "extreme"
+    ref = Ref(parse_loop_file(path), margins=not extreme)
+    if extreme:
+        attach_truth(ref)
     print("%s: break %s, T(0) = %.12g, band %.4g..%.4g Hz"
           % (os.path.basename(path), ref.net.brk, ref.T0, ref.fmin, ref.fmax))
     print("  crossovers:", [("%.9g Hz" % f, "%.6f deg" % p)
@@ -1346,11 +2007,18 @@ def main(argv):
         for p in files:
             describe(p)
         return 0
-    files = argv or sorted(glob.glob(os.path.join(HERE, "nets", "*.loop")))
+    files = argv or (sorted(glob.glob(os.path.join(HERE, "nets", "*.loop"))) +
+                     sorted(glob.glob(os.path.join(HERE, "extreme",
+                                                   "*.loop"))))
     exe = os.environ.get("LOOPWISE", "./loopwise")
     tally = Tally()
     for p in files:
-        compare_file(p, exe, tally)
+        extreme = os.path.basename(os.path.dirname(os.path.abspath(p))) \
+            == "extreme"
+        compare_file(p, exe, tally, extreme=extreme)
+    if tally.known:
+        print("%d known issue%s (KNOWN lines above; not counted as failed)"
+              % (tally.known, "" if tally.known == 1 else "s"))
     print("%d passed, %d failed" % (tally.passed, tally.failed))
     return 1 if tally.failed else 0
 
