@@ -12,12 +12,24 @@
 
 #define TWO_PI 6.283185307179586
 
+/* The shortest decimal that reads back as exactly v (at most 17 digits). */
+static const char *exact(double v, char *buf, size_t n)
+{
+    for (int prec = 6; prec <= 17; prec++) {
+        snprintf(buf, n, "%.*g", prec, v);
+        if (strtod(buf, NULL) == v)
+            break;
+    }
+    return buf;
+}
+
 static void set_line(FILE *f, const desc *d, const char *file, const int *params, int np,
                      const double *v)
 {
+    char b[40];
     fprintf(f, "loopwise check %s", file);
     for (int j = 0; j < np; j++)
-        fprintf(f, " --set %s=%.17g", d->params[params[j]].name, v[j]);
+        fprintf(f, " --set %s=%s", d->params[params[j]].name, exact(v[j], b, sizeof b));
 }
 
 static void json_set_line(FILE *f, const desc *d, const char *file, const int *params, int np,
@@ -26,8 +38,8 @@ static void json_set_line(FILE *f, const desc *d, const char *file, const int *p
     char buf[4096];
     int len = snprintf(buf, sizeof buf, "loopwise check %s", file);
     for (int j = 0; j < np && len < (int)sizeof buf; j++)
-        len += snprintf(buf + len, sizeof buf - (size_t)len, " --set %s=%.17g",
-                        d->params[params[j]].name, v[j]);
+        len += snprintf(buf + len, sizeof buf - (size_t)len, " --set %s=%s",
+                        d->params[params[j]].name, exact(v[j], (char[40]){ 0 }, 40));
     json_string(f, buf);
 }
 

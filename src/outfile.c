@@ -1,7 +1,9 @@
 /* outfile: atomic output files (temporary file, then rename). */
+#define _XOPEN_SOURCE 700 /* realpath */
 #include "loopwise/outfile.h"
 
 #include <errno.h>
+#include <limits.h>
 #include <signal.h>
 #include <stdlib.h>
 #include <string.h>
@@ -12,7 +14,7 @@
  * being written, so that an interrupting signal can remove it before the
  * process dies. A signal handler has no other way to find it. Only one
  * output file is open at a time. */
-static char pending_tmp[4096];
+static char pending_tmp[PATH_MAX + 64];
 static volatile sig_atomic_t pending;
 
 static void on_signal(int sig)
@@ -23,18 +25,59 @@ static void on_signal(int sig)
     raise(sig);
 }
 
-static void watch(const char *tmp)
+static const int watched[] = { SIGINT, SIGTERM, SIGHUP, SIGQUIT };
+enum { NWATCHED = sizeof watched / sizeof watched[0] };
+
+/* Installs the handler on every watched signal that is not ignored (a run
+ * under nohup, or in the background of a script, keeps ignoring them). */
+static void install_handlers(void)
 {
-    static const int sigs[] = { SIGINT, SIGTERM, SIGHUP, SIGQUIT };
-    snprintf(pending_tmp, sizeof pending_tmp, "%s", tmp);
-    pending = 1;
-    for (size_t k = 0; k < sizeof sigs / sizeof *sigs; k++) {
-        struct sigaction sa;
+    for (int k = 0; k < NWATCHED; k++) {
+        struct sigaction old, sa;
+        if (sigaction(watched[k], NULL, &old) != 0 || old.sa_handler == SIG_IGN)
+            continue;
         memset(&sa, 0, sizeof sa);
         sa.sa_handler = on_signal;
         sigemptyset(&sa.sa_mask);
-        sigaction(sigs[k], &sa, NULL);
+        sigaction(watched[k], &sa, NULL);
     }
+}
+
+static void block_watched(sigset_t *old)
+{
+    sigset_t set;
+    sigemptyset(&set);
+    for (int k = 0; k < NWATCHED; k++)
+        sigaddset(&set, watched[k]);
+    sigprocmask(SIG_BLOCK, &set, old);
+}
+
+/* A target that exists and is not a regular file (a device, a FIFO) cannot
+ * be replaced by a rename; it is written in place. A symbolic link is
+ * followed, so the file it points to is replaced, not the link. */
+static int special_target(const char *path, char **resolved)
+{
+    struct stat st;
+    *resolved = NULL;
+    if (lstat(path, &st) != 0)
+        return 0;
+    if (S_ISLNK(st.st_mode)) {
+        *resolved = realpath(path, NULL);
+        if (*resolved && stat(*resolved, &st) != 0)
+            return 0;
+    }
+    return !S_ISREG(st.st_mode);
+}
+
+/* The mode of the new file: the existing file's, or 0666 less the umask. */
+static mode_t new_mode(const char *path)
+{
+    struct stat st;
+    if (stat(path, &st) == 0 && S_ISREG(st.st_mode))
+        return st.st_mode & 07777;
+    mode_t mask = umask(0);
+    umask(mask);
+    return 0666 & ~mask;
 }
 
 int outfile_open(const char *path, outfile **out, lw_error *err)
@@ -48,18 +91,42 @@ int outfile_open(const char *path, outfile **out, lw_error *err)
         *out = o;
         return LW_OK;
     }
-    size_t len = strlen(path);
-    o->path = strdup(path);
+    char *resolved;
+    if (special_target(path, &resolved)) {
+        free(resolved);
+        o->f = fopen(path, "w");
+        if (!o->f) {
+            int e = errno;
+            free(o);
+            return lw_error_set(err, LW_EINPUT, "cannot write '%s': %s", path, strerror(e));
+        }
+        o->direct = 1;
+        *out = o;
+        return LW_OK;
+    }
+    const char *target = resolved ? resolved : path;
+    size_t len = strlen(target);
+    o->path = strdup(target);
+    free(resolved);
     o->tmp = malloc(len + 32);
-    if (!o->path || !o->tmp) {
+    if (!o->path || !o->tmp || len + 32 > sizeof pending_tmp) {
         outfile_abort(o);
-        return lw_error_set(err, LW_ENOMEM, "out of memory");
+        return lw_error_set(err, LW_ENOMEM, "out of memory (or path too long)");
     }
     /* the temporary sits beside the target so that rename stays atomic */
-    const char *slash = strrchr(path, '/');
-    size_t dirlen = slash ? (size_t)(slash - path) + 1 : 0;
-    snprintf(o->tmp, len + 32, "%.*s.loopwise-XXXXXX", (int)dirlen, path);
+    const char *slash = strrchr(o->path, '/');
+    size_t dirlen = slash ? (size_t)(slash - o->path) + 1 : 0;
+    snprintf(o->tmp, len + 32, "%.*s.loopwise-XXXXXX", (int)dirlen, o->path);
+    mode_t mode = new_mode(o->path);
+    install_handlers();
+    sigset_t old;
+    block_watched(&old); /* no signal between creating and registering it */
     int fd = mkstemp(o->tmp);
+    if (fd >= 0) {
+        snprintf(pending_tmp, sizeof pending_tmp, "%s", o->tmp);
+        pending = 1;
+    }
+    sigprocmask(SIG_SETMASK, &old, NULL);
     if (fd < 0) {
         int e = errno;
         free(o->tmp);
@@ -67,8 +134,7 @@ int outfile_open(const char *path, outfile **out, lw_error *err)
         outfile_abort(o);
         return lw_error_set(err, LW_EINPUT, "cannot write '%s': %s", path, strerror(e));
     }
-    fchmod(fd, 0644);
-    watch(o->tmp);
+    fchmod(fd, mode);
     o->f = fdopen(fd, "w");
     if (!o->f) {
         close(fd);
@@ -82,6 +148,12 @@ int outfile_open(const char *path, outfile **out, lw_error *err)
 int outfile_commit(outfile *o, lw_error *err)
 {
     int rc = LW_OK;
+    if (o->direct) {
+        if (fclose(o->f) != 0)
+            rc = lw_error_set(err, LW_EINPUT, "writing the output failed");
+        free(o);
+        return rc;
+    }
     if (o->f == stdout) {
         if (fflush(stdout) != 0)
             rc = lw_error_set(err, LW_EINPUT, "writing standard output failed");
@@ -107,6 +179,10 @@ void outfile_abort(outfile *o)
         return;
     if (o->f && o->f != stdout)
         fclose(o->f);
+    if (o->direct) {
+        free(o);
+        return;
+    }
     if (o->tmp)
         unlink(o->tmp);
     pending = 0;

@@ -13,6 +13,7 @@
 typedef struct outfile {
     FILE *f;          /* write here; stdout when the path is "-" */
     char *path, *tmp;
+    int direct;       /* a device or FIFO: written in place, not replaced */
 } outfile;
 
 int outfile_open(const char *path, outfile **out, lw_error *err);
