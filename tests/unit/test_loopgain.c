@@ -37,38 +37,7 @@ static void single_rc(run *x, double R, double C, double gm, int sense_sign)
             R, C, gm, sense_sign < 0 ? "-" : "", sense_sign < 0 ? "negative" : "positive");
 }
 
-/* Two gm-RC stages in a ring: T(s) = g1 g2' R1 R2 / ((1 + sR1C1)(1 + sR2C2)),
- * with g2 written as -gm2 (an inverting stage). With out_node, a node o
- * outside the loop hangs off b. */
-static void two_pole(run *x, double R1, double C1, double R2, double C2, double gm1,
-                     double gm2, int out_node)
-{
-    analyse(x,
-            "node a r=%.17g c=%.17g\n"
-            "node b r=%.17g c=%.17g\n"
-            "%s"
-            "gm g1 b -> a %.17g\n"
-            "gm g2 a -> b -%.17g\n"
-            "%s"
-            "loop main negative a b\n",
-            R1, C1, R2, C2, out_node ? "node o r=3k c=1n\n" : "", gm1, gm2,
-            out_node ? "gm gx b -> o 1m\n" : "");
-}
 
-/* Integrator a (r=inf, Ca) then an RC stage b (Rb, Cb): T = wn^2/(s(s + 2 zeta wn))
- * with Rb = 1/(2 zeta wn Cb) and -g1 g2 = wn^2 Ca Cb (g2 = -1 mS). */
-static void second_order(run *x, double wn, double zeta, double Ca, double Cb)
-{
-    double Rb = 1.0 / (2.0 * zeta * wn * Cb);
-    double g1 = wn * wn * Ca * Cb / 1e-3;
-    analyse(x,
-            "node a r=inf c=%.17g\n"
-            "node b r=%.17g c=%.17g\n"
-            "gm g1 b -> a %.17g\n"
-            "gm g2 a -> b -1m\n"
-            "loop main negative a b\n",
-            Ca, Rb, Cb, g1);
-}
 
 /* ---- tests ---------------------------------------------------------------- */
 

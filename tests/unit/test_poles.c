@@ -43,67 +43,9 @@ static int find_root(const double complex *v, int n, double complex want, double
 
 /* ---- networks ------------------------------------------------------------ */
 
-/* One RC pole (R, C) with a resistive unity inverting sense node y:
- * T(s) = gm R/(1 + sRC) (nodal analysis, worked by hand). */
-static void single_rc(run *x, double R, double C, double gm)
-{
-    analyse(x,
-            "node x r=%.17g c=%.17g\n"
-            "node y r=1k\n"
-            "gm gf y -> x %.17g\n"
-            "gm gb x -> y -1m\n"
-            "loop main negative x y\n",
-            R, C, gm);
-}
 
-/* Two gm-RC stages in a ring; with out_node, o (3 kohm, 1 nF) hangs off b
- * through gx and is outside the loop. */
-static void two_pole(run *x, double R1, double C1, double R2, double C2, double gm1,
-                     double gm2, int out_node)
-{
-    analyse(x,
-            "node a r=%.17g c=%.17g\n"
-            "node b r=%.17g c=%.17g\n"
-            "%s"
-            "gm g1 b -> a %.17g\n"
-            "gm g2 a -> b -%.17g\n"
-            "%s"
-            "loop main negative a b\n",
-            R1, C1, R2, C2, out_node ? "node o r=3k c=1n\n" : "", gm1, gm2,
-            out_node ? "gm gx b -> o 1m\n" : "");
-}
 
-/* Three identical inverting gm-RC stages in a ring, DC loop gain A:
- * T(s) = A/(1 + s/p)^3 with p = 1/(RC). The gms come from a param. */
-static void three_pole(run *x, double A, double R, double C)
-{
-    analyse(x,
-            "param A = %.17g\n"
-            "param R = %.17g\n"
-            "param gs = A^(1/3) / R\n"
-            "node n1 r=R c=%.17g\n"
-            "node n2 r=R c=%.17g\n"
-            "node n3 r=R c=%.17g\n"
-            "gm g1 n3 -> n1 -gs\n"
-            "gm g2 n1 -> n2 -gs\n"
-            "gm g3 n2 -> n3 -gs\n"
-            "loop ring negative n1 n2 n3\n",
-            A, R, C, C, C);
-}
 
-/* Integrator a then RC stage b: T = wn^2/(s(s + 2 zeta wn)). */
-static void second_order(run *x, double wn, double zeta, double Ca, double Cb)
-{
-    double Rb = 1.0 / (2.0 * zeta * wn * Cb);
-    double g1 = wn * wn * Ca * Cb / 1e-3;
-    analyse(x,
-            "node a r=inf c=%.17g\n"
-            "node b r=%.17g c=%.17g\n"
-            "gm g1 b -> a %.17g\n"
-            "gm g2 a -> b -1m\n"
-            "loop main negative a b\n",
-            Ca, Rb, Cb, g1);
-}
 
 /* Two-stage Miller amplifier in unity feedback; inn has no capacitance. */
 static void miller(run *x, double gm1, double gm2, double R1, double C1, double R2, double C2,
