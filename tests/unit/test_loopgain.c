@@ -26,7 +26,7 @@
 /* One RC pole at x (R, C) driven by gf; y is a resistive sense node (1 kohm)
  * fed by gb = -1 mS, so v_y = -v_x. Nodal analysis by hand, break at gf:
  * T(s) = -gf * gb * 1k * R / (1 + sRC) = gm R / (1 + sRC). */
-static void single_rc(run *x, double R, double C, double gm, int sense_sign)
+static void single_rc_sign(run *x, double R, double C, double gm, int sense_sign)
 {
     analyse(x,
             "node x r=%.17g c=%.17g\n"
@@ -48,7 +48,7 @@ static void test_single_rc_dc_gain_exact(void **state)
     const double gms[] = { 50e-6, 300e-6, 2e-3, 0.1 };
     for (int k = 0; k < 4; k++) {
         run x;
-        single_rc(&x, R, C, gms[k], -1);
+        single_rc_sign(&x, R, C, gms[k], -1);
         double A = gms[k] * R; /* closed form by nodal analysis, worked by hand */
         assert_rel(x.r.tf.dc, A, 1e-12);
         assert_rel(creal(lgain_eval(x.r.lg, 0)), A, 1e-12);
@@ -64,7 +64,7 @@ static void test_single_rc_frequency_response(void **state)
     (void)state;
     const double R = 10e3, C = 1.6e-9, gm = 2e-3;
     run x;
-    single_rc(&x, R, C, gm, -1);
+    single_rc_sign(&x, R, C, gm, -1);
     double A = gm * R, p = 1.0 / (R * C);
     const double ws[] = { 1e-3, 0.1, 1.0, 7.0, 1e3, 1e6 };
     for (int k = 0; k < 6; k++) {
@@ -85,7 +85,7 @@ static void test_single_rc_sign_convention(void **state)
      * T(0) = -gm R (closed form by nodal analysis, worked by hand) */
     const double R = 4.7e3, C = 10e-12, gm = 1e-3;
     run x;
-    single_rc(&x, R, C, gm, +1);
+    single_rc_sign(&x, R, C, gm, +1);
     assert_rel(x.r.tf.dc, -gm * R, 1e-12);
     assert_int_equal(x.r.tf.sign, -1);
     assert_true(isfinite(x.r.loops[0].dc));
