@@ -187,4 +187,4 @@ memcheck: all
 bench: all
 	@sh bench/run.sh
 
--include $(LIB_OBJ:.o=.d) $(BUILD)/main.d
+-include $(LIB_OBJ:.o=.d) $(BUILD)/main.d $(TEST_BIN:=.d)

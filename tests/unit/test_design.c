@@ -27,7 +27,7 @@ static desc_target target(const desc *d, const char *name)
 
 /* Two buffered RC stages in a ring: T = A / ((1 + s/p1)(1 + s/p2)) with
  * A = g1 R1 g2 R2, p1 = 1/(R1 C1), p2 = 1/(R2 C2). */
-static const char two_pole[] =
+static const char two_pole_text[] =
     "node a r=100k c=1p\n"
     "node b r=10k  c=1p\n"
     "gm g1 a -> b 1m\n"
@@ -53,7 +53,7 @@ static double dominant_cap_for(double pm_deg, double A, double R1, double p2)
 static void size_two_pole_exact(void **state)
 {
     (void)state;
-    desc *d = load_text(two_pole);
+    desc *d = load_text(two_pole_text);
     desc_target t = target(d, "cdom");
     check_opts o = { .want_owner = 1 };
     const double R1 = 100e3, A = 1e-3 * 100e3 * 10e-3 * 10e3, p2 = 1.0 / (10e3 * 1e-12);
@@ -149,7 +149,7 @@ static void miller_rule_of_thumb(void **state)
 static void size_unreachable(void **state)
 {
     (void)state;
-    desc *d = load_text(two_pole);
+    desc *d = load_text(two_pole_text);
     desc_target t = target(d, "cdom");
     check_opts o = { .want_owner = 1 };
     design_goal g = { 89.9, NAN };

@@ -73,7 +73,7 @@ static void clopper_pearson(void **state)
  * so the yield is P(C > C*) = 1 - Phi((C* - mu)/sigma), where C* is the
  * capacitor giving exactly the target (closed form:
  * th1 + th2 = 180 - PM, cos th1 cos th2 = 1/A, wc = p2 tan th2, p1 = wc/tan th1). */
-static const char two_pole[] =
+static const char two_pole_text[] =
     "param cdom = 30p normal 6p\n"
     "node a r=100k c=cdom\n"
     "node b r=10k  c=1p\n"
@@ -90,7 +90,7 @@ static void yield_normal_cdf(void **state)
     const double th1 = (beta + diff) / 2, th2 = (beta - diff) / 2;
     const double cstar = 1.0 / (R1 * p2 * tan(th2) / tan(th1));
     const double want = 1 - gsl_cdf_ugaussian_P((cstar - 30e-12) / 6e-12);
-    text_file *t = text_of(two_pole);
+    text_file *t = text_of(two_pole_text);
     check_opts o = { 0 };
     design_goal g = { pm, NAN };
     mc_result r;
@@ -111,7 +111,7 @@ static void yield_normal_cdf(void **state)
 static void deterministic(void **state)
 {
     (void)state;
-    text_file *t = text_of(two_pole);
+    text_file *t = text_of(two_pole_text);
     check_opts o = { 0 };
     design_goal g = { 60, NAN };
     mc_result a, b, c;
