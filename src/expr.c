@@ -330,7 +330,10 @@ static int parse_name(parser *ps, int *h)
             ps->pool->n[*h].v = name[0] == 'p' ? 3.14159265358979323846 : INFINITY;
         return rc;
     }
-    int idx = ps->names ? ps->names->lookup(ps->names->ctx, name) : -1;
+    if (!ps->names)
+        return fail(ps, at, "'%s' is not a number; expected a number such as 60, 1.5k or 2.2p "
+                    "(params cannot be used here)", name);
+    int idx = ps->names->lookup(ps->names->ctx, name);
     if (idx == -2)
         return fail(ps, at, "'%s' is not a param; a value may only use params", name);
     if (idx == -3)
