@@ -7,6 +7,7 @@
 #include "loopwise/cli.h"
 #include "loopwise/figures.h"
 #include "loopwise/report.h"
+#include "loopwise/report_design.h"
 #include "loopwise/units.h"
 #include "loopwise/variation.h"
 
@@ -43,16 +44,6 @@ static void json_set_line(FILE *f, const desc *d, const char *file, const int *p
     json_string(f, buf);
 }
 
-static void json_point_fields(FILE *f, const design_point *p)
-{
-    fputs("\"phase_margin_deg\": ", f);
-    json_number(f, p->pm_deg);
-    fputs(", \"crossover_hz\": ", f);
-    json_number(f, p->crossover_hz);
-    fputs(", \"gain_margin_db\": ", f);
-    json_number(f, p->gm_db);
-    fprintf(f, ", \"stable\": %s", p->stable ? "true" : "false");
-}
 
 static void corners_text(FILE *f, const desc *d, const corner_result *r, design_goal g)
 {
@@ -102,7 +93,7 @@ int cmd_corners(const options *o, desc *d, int *code, lw_error *err)
                 json_number(stdout, r.values[c * r.nparams + j]);
             }
             fputs("}, ", stdout);
-            json_point_fields(stdout, &r.pts[c]);
+            report_point_fields(stdout, &r.pts[c]);
             fputc('}', stdout);
         }
         fprintf(stdout, "],\n \"worst\": %d, \"met\": %s, \"reproduce\": ", w + 1,
@@ -240,7 +231,7 @@ int cmd_montecarlo(const options *o, const desc *d, const text_file *t, int *cod
         fprintf(stdout, ",\n \"worst\": {\"index\": %d", r.worst + 1);
         if (r.worst >= 0) {
             fputs(", ", stdout);
-            json_point_fields(stdout, &r.pts[r.worst]);
+            report_point_fields(stdout, &r.pts[r.worst]);
             fputs(", \"reproduce\": ", stdout);
             json_set_line(stdout, d, o->file, r.params, r.nparams,
                           r.values + (size_t)r.worst * (size_t)r.nparams);

@@ -27,11 +27,9 @@ static const char *fmt_or(double v, const char *unit, char *buf, size_t n, const
     return si_format(v, unit, buf, n);
 }
 
-static void json_point(FILE *f, const design_point *p)
+void report_point_fields(FILE *f, const design_point *p)
 {
-    fputs("{\"value\": ", f);
-    json_number(f, p->value);
-    fputs(", \"phase_margin_deg\": ", f);
+    fputs("\"phase_margin_deg\": ", f);
     json_number(f, p->pm_deg);
     fputs(", \"crossover_hz\": ", f);
     json_number(f, p->crossover_hz);
@@ -39,11 +37,20 @@ static void json_point(FILE *f, const design_point *p)
     json_number(f, p->gm_db);
     fputs(", \"dc_loop_gain\": ", f);
     json_number(f, p->dc);
+    fprintf(f, ", \"stable\": %s", p->stable ? "true" : "false");
+}
+
+static void json_point(FILE *f, const design_point *p)
+{
+    fputs("{\"value\": ", f);
+    json_number(f, p->value);
+    fputs(", ", f);
+    report_point_fields(f, p);
     fputs(", \"dominant_pole_hz\": ", f);
     json_number(f, p->p1_hz);
     fputs(", \"second_pole_hz\": ", f);
     json_number(f, p->p2_hz);
-    fprintf(f, ", \"stable\": %s}", p->stable ? "true" : "false");
+    fputc('}', f);
 }
 
 static void csv_num(FILE *f, double v, const char *sep)
@@ -174,14 +181,8 @@ void report_size(FILE *f, const desc *d, const char *name, desc_target t, const 
         json_string(f, name);
         fputs(", \"value\": ", f);
         json_number(f, p->value);
-        fputs(", \"phase_margin_deg\": ", f);
-        json_number(f, p->pm_deg);
-        fputs(", \"crossover_hz\": ", f);
-        json_number(f, p->crossover_hz);
-        fputs(", \"gain_margin_db\": ", f);
-        json_number(f, p->gm_db);
-        fputs(", \"dc_loop_gain\": ", f);
-        json_number(f, p->dc);
+        fputs(", ", f);
+        report_point_fields(f, p);
         fprintf(f, ", \"met\": %s, \"window_high\": ", r->met ? "true" : "false");
         json_number(f, r->window ? r->hi_value : NAN);
         fputs(", \"area_um2\": ", f);

@@ -9,6 +9,10 @@
 
 typedef enum { OUT_TEXT, OUT_JSON, OUT_CSV } out_format;
 
+/* The margin fields of a point as JSON members (no braces): phase_margin_deg,
+ * crossover_hz, gain_margin_db, dc_loop_gain, stable. */
+void report_point_fields(FILE *f, const design_point *p);
+
 /* The unit symbol a target's value is shown with ("F", "Ω", "S" or ""). */
 const char *report_unit_symbol(const desc *d, desc_target t);
 

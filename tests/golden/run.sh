@@ -4,14 +4,7 @@
 # file; good inputs must be accepted in their LF, CRLF and byte-order-mark
 # forms alike, and --json must carry every field of SPEC section 4.
 LW=${1:-./loopwise}
-PY=/usr/bin/python3
-pass=0
-fail=0
-tmp=$(mktemp -d)
-trap 'rm -rf "$tmp"' EXIT
-
-ok() { pass=$((pass + 1)); }
-bad() { fail=$((fail + 1)); echo "FAIL: $*"; }
+. tests/golden/lib.sh
 
 for f in tests/bad/*.loop; do
     exp=$(cat "${f%.loop}.err")
@@ -83,14 +76,6 @@ done
 "$LW" --help | grep -q "usage: loopwise" && ok || bad "--help"
 
 # Design commands refuse bad requests with exit 2, a clear message and no output.
-refuse() {
-    want=$1
-    shift
-    "$LW" "$@" >"$tmp/o" 2>"$tmp/e"
-    rc=$?
-    if [ "$rc" = 2 ] && [ ! -s "$tmp/o" ] && grep -qF -- "$want" "$tmp/e"; then ok
-    else bad "$* -> exit $rc, stderr: $(head -n 1 "$tmp/e")"; fi
-}
 R=cases/refcore.loop
 refuse "unknown param or element 'ccomq' (did you mean 'ccomp'?)" size $R --tune ccomq --pm 60
 refuse "the range is inverted" size $R --tune ccomp --within 10p..1p

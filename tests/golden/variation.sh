@@ -2,22 +2,8 @@
 # Command-line tests of corners and montecarlo: refusals, exit codes, the
 # reproduce line, and results independent of the thread count.
 LW=${1:-./loopwise}
-PY=/usr/bin/python3
 R=cases/refcore.loop
-pass=0
-fail=0
-tmp=$(mktemp -d)
-trap 'rm -rf "$tmp"' EXIT
-ok() { pass=$((pass + 1)); }
-bad() { fail=$((fail + 1)); echo "FAIL: $*"; }
-refuse() {
-    want=$1
-    shift
-    "$LW" "$@" >"$tmp/o" 2>"$tmp/e"
-    rc=$?
-    if [ "$rc" = 2 ] && [ ! -s "$tmp/o" ] && grep -qF -- "$want" "$tmp/e"; then ok
-    else bad "$* -> exit $rc, stderr: $(head -n 1 "$tmp/e")"; fi
-}
+. tests/golden/lib.sh
 
 refuse "--samples takes a whole number from 1" montecarlo $R --samples 0 --seed 1
 refuse "montecarlo needs --samples N" montecarlo $R --seed 1
