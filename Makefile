@@ -5,9 +5,9 @@
 PREFIX ?= /usr/local
 DESTDIR ?=
 CC ?= cc
-PKGS := gsl
+PKGS := gsl lapacke
 OMP := -fopenmp
-DEB_PKGS := build-essential pkg-config libgsl-dev libcmocka-dev python3-numpy python3-scipy \
+DEB_PKGS := build-essential pkg-config libgsl-dev liblapacke-dev libcmocka-dev python3-numpy python3-scipy \
             gnuplot-nox
 # For 'make fuzz' and 'make sanitize' only.
 FUZZ_PKGS := clang libclang-rt-14-dev valgrind

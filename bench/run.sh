@@ -24,8 +24,8 @@ make --no-print-directory build/libloopwise.a >/dev/null
 echo "  CC      bench/bench.c"
 ${CC:-cc} -std=c11 -D_POSIX_C_SOURCE=200809L -Wall -Wextra -Wshadow -Wconversion \
     -Wstrict-prototypes -Wmissing-prototypes -Wno-sign-conversion -O2 -g -fopenmp -Iinclude \
-    $(pkg-config --cflags gsl) -o "$OUT/bench" bench/bench.c build/libloopwise.a \
-    $(pkg-config --libs gsl) -lm
+    $(pkg-config --cflags gsl lapacke) -o "$OUT/bench" bench/bench.c build/libloopwise.a \
+    $(pkg-config --libs gsl lapacke) -lm
 
 echo "  GEN     networks (seeded) into $OUT"
 $PY bench/gen_net.py "$OUT" $SIZES

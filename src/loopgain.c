@@ -271,10 +271,10 @@ static int match_hidden(lg_tf *tf, double complex z)
     return 0;
 }
 
-static int open_loop_poles(int n, const double *G0, const double *C, int want_owner,
-                           pencil *p, lg_tf *tf, lw_error *err)
+static int open_loop_poles(const double *C, int want_owner, const lgain *lg, lg_tf *tf,
+                           lw_error *err)
 {
-    int r = pencil_rank(p);
+    int r = pencil_rank(lg->p);
     tf->poles = malloc(sizeof *tf->poles * (size_t)(r + 1));
     tf->hidden = calloc((size_t)r + 1, 1);
     tf->owner = malloc(sizeof(int) * (size_t)(r + 1));
@@ -283,11 +283,12 @@ static int open_loop_poles(int n, const double *G0, const double *C, int want_ow
         free(rec);
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
-    (void)G0;
-    (void)n;
     for (int k = 0; k < r; k++)
         tf->owner[k] = -1;
-    int rc = pencil_eigen(p, C, tf->poles, want_owner ? tf->owner : NULL, err);
+    /* owners need the eigenvectors of the reduced matrix; the values alone
+     * come from the Hessenberg form the evaluator already holds */
+    int rc = want_owner ? pencil_eigen(lg->p, C, tf->poles, tf->owner, err)
+                        : pencil_hess_eigen(lg->h, tf->poles, err);
     if (rc) {
         free(rec);
         return rc;
@@ -475,7 +476,9 @@ int lg_tf_analyse(int n, const double *G0, const double *C, lgain *lg, int in, i
 {
     memset(tf, 0, sizeof *tf);
     pencil *p = lg->p;
-    int rc = open_loop_poles(n, G0, C, want_owner, p, tf, err);
+    (void)n;
+    (void)G0;
+    int rc = open_loop_poles(C, want_owner, lg, tf, err);
     if (!rc && lg->gain == 0) {
         /* the break is switched off: T is identically zero */
         tf->sign = 0;

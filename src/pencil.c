@@ -10,6 +10,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "loopwise/eigvals.h"
+
 /* Relative size below which an eigenvalue of the scaled C counts as zero. */
 #define RANK_TOL 1e-12
 /* Relative size below which a singular value of G22 makes it singular. */
@@ -306,6 +308,16 @@ int pencil_eigen(const pencil *p, const double *C, double complex *eig, int *own
     int r = p->r, rc = LW_OK;
     if (r == 0)
         return LW_OK;
+    if (!owner) {
+        /* values only: LAPACK, no Schur vectors */
+        int st = eigvals_general(r, p->M->data, eig);
+        if (st < 0)
+            return lw_error_set(err, LW_ENOMEM, "out of memory");
+        if (st > 0)
+            return lw_error_set(err, LW_ENUMERIC, "the eigenvalue iteration for the poles did "
+                                "not converge");
+        return LW_OK;
+    }
     gsl_matrix *A = gsl_matrix_alloc((size_t)r, (size_t)r);
     gsl_vector_complex *ev = gsl_vector_complex_alloc((size_t)r);
     gsl_matrix_complex *evec = gsl_matrix_complex_alloc((size_t)r, (size_t)r);
@@ -316,21 +328,7 @@ int pencil_eigen(const pencil *p, const double *C, double complex *eig, int *own
     }
     gsl_matrix_memcpy(A, p->M);
     gsl_eigen_nonsymmv_params(1, w);
-    int st;
-    if (owner) {
-        st = gsl_eigen_nonsymmv(A, ev, evec, w);
-    } else {
-        /* values only: the Schur vectors are not needed */
-        gsl_eigen_nonsymm_workspace *wv = gsl_eigen_nonsymm_alloc((size_t)r);
-        if (!wv) {
-            rc = lw_error_set(err, LW_ENOMEM, "out of memory");
-            goto done;
-        }
-        gsl_eigen_nonsymm_params(0, 1, wv);
-        st = gsl_eigen_nonsymm(A, ev, wv);
-        gsl_eigen_nonsymm_free(wv);
-    }
-    if (st != GSL_SUCCESS) {
+    if (gsl_eigen_nonsymmv(A, ev, evec, w) != GSL_SUCCESS) {
         rc = lw_error_set(err, LW_ENUMERIC, "the eigenvalue iteration for the poles did not "
                           "converge");
         goto done;
@@ -339,8 +337,7 @@ int pencil_eigen(const pencil *p, const double *C, double complex *eig, int *own
         gsl_complex z = gsl_vector_complex_get(ev, (size_t)k);
         eig[k] = GSL_REAL(z) + I * GSL_IMAG(z);
     }
-    if (owner)
-        rc = owners(p, C, evec, owner, err);
+    rc = owners(p, C, evec, owner, err);
 done:
     gsl_matrix_free(A);
     gsl_vector_complex_free(ev);
@@ -430,20 +427,12 @@ static int zero_dynamics(const pencil *p, const double *b, const double *c, doub
             for (int q = 0; q < r; q++)
                 gsl_matrix_set(W, (size_t)a, (size_t)q,
                                gsl_matrix_get(Ms, (size_t)a, (size_t)q) - kk * bb[a] * g[q]);
-        gsl_vector_complex *ev = gsl_vector_complex_alloc((size_t)r);
-        gsl_eigen_nonsymm_workspace *w = gsl_eigen_nonsymm_alloc((size_t)r);
-        if (ev && w) {
-            gsl_eigen_nonsymm_params(0, 1, w);
-            if (gsl_eigen_nonsymm(W, ev, w) == GSL_SUCCESS) {
-                for (int a = 0; a < r; a++) {
-                    gsl_complex e = gsl_vector_complex_get(ev, (size_t)a);
-                    z[(*nz)++] = nm * (GSL_REAL(e) + I * GSL_IMAG(e));
-                }
-                *done = 1;
-            }
+        if (eigvals_general(r, W->data, z) == 0) {
+            for (int a = 0; a < r; a++)
+                z[a] *= nm;
+            *nz = r;
+            *done = 1;
         }
-        gsl_vector_complex_free(ev);
-        gsl_eigen_nonsymm_free(w);
         goto done;
     }
     /* relative degree: rows c^T Ms^j into W until c^T Ms^j b is not zero.
@@ -496,10 +485,8 @@ static int zero_dynamics(const pencil *p, const double *b, const double *c, doub
     }
     /* N: orthonormal basis of the complement of span(W[:, 0..k-1]) from a QR */
     gsl_matrix *Q = gsl_matrix_alloc((size_t)r, (size_t)r), *R = gsl_matrix_alloc((size_t)r, (size_t)r);
-    gsl_matrix *Z = gsl_matrix_alloc((size_t)nr, (size_t)nr);
-    gsl_vector_complex *ev = gsl_vector_complex_alloc((size_t)nr);
-    gsl_eigen_nonsymm_workspace *w = gsl_eigen_nonsymm_alloc((size_t)nr);
-    if (!Q || !R || !Z || !ev || !w) {
+    double *MN = malloc(sizeof(double) * (size_t)(r * nr + nr * nr + 1)), *Z = MN + r * nr;
+    if (!Q || !R || !MN) {
         rc = lw_error_set(err, LW_ENOMEM, "out of memory");
     } else {
         for (int q = k; q < r; q++)
@@ -507,49 +494,40 @@ static int zero_dynamics(const pencil *p, const double *b, const double *c, doub
                 gsl_matrix_set(W, (size_t)a, (size_t)q, 0.0);
         gsl_linalg_QR_decomp(W, tau);
         gsl_linalg_QR_unpack(W, tau, Q, R);
-        /* Z = N^T (I - bb g^T / gamma) Ms N, N = Q[:, k..r-1] */
-        double *MN = malloc(sizeof(double) * (size_t)(r * nr + 1));
-        if (!MN) {
-            rc = lw_error_set(err, LW_ENOMEM, "out of memory");
-        } else {
-            for (int a = 0; a < r; a++)
-                for (int q = 0; q < nr; q++) {
-                    double sacc = 0;
-                    for (int j = 0; j < r; j++)
-                        sacc += gsl_matrix_get(Ms, (size_t)a, (size_t)j) *
-                                gsl_matrix_get(Q, (size_t)j, (size_t)(k + q));
-                    MN[a * nr + q] = sacc;
-                }
+        /* Z = N^T (I - bb g^T / gamma) Ms N, N = Q[:, k..r-1]; the matrices
+         * were allocated r x r, so their rows are r apart */
+        const double *ms = Ms->data, *qm = Q->data;
+        for (int a = 0; a < r; a++)
             for (int q = 0; q < nr; q++) {
-                double gm = 0;
-                for (int a = 0; a < r; a++)
-                    gm += g[a] * MN[a * nr + q];
-                for (int a = 0; a < r; a++)
-                    MN[a * nr + q] -= bb[a] * gm / gamma;
+                double sacc = 0;
+                for (int j = 0; j < r; j++)
+                    sacc += ms[a * r + j] * qm[j * r + k + q];
+                MN[a * nr + q] = sacc;
             }
-            for (int x = 0; x < nr; x++)
-                for (int q = 0; q < nr; q++) {
-                    double sacc = 0;
-                    for (int a = 0; a < r; a++)
-                        sacc += gsl_matrix_get(Q, (size_t)a, (size_t)(k + x)) * MN[a * nr + q];
-                    gsl_matrix_set(Z, (size_t)x, (size_t)q, sacc);
-                }
-            free(MN);
-            gsl_eigen_nonsymm_params(0, 1, w);
-            if (gsl_eigen_nonsymm(Z, ev, w) == GSL_SUCCESS) {
-                for (int a = 0; a < nr; a++) {
-                    gsl_complex e = gsl_vector_complex_get(ev, (size_t)a);
-                    z[(*nz)++] = nm * (GSL_REAL(e) + I * GSL_IMAG(e));
-                }
-                *done = 1;
+        for (int q = 0; q < nr; q++) {
+            double gm = 0;
+            for (int a = 0; a < r; a++)
+                gm += g[a] * MN[a * nr + q];
+            for (int a = 0; a < r; a++)
+                MN[a * nr + q] -= bb[a] * gm / gamma;
+        }
+        for (int x = 0; x < nr; x++)
+            for (int q = 0; q < nr; q++) {
+                double sacc = 0;
+                for (int a = 0; a < r; a++)
+                    sacc += qm[a * r + k + x] * MN[a * nr + q];
+                Z[x * nr + q] = sacc;
             }
+        if (eigvals_general(nr, Z, z) == 0) {
+            for (int a = 0; a < nr; a++)
+                z[a] *= nm;
+            *nz = nr;
+            *done = 1;
         }
     }
     gsl_matrix_free(Q);
     gsl_matrix_free(R);
-    gsl_matrix_free(Z);
-    gsl_vector_complex_free(ev);
-    gsl_eigen_nonsymm_free(w);
+    free(MN);
 done:
     gsl_matrix_free(Ms);
     gsl_matrix_free(W);
@@ -793,31 +771,30 @@ int pencil_hess_feedback_eigen(const pencil_hess *h, double gain, double complex
     if (!(fabs(den) > 1e-9 * fmax(1.0, fabs(gain * h->d0))))
         return LW_OK;
     double kappa = gain / den;
-    gsl_matrix *A = gsl_matrix_alloc((size_t)r, (size_t)r);
-    gsl_vector_complex *ev = gsl_vector_complex_alloc((size_t)r);
-    gsl_eigen_nonsymm_workspace *w = gsl_eigen_nonsymm_alloc((size_t)r);
-    int rc = LW_OK;
-    if (!A || !ev || !w) {
-        rc = lw_error_set(err, LW_ENOMEM, "out of memory");
-        goto done;
-    }
+    double *A = malloc(sizeof(double) * (size_t)(r * r));
+    if (!A)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
     for (int a = 0; a < r; a++)
         for (int k = 0; k < r; k++)
-            gsl_matrix_set(A, (size_t)a, (size_t)k, h->H[a * r + k] - kappa * h->b[a] * h->c[k]);
-    gsl_eigen_nonsymm_params(0, 1, w);
-    if (gsl_eigen_nonsymm(A, ev, w) != GSL_SUCCESS) {
-        rc = lw_error_set(err, LW_ENUMERIC, "the eigenvalue iteration for the closed-loop poles "
-                          "did not converge");
-        goto done;
-    }
-    for (int k = 0; k < r; k++) {
-        gsl_complex z = gsl_vector_complex_get(ev, (size_t)k);
-        eig[k] = GSL_REAL(z) + I * GSL_IMAG(z);
-    }
+            A[a * r + k] = h->H[a * r + k] - kappa * h->b[a] * h->c[k];
+    int st = eigvals_general(r, A, eig);
+    free(A);
+    if (st < 0)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    if (st > 0)
+        return lw_error_set(err, LW_ENUMERIC, "the eigenvalue iteration for the closed-loop "
+                            "poles did not converge");
     *ok = 1;
-done:
-    gsl_matrix_free(A);
-    gsl_vector_complex_free(ev);
-    gsl_eigen_nonsymm_free(w);
-    return rc;
+    return LW_OK;
+}
+
+int pencil_hess_eigen(const pencil_hess *h, double complex *eig, lw_error *err)
+{
+    int st = eigvals_hessenberg(h->r, h->H, eig);
+    if (st < 0)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    if (st > 0)
+        return lw_error_set(err, LW_ENUMERIC, "the eigenvalue iteration for the poles did not "
+                            "converge");
+    return LW_OK;
 }

@@ -56,6 +56,10 @@ double complex pencil_hess_eval(pencil_hess *h, double complex s);
  * and the caller must use the whole network's pencil instead. */
 int pencil_hess_feedback_eigen(const pencil_hess *h, double gain, double complex *eig, int *ok,
                                lw_error *err);
+/* The eigenvalues of H (the finite natural frequencies, rad/s) into eig[rank]:
+ * the same values as pencil_eigen without owners, from the form already
+ * reduced. */
+int pencil_hess_eigen(const pencil_hess *h, double complex *eig, lw_error *err);
 /* The diagonal scaling factor d_k of node k. */
 double pencil_scale(const pencil *p, int k);
 
