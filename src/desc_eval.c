@@ -6,9 +6,10 @@
 #include <stdlib.h>
 #include <string.h>
 
-/* Evaluates slot (expr with optional override) into *v. */
-static int eval_slot(desc *d, int expr, int override, double fixed, const char *what,
-                     double *v, lw_error *err)
+/* Evaluates slot (expr with optional override) into *v; name and suffix
+ * name the slot in an error message (joined only then). */
+static int eval_slot(desc *d, int expr, int override, double fixed, const char *name,
+                     const char *suffix, double *v, lw_error *err)
 {
     if (override == DESC_FIXED) {
         *v = fixed;
@@ -18,7 +19,7 @@ static int eval_slot(desc *d, int expr, int override, double fixed, const char *
     int rc = expr_eval(d->pool, h, d->pvals, v, err);
     if (rc != LW_OK && override >= 0) {
         char msg[LW_MSG_MAX];
-        snprintf(msg, sizeof msg, "--set %s: %.600s", what, err->msg);
+        snprintf(msg, sizeof msg, "--set %s%s: %.600s", name, suffix, err->msg);
         lw_error_set(err, LW_EINPUT, "%s", msg);
     } else if (rc != LW_OK) {
         desc_error_source(d, err);
@@ -47,20 +48,22 @@ static int eval_nodes(desc *d, lw_error *err)
         int rc;
         n->r = INFINITY;
         n->c = 0.0;
-        snprintf(what, sizeof what, "%s.r", n->name);
         if ((n->r_expr >= 0 || n->r_override != DESC_NO_OVERRIDE) &&
-            (rc = eval_slot(d, n->r_expr, n->r_override, n->r_fixed, what, &n->r, err)))
+            (rc = eval_slot(d, n->r_expr, n->r_override, n->r_fixed, n->name, ".r", &n->r, err)))
             return rc;
-        if (!(n->r > 0))
+        if (!(n->r > 0)) {
+            snprintf(what, sizeof what, "%s.r", n->name);
             return range_error(d, n->r_at, n->r_override != DESC_NO_OVERRIDE, what,
                                "a node resistance must be positive (or inf)", n->r, err);
-        snprintf(what, sizeof what, "%s.c", n->name);
+        }
         if ((n->c_expr >= 0 || n->c_override != DESC_NO_OVERRIDE) &&
-            (rc = eval_slot(d, n->c_expr, n->c_override, n->c_fixed, what, &n->c, err)))
+            (rc = eval_slot(d, n->c_expr, n->c_override, n->c_fixed, n->name, ".c", &n->c, err)))
             return rc;
-        if (!(n->c >= 0) || isinf(n->c))
+        if (!(n->c >= 0) || isinf(n->c)) {
+            snprintf(what, sizeof what, "%s.c", n->name);
             return range_error(d, n->c_at, n->c_override != DESC_NO_OVERRIDE, what,
                                "a node capacitance must be zero or positive and finite", n->c, err);
+        }
     }
     return LW_OK;
 }
@@ -73,7 +76,7 @@ static int eval_elems(desc *d, lw_error *err)
     };
     for (int k = 0; k < d->nelems; k++) {
         desc_elem *e = &d->elems[k];
-        int rc = eval_slot(d, e->expr, e->override, e->fixed, e->name, &e->value, err);
+        int rc = eval_slot(d, e->expr, e->override, e->fixed, e->name, "", &e->value, err);
         if (rc)
             return rc;
         int ok = e->kind == ELEM_GM ? isfinite(e->value) : (isfinite(e->value) && e->value > 0);
@@ -182,7 +185,7 @@ int desc_eval(desc *d, lw_error *err)
 {
     for (int k = 0; k < d->nparams; k++) {
         desc_param *p = &d->params[k];
-        int rc = eval_slot(d, p->expr, p->override, p->fixed, p->name, &p->value, err);
+        int rc = eval_slot(d, p->expr, p->override, p->fixed, p->name, "", &p->value, err);
         if (rc)
             return rc;
         d->pvals[k] = p->value;

@@ -613,7 +613,7 @@ struct pencil_hess {
     double *H;             /* r x r upper Hessenberg, row-major */
     double *b, *c;
     double d0;
-    double complex *work;  /* r x r + r */
+    double *work;          /* 2 (r x r + r): real and imaginary parts */
 };
 
 void pencil_hess_free(pencil_hess *h)
@@ -641,7 +641,7 @@ int pencil_hess_new(const pencil *p, int i, int o, pencil_hess **out, lw_error *
     h->r = r;
     h->H = malloc(sizeof(double) * (size_t)(r * r + 1));
     h->b = malloc(sizeof(double) * (size_t)(2 * r + 2));
-    h->work = malloc(sizeof(double complex) * (size_t)(r * r + r + 1));
+    h->work = malloc(sizeof(double) * 2 * (size_t)(r * r + r + 1));
     gsl_matrix *A = r ? gsl_matrix_alloc((size_t)r, (size_t)r) : NULL;
     gsl_matrix *U = r ? gsl_matrix_alloc((size_t)r, (size_t)r) : NULL;
     gsl_vector *tau = r ? gsl_vector_alloc((size_t)r) : NULL;
@@ -706,56 +706,75 @@ done:
 
 /* Gaussian elimination of the Hessenberg system (sI - H) x = b: each column
  * has one entry below the diagonal, so each step compares two rows and
- * swaps them when the lower one is larger (partial pivoting). O(r^2). */
+ * swaps them when the lower one is larger (partial pivoting). O(r^2), on
+ * separate real and imaginary parts (the operands are scaled, so the
+ * overflow guards of the library's complex arithmetic are not needed).
+ * Entries below the subdiagonal are never read, so they are not filled. */
 double complex pencil_hess_eval(pencil_hess *h, double complex s)
 {
     int r = h->r;
     if (r == 0)
         return h->d0;
-    double complex *A = h->work, *x = h->work + r * r;
+    double *ar = h->work, *ai = ar + r * r, *xr = ai + r * r, *xi = xr + r;
+    double sr = creal(s), si = cimag(s);
     for (int a = 0; a < r; a++) {
-        for (int k = 0; k < r; k++)
-            A[a * r + k] = -h->H[a * r + k];
-        A[a * r + a] += s;
-        x[a] = h->b[a];
+        int k0 = a > 0 ? a - 1 : 0;
+        for (int k = k0; k < r; k++) {
+            ar[a * r + k] = -h->H[a * r + k];
+            ai[a * r + k] = 0.0;
+        }
+        ar[a * r + a] += sr;
+        ai[a * r + a] = si;
+        xr[a] = h->b[a];
+        xi[a] = 0.0;
     }
     for (int k = 0; k < r - 1; k++) {
-        double complex *rk = A + k * r, *rn = A + (k + 1) * r;
-        if (fabs(creal(rn[k])) + fabs(cimag(rn[k])) > fabs(creal(rk[k])) + fabs(cimag(rk[k]))) {
+        double *pr = ar + k * r, *pi = ai + k * r, *nr = ar + (k + 1) * r, *ni = ai + (k + 1) * r;
+        if (fabs(nr[k]) + fabs(ni[k]) > fabs(pr[k]) + fabs(pi[k])) {
             for (int j = k; j < r; j++) {
-                double complex t = rk[j];
-                rk[j] = rn[j];
-                rn[j] = t;
+                double tr = pr[j], ti = pi[j];
+                pr[j] = nr[j];
+                pi[j] = ni[j];
+                nr[j] = tr;
+                ni[j] = ti;
             }
-            double complex t = x[k];
-            x[k] = x[k + 1];
-            x[k + 1] = t;
+            double tr = xr[k], ti = xi[k];
+            xr[k] = xr[k + 1];
+            xi[k] = xi[k + 1];
+            xr[k + 1] = tr;
+            xi[k + 1] = ti;
         }
-        if (rk[k] == 0)
-            return NAN;
-        /* division by multiplying with the conjugate: the operands are scaled, so
-         * the overflow guards of the library's complex division are not needed */
-        double nk = creal(rk[k]) * creal(rk[k]) + cimag(rk[k]) * cimag(rk[k]);
-        double complex f = rn[k] * conj(rk[k]) / nk;
-        if (f != 0) {
-            for (int j = k + 1; j < r; j++)
-                rn[j] -= f * rk[j];
-            x[k + 1] -= f * x[k];
-        }
-    }
-    double complex sum = 0;
-    for (int k = r - 1; k >= 0; k--) {
-        double complex v = x[k];
-        for (int j = k + 1; j < r; j++)
-            v -= A[k * r + j] * x[j];
-        double complex dk = A[k * r + k];
-        double nk = creal(dk) * creal(dk) + cimag(dk) * cimag(dk);
+        double nk = pr[k] * pr[k] + pi[k] * pi[k];
         if (nk == 0)
             return NAN;
-        x[k] = v * conj(dk) / nk;
-        sum += h->c[k] * x[k];
+        /* f = n_k / p_k */
+        double fr = (nr[k] * pr[k] + ni[k] * pi[k]) / nk, fi = (ni[k] * pr[k] - nr[k] * pi[k]) / nk;
+        if (fr != 0 || fi != 0) {
+            for (int j = k + 1; j < r; j++) {
+                nr[j] -= fr * pr[j] - fi * pi[j];
+                ni[j] -= fr * pi[j] + fi * pr[j];
+            }
+            xr[k + 1] -= fr * xr[k] - fi * xi[k];
+            xi[k + 1] -= fr * xi[k] + fi * xr[k];
+        }
     }
-    return sum + h->d0;
+    double sumr = 0, sumi = 0;
+    for (int k = r - 1; k >= 0; k--) {
+        const double *pr = ar + k * r, *pi = ai + k * r;
+        double vr = xr[k], vi = xi[k];
+        for (int j = k + 1; j < r; j++) {
+            vr -= pr[j] * xr[j] - pi[j] * xi[j];
+            vi -= pr[j] * xi[j] + pi[j] * xr[j];
+        }
+        double nk = pr[k] * pr[k] + pi[k] * pi[k];
+        if (nk == 0)
+            return NAN;
+        xr[k] = (vr * pr[k] + vi * pi[k]) / nk;
+        xi[k] = (vi * pr[k] - vr * pi[k]) / nk;
+        sumr += h->c[k] * xr[k];
+        sumi += h->c[k] * xi[k];
+    }
+    return sumr + h->d0 + I * sumi;
 }
 
 int pencil_hess_feedback_eigen(const pencil_hess *h, double gain, double complex *eig, int *ok,
