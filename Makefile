@@ -16,7 +16,7 @@ PYTHON := /usr/bin/python3
 WARN := -Wall -Wextra -Wshadow -Wconversion -Wstrict-prototypes -Wmissing-prototypes \
         -Wno-sign-conversion
 CFLAGS ?= -O2 -g
-ALL_CFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L $(WARN) $(CFLAGS) $(OMP) -Iinclude -MMD -MP \
+ALL_CFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L -DHAVE_INLINE $(WARN) $(CFLAGS) $(OMP) -Iinclude -MMD -MP \
               $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
 LDLIBS := $(OMP) $(shell pkg-config --libs $(PKGS) 2>/dev/null) -lm
 TEST_LDLIBS := $(shell pkg-config --libs cmocka 2>/dev/null) $(LDLIBS)

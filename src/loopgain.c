@@ -20,6 +20,8 @@ struct lgain {
     gsl_matrix_complex *Y;
     gsl_permutation *perm;
     gsl_vector_complex *rhs, *x;
+    gsl_matrix *Yr;           /* the same at real s, by a real LU */
+    gsl_vector *rr, *xr;
 };
 
 void lgain_free(lgain *lg)
@@ -34,6 +36,9 @@ void lgain_free(lgain *lg)
     gsl_permutation_free(lg->perm);
     gsl_vector_complex_free(lg->rhs);
     gsl_vector_complex_free(lg->x);
+    gsl_matrix_free(lg->Yr);
+    gsl_vector_free(lg->rr);
+    gsl_vector_free(lg->xr);
     free(lg);
 }
 
@@ -54,8 +59,12 @@ int lgain_new(int n, const double *G0, const double *C, int in, int out, double 
     lg->perm = gsl_permutation_alloc((size_t)n);
     lg->rhs = gsl_vector_complex_calloc((size_t)n);
     lg->x = gsl_vector_complex_alloc((size_t)n);
+    lg->Yr = gsl_matrix_alloc((size_t)n, (size_t)n);
+    lg->rr = gsl_vector_calloc((size_t)n);
+    lg->xr = gsl_vector_alloc((size_t)n);
     double *d = malloc(sizeof(double) * (size_t)n);
-    if (!lg->Gs || !lg->Cs || !lg->Y || !lg->perm || !lg->rhs || !lg->x || !d) {
+    if (!lg->Gs || !lg->Cs || !lg->Y || !lg->perm || !lg->rhs || !lg->x || !lg->Yr || !lg->rr ||
+        !lg->xr || !d) {
         free(d);
         lgain_free(lg);
         return lw_error_set(err, LW_ENOMEM, "out of memory");
@@ -104,12 +113,36 @@ int lgain_uses_full(const lgain *lg)
     return lg->full;
 }
 
+/* lgain_eval_full on the real axis: the same LU in real arithmetic. */
+static double eval_full_real(lgain *lg, double sr)
+{
+    int n = lg->n, sig;
+    for (int i = 0; i < n; i++) {
+        double *row = lg->Yr->data + (size_t)i * lg->Yr->tda;
+        const double *g = lg->Gs + i * n, *c = lg->Cs + i * n;
+        for (int j = 0; j < n; j++)
+            row[j] = g[j] + sr * c[j];
+    }
+    gsl_vector_set_zero(lg->rr);
+    gsl_vector_set(lg->rr, (size_t)lg->out, 1.0);
+    if (gsl_linalg_LU_decomp(lg->Yr, lg->perm, &sig) != GSL_SUCCESS)
+        return NAN;
+    for (int k = 0; k < n; k++)
+        if (gsl_matrix_get(lg->Yr, (size_t)k, (size_t)k) == 0)
+            return NAN;
+    if (gsl_linalg_LU_solve(lg->Yr, lg->perm, lg->rr, lg->xr) != GSL_SUCCESS)
+        return NAN;
+    return lg->gain * gsl_vector_get(lg->xr, (size_t)lg->in);
+}
+
 double complex lgain_eval_full(lgain *lg, double complex s)
 {
     int n = lg->n, sig;
     if (lg->gain == 0)
         return 0;
     double sr = creal(s), si = cimag(s);
+    if (si == 0)
+        return eval_full_real(lg, sr);
     for (int i = 0; i < n; i++) {
         double *row = lg->Y->data + 2 * (size_t)i * lg->Y->tda;
         const double *g = lg->Gs + i * n, *c = lg->Cs + i * n;

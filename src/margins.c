@@ -4,6 +4,7 @@
 
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_roots.h>
+#include <gsl/gsl_sort.h>
 #include <math.h>
 #include <stdlib.h>
 
@@ -294,12 +295,6 @@ static int find_root(double (*ffn)(double, void *), double (*efn)(double, void *
     return LW_OK;
 }
 
-static int cmp_double(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return x < y ? -1 : (x > y);
-}
-
 /* Log grid over the band plus every pole and zero frequency inside it, and
  * points on either side of each resonance so a narrow peak is not missed.
  * Beyond a decade outside the poles and zeros T is a plain power of f, so
@@ -343,7 +338,7 @@ static double *make_grid(const lg_tf *tf, double flo, double fhi, int per_decade
                 u[n++] = log10(f);
         }
     }
-    qsort(u, (size_t)n, sizeof *u, cmp_double);
+    gsl_sort(u, 1, (size_t)n);
     *npts = n;
     return u;
 }
