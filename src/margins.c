@@ -13,13 +13,38 @@
 #define M_LN2_ 0.69314718055994530942
 #define LW_EAGAIN_SCAN 100   /* internal: restart the scan on the LU path */
 
-/* arg(1 - jw/r) in degrees: continuous in w for every r off the jw axis. */
+/* arctangent to about 1e-8 rad for the scan only (every root it brackets is
+ * polished on the exact T): Abramowitz and Stegun 4.4.49 on |x| <= 1, and
+ * atan x = sign(x) pi/2 - atan(1/x) beyond. */
+static double scan_atan(double x)
+{
+    double ax = fabs(x), t = ax > 1.0 ? 1.0 / ax : ax, t2 = t * t;
+    double p = t * (1.0 + t2 * (-0.3333314528 + t2 * (0.1999355085 + t2 * (-0.1420889944 +
+               t2 * (0.1065626393 + t2 * (-0.0752896400 + t2 * (0.0429096138 +
+               t2 * (-0.0161657367 + t2 * 0.0028662257))))))));
+    if (ax > 1.0)
+        p = 1.5707963267948966 - p;
+    return x < 0 ? -p : p;
+}
+
+/* atan2 for the scan, built on scan_atan. */
+static double scan_atan2(double y, double x)
+{
+    if (x > 0)
+        return scan_atan(y / x);
+    if (x < 0)
+        return scan_atan(y / x) + (y >= 0 ? 3.14159265358979323846 : -3.14159265358979323846);
+    return y > 0 ? 1.5707963267948966 : (y < 0 ? -1.5707963267948966 : 0.0);
+}
+
+/* arg(1 - jw/r) in degrees: continuous in w for every r off the jw axis.
+ * Only used to pick the branch of the exact phase (and to flag a
+ * disagreement of 2 degrees), so the scan's arctangent is accurate enough. */
 static double factor_arg(double w, double complex r)
 {
-    if (cimag(r) == 0)
-        return atan(-w / creal(r)) * DEG; /* 1 - jw/r with r real */
-    double complex f = 1.0 - I * w / r;
-    return carg(f) * DEG;
+    double m2 = creal(r) * creal(r) + cimag(r) * cimag(r);
+    double re = 1.0 - w * cimag(r) / m2, im = -w * creal(r) / m2;
+    return (cimag(r) == 0 ? scan_atan(im) : scan_atan2(im, re)) * DEG;
 }
 
 static double factored_phase(const lg_tf *tf, double w)
@@ -34,11 +59,11 @@ static double factored_phase(const lg_tf *tf, double w)
     return ph;
 }
 
-double margin_phase(lgain *lg, const lg_tf *tf, double hz, double *mag, int *mismatch)
+/* The unwrapped phase of a value t = T(j 2 pi hz) already evaluated. */
+static double phase_of(const lg_tf *tf, double hz, double complex t, double *mag,
+                       int *mismatch)
 {
-    double w = TWO_PI * hz;
-    double complex t = lgain_eval(lg, I * w);
-    double pf = factored_phase(tf, w);
+    double pf = factored_phase(tf, TWO_PI * hz);
     *mag = cabs(t);
     if (!(*mag > 0) || !isfinite(*mag)) {
         if (mismatch)
@@ -50,6 +75,11 @@ double margin_phase(lgain *lg, const lg_tf *tf, double hz, double *mag, int *mis
     if (mismatch)
         *mismatch = fabs(ph - pf) > 2.0;
     return ph;
+}
+
+double margin_phase(lgain *lg, const lg_tf *tf, double hz, double *mag, int *mismatch)
+{
+    return phase_of(tf, hz, lgain_eval(lg, I * TWO_PI * hz), mag, mismatch);
 }
 
 void margin_band(const lg_tf *tf, const double complex *cl, int ncl, double *flo, double *fhi)
@@ -75,30 +105,6 @@ void margin_band(const lg_tf *tf, const double complex *cl, int ncl, double *flo
 }
 
 /* ---- the factored form, for scanning ------------------------------------- */
-
-/* arctangent to about 1e-8 rad for the scan only (every root it brackets is
- * polished on the exact T): Abramowitz and Stegun 4.4.49 on |x| <= 1, and
- * atan x = sign(x) pi/2 - atan(1/x) beyond. */
-static double scan_atan(double x)
-{
-    double ax = fabs(x), t = ax > 1.0 ? 1.0 / ax : ax, t2 = t * t;
-    double p = t * (1.0 + t2 * (-0.3333314528 + t2 * (0.1999355085 + t2 * (-0.1420889944 +
-               t2 * (0.1065626393 + t2 * (-0.0752896400 + t2 * (0.0429096138 +
-               t2 * (-0.0161657367 + t2 * 0.0028662257))))))));
-    if (ax > 1.0)
-        p = 1.5707963267948966 - p;
-    return x < 0 ? -p : p;
-}
-
-/* atan2 for the scan, built on scan_atan. */
-static double scan_atan2(double y, double x)
-{
-    if (x > 0)
-        return scan_atan(y / x);
-    if (x < 0)
-        return scan_atan(y / x) + (y >= 0 ? 3.14159265358979323846 : -3.14159265358979323846);
-    return y > 0 ? 1.5707963267948966 : (y < 0 ? -1.5707963267948966 : 0.0);
-}
 
 /* T(jw) = K (jw)^m prod(1 - jw/z) / prod(1 - jw/p): for a root r = a + jb,
  * 1 - jw/r = (1 - w b/|r|^2) - j w a/|r|^2, so each factor costs a few
@@ -317,11 +323,11 @@ static double *make_grid(const lg_tf *tf, double flo, double fhi, int per_decade
     }
     int nin = (int)ceil((ih - il) * per_decade) + 1, nlo = (int)ceil((il - ul) * 3) + 1,
         nhi = (int)ceil((uh - ih) * 3) + 1;
-    int cap = nin + nlo + nhi + 5 * (tf->npoles + tf->nzeros);
-    double *u = malloc(sizeof(double) * (size_t)cap);
+    int nx = 5 * (tf->npoles + tf->nzeros), cap = nin + nlo + nhi + nx;
+    double *u = malloc(sizeof(double) * (size_t)(cap + nx + 1)), *x = u + cap;
     if (!u)
         return NULL;
-    int n = 0;
+    int n = 0, ne = 0;
     for (int k = 0; k < nlo; k++)
         u[n++] = ul + (il - ul) * k / (nlo > 1 ? nlo - 1 : 1);
     for (int k = 0; k < nin; k++)
@@ -335,11 +341,14 @@ static double *make_grid(const lg_tf *tf, double flo, double fhi, int per_decade
         for (int j = 0; j < (q > 0.5 ? 5 : 1); j++) {
             double f = m * (1.0 + off[j] / q);
             if (f > flo && f < fhi)
-                u[n++] = log10(f);
+                x[ne++] = log10(f);
         }
     }
-    gsl_sort(u, 1, (size_t)n);
-    *npts = n;
+    /* the log grid is sorted already: sort the few extra points and merge */
+    gsl_sort(x, 1, (size_t)ne);
+    for (int i = n - 1, j = ne - 1, k = n + ne - 1; j >= 0; k--)
+        u[k] = i >= 0 && u[i] > x[j] ? u[i--] : x[j--];
+    *npts = n + ne;
     return u;
 }
 
@@ -349,7 +358,8 @@ static void add_point(margin_point *arr, int *n, double hz, double value)
         arr[(*n)++] = (margin_point){ hz, value };
 }
 
-static int spot_check(fparams *fp, margins *m, double u, double lm, double ph);
+static int spot_check(fparams *fp, margins *m, double hz, double complex t, double lm,
+                      double ph);
 
 static int crossover(fparams *fp, margins *m, double ua, double ub)
 {
@@ -359,8 +369,9 @@ static int crossover(fparams *fp, margins *m, double ua, double ub)
         return rc;
     double mag, hz = pow(10.0, u);
     int mis = 0;
-    double ph = margin_phase(fp->lg, fp->tf, hz, &mag, &mis);
-    if (spot_check(fp, m, u, NAN, NAN))
+    double complex t = lgain_eval(fp->lg, I * TWO_PI * hz);
+    double ph = phase_of(fp->tf, hz, t, &mag, &mis);
+    if (spot_check(fp, m, hz, t, NAN, NAN))
         return LW_EAGAIN_SCAN;
     m->mismatch += mis + approx;
     add_point(m->cross, &m->ncross, hz, 180.0 + ph);
@@ -395,18 +406,16 @@ static void pick_best(margins *m)
             m->best_phase = k;
 }
 
-/* Scans the grid: a sign change of log|T| brackets a crossover, a change of
- * floor((phase + 180)/360) brackets a phase crossing at -180 + 360 k. */
-/* Compares, at u, the factored form (lm, ph) with the fast exact T, and the
+/* Compares, at hz, the factored form (lm, ph) with the fast exact T (tf_), and the
  * fast T with the LU of the whole network. Where |T| matters for the margins
  * (within 80 dB of unity) a disagreement of the fast path switches the
  * evaluator to the LU path and asks for a new scan (returns 1). */
-static int spot_check(fparams *fp, margins *m, double u, double lm, double ph)
+static int spot_check(fparams *fp, margins *m, double hz, double complex tf_, double lm,
+                      double ph)
 {
-    double mag, hz = pow(10.0, u);
+    double mag;
     int mis = 0;
-    double pe = margin_phase(fp->lg, fp->tf, hz, &mag, &mis);
-    double complex tf_ = lgain_eval(fp->lg, I * TWO_PI * hz);
+    double pe = phase_of(fp->tf, hz, tf_, &mag, &mis);
     double complex tl = lgain_eval_full(fp->lg, I * TWO_PI * hz);
     double al = cabs(tl);
     int relevant = al > 1e-4 && al < 1e4;
@@ -422,6 +431,8 @@ static int spot_check(fparams *fp, margins *m, double u, double lm, double ph)
     return 0;
 }
 
+/* Scans the grid: a sign change of log|T| brackets a crossover, a change of
+ * floor((phase + 180)/360) brackets a phase crossing at -180 + 360 k. */
 static int scan(fparams *fp, margins *m, const double *u, int n)
 {
     double lm_prev = 0, ph_prev = 0;
@@ -429,8 +440,11 @@ static int scan(fparams *fp, margins *m, const double *u, int n)
     for (int k = 0; k < n && rc == LW_OK; k++) {
         double lm, ph;
         eval_at(fp, u[k], 0, &lm, &ph);
-        if (k == n / 2 && spot_check(fp, m, u[k], lm, ph))
-            return LW_EAGAIN_SCAN;
+        if (k == n / 2) {
+            double hz = pow(10.0, u[k]);
+            if (spot_check(fp, m, hz, lgain_eval(fp->lg, I * TWO_PI * hz), lm, ph))
+                return LW_EAGAIN_SCAN;
+        }
         if (!isfinite(lm))
             continue;
         above |= lm > 0;
