@@ -79,3 +79,30 @@ int eigvals_hessenberg(int n, const double *H, double complex *ev)
     free(blk);
     return rc;
 }
+
+int eigvals_hessenberg_form(int n, double *A, double *v, int nv)
+{
+    if (n <= 0)
+        return 0;
+    double *T, *wr, *wi, *tau, *work;
+    int lwork;
+    double *blk = workspace(n, &T, &wr, &wi, &tau, &work, &lwork);
+    if (!blk)
+        return -1;
+    size_t un = (size_t)n;
+    for (size_t i = 0; i < un; i++)
+        for (size_t j = 0; j < un; j++)
+            T[j * un + i] = A[i * un + j];
+    int rc = 1;
+    /* the vectors side by side are an n x nv column-major matrix already */
+    if (LAPACKE_dgehrd_work(LAPACK_COL_MAJOR, n, 1, n, T, n, tau, work, lwork) == 0 &&
+        (nv == 0 || LAPACKE_dormhr_work(LAPACK_COL_MAJOR, 'L', 'T', n, nv, 1, n, T, n, tau, v,
+                                        n, work, lwork) == 0)) {
+        for (size_t i = 0; i < un; i++)
+            for (size_t j = 0; j < un; j++)
+                A[i * un + j] = j + 1 >= i ? T[j * un + i] : 0.0;
+        rc = 0;
+    }
+    free(blk);
+    return rc;
+}

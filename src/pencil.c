@@ -636,66 +636,38 @@ int pencil_hess_new(const pencil *p, int i, int o, pencil_hess **out, lw_error *
     *out = NULL;
     int r = p->r, rc = LW_OK;
     pencil_hess *h = calloc(1, sizeof *h);
-    if (!h)
-        return lw_error_set(err, LW_ENOMEM, "out of memory");
-    h->r = r;
-    h->H = malloc(sizeof(double) * (size_t)(r * r + 1));
-    h->b = malloc(sizeof(double) * (size_t)(2 * r + 2));
-    h->work = malloc(sizeof(double) * 2 * (size_t)(r * r + r + 1));
-    gsl_matrix *A = r ? gsl_matrix_alloc((size_t)r, (size_t)r) : NULL;
-    gsl_matrix *U = r ? gsl_matrix_alloc((size_t)r, (size_t)r) : NULL;
-    gsl_vector *tau = r ? gsl_vector_alloc((size_t)r) : NULL;
-    if (!h->H || !h->b || !h->work || (r && (!A || !U || !tau))) {
+    gsl_vector *bal = r ? gsl_vector_alloc((size_t)r) : NULL;
+    if (h) {
+        h->r = r;
+        h->H = malloc(sizeof(double) * (size_t)(r * r + 1));
+        h->b = malloc(sizeof(double) * (size_t)(2 * r + 2));
+        h->work = malloc(sizeof(double) * 2 * (size_t)(r * r + r + 1));
+    }
+    if (!h || !h->H || !h->b || !h->work || (r && !bal)) {
         rc = lw_error_set(err, LW_ENOMEM, "out of memory");
         goto done;
     }
-    h->c = h->b + r + 1;
-    double *b0 = malloc(sizeof(double) * (size_t)(2 * r + 2));
-    if (!b0) {
-        rc = lw_error_set(err, LW_ENOMEM, "out of memory");
-        goto done;
-    }
-    h->d0 = r || p->m ? io_vectors(p, i, o, b0, b0 + r + 1) : 0;
+    h->c = h->b + r;
+    h->d0 = r || p->m ? io_vectors(p, i, o, h->b, h->c) : 0;
     if (r > 0) {
         /* balance first (a diagonal similarity D^-1 M D, Parlett and Reinsch):
          * the Householder steps then keep the small entries of a matrix whose
          * rows span many decades, which the evaluation needs near s = 0 */
-        gsl_vector *bal = gsl_vector_alloc((size_t)r);
-        if (!bal) {
-            free(b0);
-            rc = lw_error_set(err, LW_ENOMEM, "out of memory");
-            goto done;
-        }
-        gsl_matrix_memcpy(A, p->M);
-        gsl_linalg_balance_matrix(A, bal);
+        gsl_matrix_view A = gsl_matrix_view_array(h->H, (size_t)r, (size_t)r);
+        gsl_matrix_memcpy(&A.matrix, p->M);
+        gsl_linalg_balance_matrix(&A.matrix, bal);
         for (int a = 0; a < r; a++) {
-            b0[a] /= gsl_vector_get(bal, (size_t)a);
-            b0[r + 1 + a] *= gsl_vector_get(bal, (size_t)a);
+            h->b[a] /= gsl_vector_get(bal, (size_t)a);
+            h->c[a] *= gsl_vector_get(bal, (size_t)a);
         }
-        gsl_vector_free(bal);
-        if (gsl_linalg_hessenberg_decomp(A, tau) != GSL_SUCCESS ||
-            gsl_linalg_hessenberg_unpack(A, tau, U) != GSL_SUCCESS) {
-            free(b0);
-            rc = lw_error_set(err, LW_ENUMERIC, "Hessenberg reduction failed");
-            goto done;
-        }
-        gsl_linalg_hessenberg_set_zero(A);
-        for (int a = 0; a < r; a++) {
-            double sb = 0, sc = 0;
-            for (int k = 0; k < r; k++) {
-                sb += gsl_matrix_get(U, (size_t)k, (size_t)a) * b0[k];
-                sc += gsl_matrix_get(U, (size_t)k, (size_t)a) * b0[r + 1 + k];
-                h->H[a * r + k] = gsl_matrix_get(A, (size_t)a, (size_t)k);
-            }
-            h->b[a] = sb;
-            h->c[a] = sc;
-        }
+        /* H = U^T M U, and b, c rotated alike */
+        int st = eigvals_hessenberg_form(r, h->H, h->b, 2);
+        if (st)
+            rc = st < 0 ? lw_error_set(err, LW_ENOMEM, "out of memory")
+                        : lw_error_set(err, LW_ENUMERIC, "Hessenberg reduction failed");
     }
-    free(b0);
 done:
-    gsl_matrix_free(A);
-    gsl_matrix_free(U);
-    gsl_vector_free(tau);
+    gsl_vector_free(bal);
     if (rc) {
         pencil_hess_free(h);
         return rc;
