@@ -163,6 +163,23 @@ static void fform_eval(const fform *ff, double w, double *logmag, double *phase)
     *phase = ff->anchor + ph * DEG;
 }
 
+/* The slopes of fform_eval's log-magnitude and phase (degrees) per unit of
+ * ln w, with the values: for a factor f = 1 - jw/r, d ln f / d ln w =
+ * 1 - 1/f, whose real part is 1 - Re f/|f|^2 and imaginary part Im f/|f|^2. */
+static void fform_eval_d(const fform *ff, double w, double *logmag, double *phase,
+                         double *dlogmag, double *dphase)
+{
+    double dm = ff->origin, dp = 0;
+    for (int k = 0; k < ff->n; k++) {
+        double re = 1.0 - w * ff->f[k].c1, im = -w * ff->f[k].c2, m2 = re * re + im * im;
+        dm += ff->f[k].sign * (1.0 - re / m2);
+        dp += ff->f[k].sign * (im / m2);
+    }
+    fform_eval(ff, w, logmag, phase);
+    *dlogmag = dm;
+    *dphase = dp * DEG;
+}
+
 /* Builds the factored form; returns 0 when K cannot be found (T is zero or
  * singular at the reference point), in which case the caller scans exactly. */
 static int fform_build(lgain *lg, const lg_tf *tf, double flo, double fhi, fform *ff)
@@ -218,9 +235,8 @@ static double log_mag_ff(double u, void *vp)
 
 static double log_mag_exact(double u, void *vp)
 {
-    double lm, ph;
-    eval_at(vp, u, 1, &lm, &ph);
-    return lm;
+    const fparams *fp = vp;
+    return log(cabs(lgain_eval(fp->lg, I * TWO_PI * pow(10.0, u)))); /* no phase needed */
 }
 
 static double phase_ff(double u, void *vp)
@@ -260,19 +276,57 @@ static int brent(double (*fn)(double, void *), fparams *fp, double lo, double hi
     return st == GSL_SUCCESS ? LW_OK : LW_ENUMERIC;
 }
 
+/* Newton's method on the factored form between grid points a and b (ga and
+ * gb the function there, of opposite signs), kept inside the bracket: a step
+ * that leaves it is replaced by bisection. u is log10 f, so the slopes per
+ * ln w are multiplied by ln 10. Fails (LW_ENUMERIC) when 60 steps do not
+ * bring it to |du| < tol. */
+static int newton_ff(fparams *fp, int phase, double a, double b, double ga, double gb,
+                     double tol, double *root)
+{
+    if (ga == 0 || gb == 0) {
+        *root = ga == 0 ? a : b;
+        return LW_OK;
+    }
+    double lo = ga < 0 ? a : b, hi = ga < 0 ? b : a;
+    double x = a - ga * (b - a) / (gb - ga);
+    for (int it = 0; it < 60; it++) {
+        double lm, ph, dlm, dph;
+        fform_eval_d(fp->ff, TWO_PI * pow(10.0, x), &lm, &ph, &dlm, &dph);
+        double g = phase ? ph - fp->target : lm, dg = 2.302585092994046 * (phase ? dph : dlm);
+        if (g < 0)
+            lo = x;
+        else
+            hi = x;
+        double xn = x - g / dg;
+        if (!isfinite(xn) || !((xn - lo) * (xn - hi) < 0))
+            xn = 0.5 * (lo + hi);
+        if (fabs(xn - x) < tol || g == 0) {
+            *root = g == 0 ? x : xn;
+            return LW_OK;
+        }
+        x = xn;
+    }
+    return LW_ENUMERIC;
+}
+
 /* A root of the scanning function between grid points a and b, refined on
  * the exact T: first on the factored form, then in a small bracket around
  * it (widened until the exact function changes sign). |du| < 1e-13 is a
  * relative error in f below 3e-13. Returns 1 in *approx when the exact
  * function gave no bracket and the factored root stands. */
-static int find_root(double (*ffn)(double, void *), double (*efn)(double, void *), fparams *fp,
-                     double a, double b, double *root, int *approx)
+static int find_root(fparams *fp, int phase, double a, double b, double ga, double gb,
+                     double *root, int *approx)
 {
+    double (*ffn)(double, void *) = phase ? phase_ff : log_mag_ff;
+    double (*efn)(double, void *) = phase ? phase_exact : log_mag_exact;
     *approx = 0;
     if (!fp->ff)
         return brent(efn, fp, a, b, 1e-13, root);
     double u0;
-    int rc = brent(ffn, fp, a, b, 1e-10, &u0);
+    int rc = newton_ff(fp, phase, a, b, ga, gb, 1e-10, &u0);
+    if (rc)
+        rc = brent(ffn, fp, a, b, 1e-10, &u0);
     if (rc)
         return rc;
     /* secant steps on the exact function from the factored root: it is
@@ -364,10 +418,10 @@ static void add_point(margin_point *arr, int *n, double hz, double value)
 static int spot_check(fparams *fp, margins *m, double hz, double complex t, double lm,
                       double ph);
 
-static int crossover(fparams *fp, margins *m, double ua, double ub)
+static int crossover(fparams *fp, margins *m, double ua, double ub, double la, double lb)
 {
     double u;
-    int approx, rc = find_root(log_mag_ff, log_mag_exact, fp, ua, ub, &u, &approx);
+    int approx, rc = find_root(fp, 0, ua, ub, la, lb, &u, &approx);
     if (rc)
         return rc;
     double mag, hz = pow(10.0, u);
@@ -381,12 +435,13 @@ static int crossover(fparams *fp, margins *m, double ua, double ub)
     return LW_OK;
 }
 
-static int phase_crossing(fparams *fp, margins *m, double ua, double ub, double target)
+static int phase_crossing(fparams *fp, margins *m, double ua, double ub, double pa, double pb,
+                          double target)
 {
     double u;
     int approx;
     fp->target = target;
-    int rc = find_root(phase_ff, phase_exact, fp, ua, ub, &u, &approx);
+    int rc = find_root(fp, 1, ua, ub, pa - target, pb - target, &u, &approx);
     if (rc)
         return rc;
     double mag, hz = pow(10.0, u);
@@ -454,10 +509,10 @@ static int scan(fparams *fp, margins *m, const double *u, int n)
         below |= lm < 0;
         if (k > 0 && u[k] > u[k - 1]) {
             if ((lm_prev < 0) != (lm < 0) && lm_prev != 0)
-                rc = crossover(fp, m, u[k - 1], u[k]);
+                rc = crossover(fp, m, u[k - 1], u[k], lm_prev, lm);
             double qa = floor((ph_prev + 180.0) / 360.0), qb = floor((ph + 180.0) / 360.0);
             for (double q = fmin(qa, qb) + 1; rc == LW_OK && q <= fmax(qa, qb); q++)
-                rc = phase_crossing(fp, m, u[k - 1], u[k], -180.0 + 360.0 * q);
+                rc = phase_crossing(fp, m, u[k - 1], u[k], ph_prev, ph, -180.0 + 360.0 * q);
         }
         lm_prev = lm;
         ph_prev = ph;

@@ -171,6 +171,42 @@ static uint64_t mix(uint64_t x)
     return x ^ (x >> 31);
 }
 
+/* The generator each sample draws from: splitmix64 run as a sequence (the
+ * state advances by the golden-ratio increment and each output is the mix
+ * of the state), wrapped as a GSL generator so that GSL's distributions
+ * draw from it. Its 64-bit state takes the whole per-sample seed (GSL's
+ * Mersenne twister keeps 32 bits of a seed, so 100,000 samples would share
+ * a stream about once), and seeding it costs nothing. */
+typedef struct sm64_state {
+    uint64_t s;
+} sm64_state;
+
+static void sm64_set(void *vstate, unsigned long seed)
+{
+    ((sm64_state *)vstate)->s = (uint64_t)seed;
+}
+
+static uint64_t sm64_next(void *vstate)
+{
+    sm64_state *st = vstate;
+    uint64_t x = st->s;
+    st->s += 0x9e3779b97f4a7c15ull;
+    return mix(x);
+}
+
+static unsigned long sm64_get(void *vstate)
+{
+    return (unsigned long)(sm64_next(vstate) >> 32);
+}
+
+static double sm64_get_double(void *vstate)
+{
+    return (double)(sm64_next(vstate) >> 11) * 0x1.0p-53; /* [0, 1), 53 random bits */
+}
+
+static const gsl_rng_type sm64_type = { "splitmix64", 0xffffffffUL, 0, sizeof(sm64_state),
+                                        sm64_set, sm64_get, sm64_get_double };
+
 void mc_clopper_pearson(int x, int n, double alpha, double *lo, double *hi, double *lower1)
 {
     /* Clopper and Pearson (1934): the bounds are beta quantiles. */
@@ -325,7 +361,7 @@ int montecarlo_run(const text_file *t, const char *path, const char *const *sets
         desc *d = NULL;
         lw_error e;
         lw_error_clear(&e);
-        gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+        gsl_rng *rng = gsl_rng_alloc(&sm64_type);
         int mine = rng && load_copy(t, path, sets, nsets, &d, &e) == LW_OK;
         #pragma omp for schedule(dynamic, 64)
         for (int i = 0; i < nsamples; i++) {
