@@ -276,7 +276,9 @@ static int verify_zero(lgain *lg, double complex z)
     for (int k = 0; k < 6; k++) {
         double complex q = z + 1e-3 * mag * cexp(I * (0.3 + k * 1.0471975511965976));
         double t = cabs(lgain_eval(lg, q));
-        if (!isfinite(t))
+        /* tc not below 1e-2 t here cannot be below 1e-2 tmin: a mode T cannot
+         * see is told from a zero at the first point */
+        if (!isfinite(t) || !(tc < 1e-2 * t))
             return 0;
         tmin = fmin(tmin, t);
     }
