@@ -11,7 +11,7 @@
  * whose invariant zeros come from the bordered pencil [[M, b],[c^T, d0]].
  *
  * Ownership: pencil_new allocates a reduction, pencil_free releases it
- * (NULL accepted). Only this module and loopgain include GSL. */
+ * (NULL accepted). */
 #ifndef LOOPWISE_PENCIL_H
 #define LOOPWISE_PENCIL_H
 
