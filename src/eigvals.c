@@ -19,7 +19,8 @@ static int hqr(int n, int ilo, int ihi, double *T, double *wr, double *wi, doubl
 }
 
 /* One block for the matrix, wr, wi, the reflector scalars and the work
- * array (64 n is above what dgehrd and dhseqr ask for below n = 75). */
+ * array: 64 n, at least what dgehrd, dormhr and dhseqr require (n) and
+ * dgehrd's blocked optimum (32 n). */
 static double *workspace(int n, double **T, double **wr, double **wi, double **tau,
                          double **work, int *lwork)
 {
