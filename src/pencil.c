@@ -302,6 +302,17 @@ done:
     return rc;
 }
 
+/* An eigvals status as an lw_error: -1 out of memory, 1 no convergence. */
+static int eig_status(int st, const char *what, lw_error *err)
+{
+    if (st < 0)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    if (st > 0)
+        return lw_error_set(err, LW_ENUMERIC, "the eigenvalue iteration for %s did not converge",
+                            what);
+    return LW_OK;
+}
+
 int pencil_eigen(const pencil *p, const double *C, double complex *eig, int *owner,
                  lw_error *err)
 {
@@ -310,13 +321,7 @@ int pencil_eigen(const pencil *p, const double *C, double complex *eig, int *own
         return LW_OK;
     if (!owner) {
         /* values only: LAPACK, no Schur vectors */
-        int st = eigvals_general(r, p->M->data, eig);
-        if (st < 0)
-            return lw_error_set(err, LW_ENOMEM, "out of memory");
-        if (st > 0)
-            return lw_error_set(err, LW_ENUMERIC, "the eigenvalue iteration for the poles did "
-                                "not converge");
-        return LW_OK;
+        return eig_status(eigvals_general(r, p->M->data, eig), "the poles", err);
     }
     gsl_matrix *A = gsl_matrix_alloc((size_t)r, (size_t)r);
     gsl_vector_complex *ev = gsl_vector_complex_alloc((size_t)r);
@@ -768,24 +773,13 @@ int pencil_hess_feedback_eigen(const pencil_hess *h, double gain, double complex
     for (int a = 0; a < r; a++)
         for (int k = 0; k < r; k++)
             A[a * r + k] = h->H[a * r + k] - kappa * h->b[a] * h->c[k];
-    int st = eigvals_general(r, A, eig);
+    int rc = eig_status(eigvals_general(r, A, eig), "the closed-loop poles", err);
     free(A);
-    if (st < 0)
-        return lw_error_set(err, LW_ENOMEM, "out of memory");
-    if (st > 0)
-        return lw_error_set(err, LW_ENUMERIC, "the eigenvalue iteration for the closed-loop "
-                            "poles did not converge");
-    *ok = 1;
-    return LW_OK;
+    *ok = rc == LW_OK;
+    return rc;
 }
 
 int pencil_hess_eigen(const pencil_hess *h, double complex *eig, lw_error *err)
 {
-    int st = eigvals_hessenberg(h->r, h->H, eig);
-    if (st < 0)
-        return lw_error_set(err, LW_ENOMEM, "out of memory");
-    if (st > 0)
-        return lw_error_set(err, LW_ENUMERIC, "the eigenvalue iteration for the poles did not "
-                            "converge");
-    return LW_OK;
+    return eig_status(eigvals_hessenberg(h->r, h->H, eig), "the poles", err);
 }
