@@ -56,7 +56,7 @@ static int return_ratio(const model *m, int b, unsigned char *off, double *G, in
     const model_gm *g = &m->gm[b];
     int rc = lgain_new(m->n, G, m->C, g->in, g->out, g->g, lg, err);
     if (!rc)
-        rc = lg_tf_analyse(m->n, G, m->C, *lg, g->in, g->out, want_owner, tf, err);
+        rc = lg_tf_analyse(m->C, *lg, want_owner, tf, err);
     if (rc) {
         lgain_free(*lg);
         *lg = NULL;
@@ -82,7 +82,7 @@ static int break_analysis(const model *m, unsigned char *off, double *G0, double
     int rc1 = LW_OK, rc2 = LW_OK;
     lw_error e2;
     lw_error_clear(&e2);
-    rc1 = lg_tf_analyse(m->n, G0, m->C, r->lg, g->in, g->out, want_owner, &r->tf, err);
+    rc1 = lg_tf_analyse(m->C, r->lg, want_owner, &r->tf, err);
     if (!rc1)
         rc2 = lgain_closed_loop(r->lg, m->n, G, m->C, &r->cl, &r->ncl, &e2);
     if (!rc1 && rc2)

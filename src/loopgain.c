@@ -406,8 +406,9 @@ static void origin_possible(const lgain *lg, int *pole, int *zero)
 }
 
 /* Sorts the candidates into zeros, hidden modes and debris. */
-static int classify_zeros(pencil *p, lgain *lg, int in, int out, lg_tf *tf, lw_error *err)
+static int classify_zeros(lgain *lg, lg_tf *tf, lw_error *err)
 {
+    pencil *p = lg->p;
     int r = pencil_rank(p), nc = 0;
     double complex *cand = malloc(sizeof *cand * (size_t)(r + 1));
     tf->zeros = malloc(sizeof *tf->zeros * (size_t)(r + 1));
@@ -415,7 +416,7 @@ static int classify_zeros(pencil *p, lgain *lg, int in, int out, lg_tf *tf, lw_e
         free(cand);
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
-    int rc = pencil_zero_candidates(p, in, out, cand, &nc, err);
+    int rc = pencil_zero_candidates(p, lg->in, lg->out, cand, &nc, err);
     if (rc) {
         free(cand);
         return rc;
@@ -506,20 +507,16 @@ static void low_frequency(lgain *lg, lg_tf *tf)
     }
 }
 
-int lg_tf_analyse(int n, const double *G0, const double *C, lgain *lg, int in, int out,
-                  int want_owner, lg_tf *tf, lw_error *err)
+int lg_tf_analyse(const double *C, lgain *lg, int want_owner, lg_tf *tf, lw_error *err)
 {
     memset(tf, 0, sizeof *tf);
-    pencil *p = lg->p;
-    (void)n;
-    (void)G0;
     int rc = open_loop_poles(C, want_owner, lg, tf, err);
     if (!rc && lg->gain == 0) {
         /* the break is switched off: T is identically zero */
         tf->sign = 0;
         tf->dc = 0;
     } else if (!rc) {
-        rc = classify_zeros(p, lg, in, out, tf, err);
+        rc = classify_zeros(lg, tf, err);
         if (!rc)
             low_frequency(lg, tf);
     }

@@ -11,6 +11,7 @@
 #define TWO_PI 6.283185307179586
 #define DEG (180.0 / 3.14159265358979323846)
 #define M_LN2_ 0.69314718055994530942
+#define M_LN10_ 2.30258509299404568402
 #define LW_EAGAIN_SCAN 100   /* internal: restart the scan on the LU path */
 
 /* arctangent to about 1e-8 rad for the scan only (every root it brackets is
@@ -208,6 +209,13 @@ static int fform_build(lgain *lg, const lg_tf *tf, double flo, double fhi, fform
 
 /* ---- root finding -------------------------------------------------------- */
 
+/* w = 2 pi 10^u for the factored form: exp is cheaper than pow, and the
+ * factored form only brackets (the exact T is evaluated at pow(10, u)). */
+static double scan_w(double u)
+{
+    return TWO_PI * exp(M_LN10_ * u);
+}
+
 typedef struct fparams {
     lgain *lg;
     const lg_tf *tf;
@@ -218,8 +226,7 @@ typedef struct fparams {
 static void eval_at(const fparams *fp, double u, int exact, double *lm, double *ph)
 {
     if (!exact && fp->ff) {
-        /* exp is cheaper than pow, and the scan only brackets */
-        fform_eval(fp->ff, TWO_PI * exp(2.302585092994046 * u), lm, ph);
+        fform_eval(fp->ff, scan_w(u), lm, ph);
         return;
     }
     double hz = pow(10.0, u), mag;
@@ -293,8 +300,8 @@ static int newton_ff(fparams *fp, int phase, double a, double b, double ga, doub
     double x = a - ga * (b - a) / (gb - ga);
     for (int it = 0; it < 60; it++) {
         double lm, ph, dlm, dph;
-        fform_eval_d(fp->ff, TWO_PI * pow(10.0, x), &lm, &ph, &dlm, &dph);
-        double g = phase ? ph - fp->target : lm, dg = 2.302585092994046 * (phase ? dph : dlm);
+        fform_eval_d(fp->ff, scan_w(x), &lm, &ph, &dlm, &dph);
+        double g = phase ? ph - fp->target : lm, dg = M_LN10_ * (phase ? dph : dlm);
         if (g < 0)
             lo = x;
         else

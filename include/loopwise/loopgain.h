@@ -44,8 +44,9 @@ typedef struct lg_tf {
     double origin_tol;        /* magnitude below which a pole or zero counts as at s = 0 */
 } lg_tf;
 
-int lg_tf_analyse(int n, const double *G0, const double *C, lgain *lg, int in, int out,
-                  int want_owner, lg_tf *tf, lw_error *err);
+/* C is the network's capacitance matrix (for the owner nodes); the break and
+ * the network are the ones lg was made for. */
+int lg_tf_analyse(const double *C, lgain *lg, int want_owner, lg_tf *tf, lw_error *err);
 void lg_tf_free(lg_tf *tf);
 
 /* Finite roots of det(G + sC) (closed-loop poles when G has the break on),
