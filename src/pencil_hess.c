@@ -1,0 +1,181 @@
+/* pencil_hess: the Hessenberg form of the reduced network, for O(rank^2)
+ * evaluation of a transfer and the closed-loop poles. See pencil.h. */
+#include "loopwise/pencil.h"
+
+#include <gsl/gsl_blas.h>
+#include <gsl/gsl_eigen.h>
+#include <gsl/gsl_linalg.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "loopwise/eigvals.h"
+#include "pencil_impl.h"
+
+/* ---- O(rank^2) evaluation through the Hessenberg form ------------------------ */
+
+struct pencil_hess {
+    int r;
+    double *H;             /* r x r upper Hessenberg, row-major */
+    double *b, *c;
+    double d0;
+    double *work;          /* 2 (r x r + r): real and imaginary parts */
+};
+
+void pencil_hess_free(pencil_hess *h)
+{
+    if (!h)
+        return;
+    free(h->H);
+    free(h->b);
+    free(h->work);
+    free(h);
+}
+
+int pencil_hess_new(const pencil *p, int i, int o, pencil_hess **out, lw_error *err)
+{
+    *out = NULL;
+    int r = p->r, rc = LW_OK;
+    pencil_hess *h = calloc(1, sizeof *h);
+    gsl_vector *bal = r ? gsl_vector_alloc((size_t)r) : NULL;
+    if (h) {
+        h->r = r;
+        h->H = malloc(sizeof(double) * (size_t)(r * r + 1));
+        h->b = malloc(sizeof(double) * (size_t)(2 * r + 2));
+        h->work = malloc(sizeof(double) * 2 * (size_t)(r * r + r + 1));
+    }
+    if (!h || !h->H || !h->b || !h->work || (r && !bal)) {
+        rc = lw_error_set(err, LW_ENOMEM, "out of memory");
+        goto done;
+    }
+    h->c = h->b + r;
+    h->d0 = r || p->m ? pencil_io_vectors(p, i, o, h->b, h->c) : 0;
+    if (r > 0) {
+        /* balance first (a diagonal similarity D^-1 M D, Parlett and Reinsch):
+         * the Householder steps then keep the small entries of a matrix whose
+         * rows span many decades, which the evaluation needs near s = 0 */
+        gsl_matrix_view A = gsl_matrix_view_array(h->H, (size_t)r, (size_t)r);
+        gsl_matrix_memcpy(&A.matrix, p->M);
+        gsl_linalg_balance_matrix(&A.matrix, bal);
+        for (int a = 0; a < r; a++) {
+            h->b[a] /= gsl_vector_get(bal, (size_t)a);
+            h->c[a] *= gsl_vector_get(bal, (size_t)a);
+        }
+        /* H = U^T M U, and b, c rotated alike */
+        int st = eigvals_hessenberg_form(r, h->H, h->b, 2);
+        if (st)
+            rc = st < 0 ? lw_error_set(err, LW_ENOMEM, "out of memory")
+                        : lw_error_set(err, LW_ENUMERIC, "Hessenberg reduction failed");
+    }
+done:
+    gsl_vector_free(bal);
+    if (rc) {
+        pencil_hess_free(h);
+        return rc;
+    }
+    *out = h;
+    return LW_OK;
+}
+
+/* Gaussian elimination of the Hessenberg system (sI - H) x = b: each column
+ * has one entry below the diagonal, so each step compares two rows and
+ * swaps them when the lower one is larger (partial pivoting). O(r^2), on
+ * separate real and imaginary parts (the operands are scaled, so the
+ * overflow guards of the library's complex arithmetic are not needed).
+ * Entries below the subdiagonal are never read, so they are not filled. */
+double complex pencil_hess_eval(pencil_hess *h, double complex s)
+{
+    int r = h->r;
+    if (r == 0)
+        return h->d0;
+    double *ar = h->work, *ai = ar + r * r, *xr = ai + r * r, *xi = xr + r;
+    double sr = creal(s), si = cimag(s);
+    for (int a = 0; a < r; a++) {
+        int k0 = a > 0 ? a - 1 : 0;
+        for (int k = k0; k < r; k++) {
+            ar[a * r + k] = -h->H[a * r + k];
+            ai[a * r + k] = 0.0;
+        }
+        ar[a * r + a] += sr;
+        ai[a * r + a] = si;
+        xr[a] = h->b[a];
+        xi[a] = 0.0;
+    }
+    for (int k = 0; k < r - 1; k++) {
+        double *pr = ar + k * r, *pi = ai + k * r, *nr = ar + (k + 1) * r, *ni = ai + (k + 1) * r;
+        if (fabs(nr[k]) + fabs(ni[k]) > fabs(pr[k]) + fabs(pi[k])) {
+            for (int j = k; j < r; j++) {
+                double tr = pr[j], ti = pi[j];
+                pr[j] = nr[j];
+                pi[j] = ni[j];
+                nr[j] = tr;
+                ni[j] = ti;
+            }
+            double tr = xr[k], ti = xi[k];
+            xr[k] = xr[k + 1];
+            xi[k] = xi[k + 1];
+            xr[k + 1] = tr;
+            xi[k + 1] = ti;
+        }
+        double nk = pr[k] * pr[k] + pi[k] * pi[k];
+        if (nk == 0)
+            return NAN;
+        /* f = n_k / p_k */
+        double fr = (nr[k] * pr[k] + ni[k] * pi[k]) / nk, fi = (ni[k] * pr[k] - nr[k] * pi[k]) / nk;
+        if (fr != 0 || fi != 0) {
+            for (int j = k + 1; j < r; j++) {
+                nr[j] -= fr * pr[j] - fi * pi[j];
+                ni[j] -= fr * pi[j] + fi * pr[j];
+            }
+            xr[k + 1] -= fr * xr[k] - fi * xi[k];
+            xi[k + 1] -= fr * xi[k] + fi * xr[k];
+        }
+    }
+    double sumr = 0, sumi = 0;
+    for (int k = r - 1; k >= 0; k--) {
+        const double *pr = ar + k * r, *pi = ai + k * r;
+        double vr = xr[k], vi = xi[k];
+        for (int j = k + 1; j < r; j++) {
+            vr -= pr[j] * xr[j] - pi[j] * xi[j];
+            vi -= pr[j] * xi[j] + pi[j] * xr[j];
+        }
+        double nk = pr[k] * pr[k] + pi[k] * pi[k];
+        if (nk == 0)
+            return NAN;
+        xr[k] = (vr * pr[k] + vi * pi[k]) / nk;
+        xi[k] = (vi * pr[k] - vr * pi[k]) / nk;
+        sumr += h->c[k] * xr[k];
+        sumi += h->c[k] * xi[k];
+    }
+    return sumr + h->d0 + I * sumi;
+}
+
+int pencil_hess_feedback_eigen(const pencil_hess *h, double gain, double complex *eig, int *ok,
+                               lw_error *err)
+{
+    int r = h->r;
+    double den = 1.0 + gain * h->d0;
+    *ok = 0;
+    if (r == 0)
+        return LW_OK;
+    /* 1 + T = (1 + gain d0) (1 + kappa c^T (sI - H)^-1 b), kappa = gain/(1 + gain d0),
+     * and det(sI - H + kappa b c^T) = det(sI - H) (1 + kappa c^T (sI - H)^-1 b). */
+    if (!(fabs(den) > 1e-9 * fmax(1.0, fabs(gain * h->d0))))
+        return LW_OK;
+    double kappa = gain / den;
+    double *A = malloc(sizeof(double) * (size_t)(r * r));
+    if (!A)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    for (int a = 0; a < r; a++)
+        for (int k = 0; k < r; k++)
+            A[a * r + k] = h->H[a * r + k] - kappa * h->b[a] * h->c[k];
+    int rc = pencil_eig_status(eigvals_general(r, A, eig), "the closed-loop poles", err);
+    free(A);
+    *ok = rc == LW_OK;
+    return rc;
+}
+
+int pencil_hess_eigen(const pencil_hess *h, double complex *eig, lw_error *err)
+{
+    return pencil_eig_status(eigvals_hessenberg(h->r, h->H, eig), "the poles", err);
+}
