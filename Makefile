@@ -79,6 +79,7 @@ golden: $(LW_BIN)
 reference: loopwise
 	@$(PYTHON) tests/ref/numpy_ref.py --selftest
 	@LOOPWISE=./loopwise $(PYTHON) tests/ref/numpy_ref.py
+	@LOOPWISE=./loopwise $(PYTHON) tests/ref/family.py
 
 check: all
 	@$(MAKE) --no-print-directory unit golden reference

@@ -405,22 +405,26 @@ static void origin_possible(const lgain *lg, int *pole, int *zero)
     free(B);
 }
 
-/* Sorts the candidates into zeros, hidden modes and debris. */
-static int classify_zeros(lgain *lg, lg_tf *tf, lw_error *err)
+/* A zero of the zero dynamics away from every pole is taken without the
+ * full verification, but its accuracy is checked: for a simple zero z known
+ * to a relative error e, |T(z)| / |T(z + 1e-4 |z| u)| is about e / 1e-4, so
+ * a ratio below 1e-2 means e < 1e-6. The zero dynamics' Krylov basis is
+ * ill-conditioned when the stages along the path have poles decades below
+ * the largest one (issue 16), and then this is what notices. */
+static int zero_accurate(lgain *lg, double complex z)
 {
-    pencil *p = lg->p;
-    int r = pencil_rank(p), nc = 0;
-    double complex *cand = malloc(sizeof *cand * (size_t)(r + 1));
-    tf->zeros = malloc(sizeof *tf->zeros * (size_t)(r + 1));
-    if (!cand || !tf->zeros) {
-        free(cand);
-        return lw_error_set(err, LW_ENOMEM, "out of memory");
-    }
-    int rc = pencil_zero_candidates(p, lg->in, lg->out, cand, &nc, err);
-    if (rc) {
-        free(cand);
-        return rc;
-    }
+    double mag = cabs(z);
+    double t0 = cabs(lgain_eval(lg, z));
+    double t1 = cabs(lgain_eval(lg, z + 1e-4 * mag * cexp(I * 0.9)));
+    return isfinite(t0) && isfinite(t1) && t0 < 1e-2 * t1;
+}
+
+/* Sorts the candidates into zeros, hidden modes and debris. Returns 1, with
+ * the sorting left unfinished, when check_plain is set and a candidate
+ * taken as a zero without verification is not accurate. */
+static int sort_candidates(lgain *lg, lg_tf *tf, const double complex *cand, int nc,
+                           int check_plain)
+{
     double scale = 0;
     for (int k = 0; k < tf->npoles; k++)
         scale = fmax(scale, cabs(tf->poles[k]));
@@ -454,6 +458,8 @@ static int classify_zeros(lgain *lg, lg_tf *tf, lw_error *err)
         for (int j = 0; j < tf->npoles && !near_pole; j++)
             near_pole = cabs(tf->poles[j] - cand[k]) <= 1e-4 * fmax(cabs(cand[k]), cabs(tf->poles[j]));
         int plain = !near_pole && cabs(cand[k]) <= 100.0 * scale;
+        if (plain && check_plain && !zero_accurate(lg, cand[k]))
+            return 1;
         if (plain || verify_zero(lg, cand[k]))
             tf->zeros[tf->nzeros++] = tidy(cand[k]);
         else
@@ -470,8 +476,36 @@ static int classify_zeros(lgain *lg, lg_tf *tf, lw_error *err)
     for (int k = 0; k < tf->origin; k++)
         tf->zeros[tf->nzeros++] = 0;
     lg_sort(tf->zeros, tf->nzeros);
+    return 0;
+}
+
+/* The zeros of T by the path asked for (PENCIL_ZEROS_AUTO or _QZ), falling
+ * back from the zero dynamics to the bordered pencil when a zero proves
+ * inaccurate. */
+static int classify_zeros(lgain *lg, lg_tf *tf, int method, lw_error *err)
+{
+    pencil *p = lg->p;
+    int r = pencil_rank(p), nc = 0, used = PENCIL_ZEROS_QZ, rc = LW_OK;
+    double complex *cand = malloc(sizeof *cand * (size_t)(r + 1));
+    if (!tf->zeros)
+        tf->zeros = malloc(sizeof *tf->zeros * (size_t)(r + 1));
+    if (!cand || !tf->zeros) {
+        free(cand);
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    }
+    for (;;) {
+        rc = pencil_zero_candidates(p, lg->in, lg->out, method, cand, &nc, &used, err);
+        if (rc)
+            break;
+        tf->nzeros = 0;
+        memset(tf->hidden, 0, (size_t)tf->npoles);
+        if (!sort_candidates(lg, tf, cand, nc, used == PENCIL_ZEROS_DYNAMICS))
+            break;
+        method = PENCIL_ZEROS_QZ;
+    }
+    tf->zeros_qz = used == PENCIL_ZEROS_QZ;
     free(cand);
-    return LW_OK;
+    return rc;
 }
 
 /* Sign of K0 and T(0), from T on the positive real axis well below every
@@ -516,12 +550,23 @@ int lg_tf_analyse(const double *C, lgain *lg, int want_owner, lg_tf *tf, lw_erro
         tf->sign = 0;
         tf->dc = 0;
     } else if (!rc) {
-        rc = classify_zeros(lg, tf, err);
+        rc = classify_zeros(lg, tf, PENCIL_ZEROS_AUTO, err);
         if (!rc)
             low_frequency(lg, tf);
     }
     if (rc)
         lg_tf_free(tf);
+    return rc;
+}
+
+int lg_tf_zeros_again(lgain *lg, lg_tf *tf, lw_error *err)
+{
+    if (lg->gain == 0 || tf->zeros_qz)
+        return LW_OK;
+    tf->suspect = 0;
+    int rc = classify_zeros(lg, tf, PENCIL_ZEROS_QZ, err);
+    if (!rc)
+        low_frequency(lg, tf);
     return rc;
 }
 

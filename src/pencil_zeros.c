@@ -194,14 +194,15 @@ done:
     return rc;
 }
 
-int pencil_zero_candidates(const pencil *p, int i, int o, double complex *z, int *nz,
-                           lw_error *err)
+int pencil_zero_candidates(const pencil *p, int i, int o, int method, double complex *z,
+                           int *nz, int *used, lw_error *err)
 {
     int r = p->r, rc = LW_OK;
     *nz = 0;
+    *used = PENCIL_ZEROS_QZ;
     if (r == 0)
         return LW_OK;
-    {
+    if (method == PENCIL_ZEROS_AUTO) {
         double *bc = malloc(sizeof(double) * (size_t)(2 * r));
         if (!bc)
             return lw_error_set(err, LW_ENOMEM, "out of memory");
@@ -209,6 +210,8 @@ int pencil_zero_candidates(const pencil *p, int i, int o, double complex *z, int
         int done = 0;
         rc = zero_dynamics(p, bc, bc + r, d0, z, nz, &done, err);
         free(bc);
+        if (!rc && done)
+            *used = PENCIL_ZEROS_DYNAMICS;
         if (rc || done)
             return rc;
         *nz = 0;

@@ -42,12 +42,17 @@ typedef struct lg_tf {
     double dc;                /* T(0): inf when origin < 0, 0 when origin > 0 */
     int suspect;              /* 1 when the numbers failed an internal consistency check */
     double origin_tol;        /* magnitude below which a pole or zero counts as at s = 0 */
+    int zeros_qz;             /* 1 when the zeros came from the bordered pencil (QZ) */
 } lg_tf;
 
 /* C is the network's capacitance matrix (for the owner nodes); the break and
  * the network are the ones lg was made for. */
 int lg_tf_analyse(const double *C, lgain *lg, int want_owner, lg_tf *tf, lw_error *err);
 void lg_tf_free(lg_tf *tf);
+/* Finds the zeros of T again by the bordered pencil (QZ) when they came
+ * from the zero dynamics: the second path, taken when the factored form
+ * built from them disagrees with the exact T. Poles are kept. */
+int lg_tf_zeros_again(lgain *lg, lg_tf *tf, lw_error *err);
 
 /* Finite roots of det(G + sC) (closed-loop poles when G has the break on),
  * sorted. *roots is allocated; the caller frees it. */

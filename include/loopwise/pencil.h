@@ -35,12 +35,21 @@ int pencil_rank(const pencil *p);
 int pencil_eigen(const pencil *p, const double *C, double complex *eig, int *owner,
                  lw_error *err);
 
+/* How the zero candidates are found: PENCIL_ZEROS_AUTO takes the zero
+ * dynamics (a standard eigenproblem of order rank minus the relative degree,
+ * the fast path) where the relative degree is low and the network small,
+ * the bordered pencil otherwise; PENCIL_ZEROS_QZ always takes the bordered
+ * pencil (QZ, backward stable: the path to fall back on when the zero
+ * dynamics, whose Krylov basis can be ill-conditioned, proves inaccurate). */
+enum { PENCIL_ZEROS_AUTO, PENCIL_ZEROS_QZ, PENCIL_ZEROS_DYNAMICS };
+
 /* Candidate zeros (rad/s) of e_i^T (G + sC)^-1 e_o: the finite eigenvalues of
- * the bordered pencil. Candidates include modes the transfer cannot see and,
- * after rounding, spurious ones; the caller verifies them. *nz gets the count
- * (at most rank). */
-int pencil_zero_candidates(const pencil *p, int i, int o, double complex *z, int *nz,
-                           lw_error *err);
+ * the bordered pencil [[M, b], [c^T, d0]]. Candidates include modes the
+ * transfer cannot see and, after rounding, spurious ones; the caller
+ * verifies them. *nz gets the count (at most rank), *used the path taken
+ * (PENCIL_ZEROS_DYNAMICS or PENCIL_ZEROS_QZ). */
+int pencil_zero_candidates(const pencil *p, int i, int o, int method, double complex *z,
+                           int *nz, int *used, lw_error *err);
 
 /* The state-space form of e_i^T (G + sC)^-1 e_o (up to the factor d_i d_o):
  * c^T (sI - M)^-1 b + d0, with M in upper Hessenberg form H = U^T M U and
