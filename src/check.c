@@ -28,6 +28,11 @@ void check_result_free(check_result *r)
     memset(r, 0, sizeof *r);
 }
 
+int check_accuracy_warning(const check_result *r)
+{
+    return r->tf.suspect || r->mg.mismatch || r->mg.exact;
+}
+
 /* 1/(2π R C_total), C_total = c + every cap from the node to gnd. */
 static int estimates(const desc *d, check_result *r, lw_error *err)
 {
@@ -236,6 +241,36 @@ static void stability(check_result *r)
     }
 }
 
+/* The margins from the factored form. Where its spot checks find it
+ * disagreeing with the exact T, the zeros are found again by the bordered
+ * pencil; if the two still disagree, the margins are found on the exact T
+ * alone, so that no margin is ever read off a wrong factored form
+ * (issue 16). What stays uncertain after that keeps the accuracy warning. */
+static int sound_margins(const check_opts *o, check_result *r, lw_error *err)
+{
+    double flo = 0, fhi = 0;
+    int rc = LW_OK;
+    for (int pass = 0; rc == LW_OK; pass++) {
+        margin_band(&r->tf, r->cl, r->ncl, &flo, &fhi);
+        if (o->fmin_hz > 0)
+            flo = o->fmin_hz;
+        if (o->fmax_hz > 0)
+            fhi = o->fmax_hz;
+        if (!(fhi > flo))
+            return lw_error_set(err, LW_EINPUT, "the band is empty: --fmin must be below "
+                                "--fmax (got %g Hz to %g Hz)", flo, fhi);
+        rc = margins_find(r->lg, &r->tf, flo, fhi, &r->mg, err);
+        if (rc || (!r->mg.mismatch && !r->tf.suspect) || pass > 0 || r->tf.zeros_qz)
+            break;
+        rc = lg_tf_zeros_again(r->lg, &r->tf, err);
+    }
+    if (!rc && r->mg.mismatch) {
+        rc = margins_find_exact(r->lg, &r->tf, flo, fhi, &r->mg, err);
+        r->tf.phase_exact = 1;
+    }
+    return rc;
+}
+
 int check_run(const desc *d, const model *m, const check_opts *o, check_result *r,
               lw_error *err)
 {
@@ -250,19 +285,8 @@ int check_run(const desc *d, const model *m, const check_opts *o, check_result *
         rc = declared_loops(d, m, r, G, o->keep_loops, err);
     if (!rc)
         rc = estimates(d, r, err);
-    if (!rc) {
-        double flo, fhi;
-        margin_band(&r->tf, r->cl, r->ncl, &flo, &fhi);
-        if (o->fmin_hz > 0)
-            flo = o->fmin_hz;
-        if (o->fmax_hz > 0)
-            fhi = o->fmax_hz;
-        if (!(fhi > flo))
-            rc = lw_error_set(err, LW_EINPUT, "the band is empty: --fmin must be below --fmax "
-                              "(got %g Hz to %g Hz)", flo, fhi);
-        else
-            rc = margins_find(r->lg, &r->tf, flo, fhi, &r->mg, err);
-    }
+    if (!rc)
+        rc = sound_margins(o, r, err);
     if (!rc) {
         stability(r);
         if (o->want_loops)

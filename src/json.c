@@ -144,5 +144,5 @@ void report_check_json(FILE *f, const desc *d, const model *m, const check_resul
     fputs(", ", f);
     json_number(f, mg->fmax_hz);
     fprintf(f, "],\n \"accuracy_warning\": %s}\n",
-            tf->suspect || mg->mismatch ? "true" : "false");
+            check_accuracy_warning(r) ? "true" : "false");
 }

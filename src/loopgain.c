@@ -22,6 +22,8 @@ struct lgain {
     gsl_vector_complex *rhs, *x;
     gsl_matrix *Yr;           /* the same at real s, by a real LU */
     gsl_vector *rr, *xr;
+    int walked;               /* a point of the exact phase walk is kept */
+    double walk_hz, walk_ph;
 };
 
 void lgain_free(lgain *lg)
@@ -113,6 +115,20 @@ int lgain_uses_full(const lgain *lg)
     return lg->full;
 }
 
+void lgain_walk_store(lgain *lg, double hz, double ph)
+{
+    lg->walked = 1;
+    lg->walk_hz = hz;
+    lg->walk_ph = ph;
+}
+
+int lgain_walk_recall(const lgain *lg, double *hz, double *ph)
+{
+    *hz = lg->walk_hz;
+    *ph = lg->walk_ph;
+    return lg->walked;
+}
+
 /* lgain_eval_full on the real axis: the same LU in real arithmetic. */
 static double eval_full_real(lgain *lg, double sr)
 {
@@ -133,6 +149,15 @@ static double eval_full_real(lgain *lg, double sr)
     if (gsl_linalg_LU_solve(lg->Yr, lg->perm, lg->rr, lg->xr) != GSL_SUCCESS)
         return NAN;
     return lg->gain * gsl_vector_get(lg->xr, (size_t)lg->in);
+}
+
+double lgain_eval_real(lgain *lg, double s)
+{
+    if (lg->gain == 0)
+        return 0;
+    if (lg->full)
+        return eval_full_real(lg, s);
+    return lg->gain * pencil_hess_eval_real(lg->h, s);
 }
 
 double complex lgain_eval_full(lgain *lg, double complex s)
@@ -413,9 +438,16 @@ static void origin_possible(const lgain *lg, int *pole, int *zero)
  * the largest one (issue 16), and then this is what notices. */
 static int zero_accurate(lgain *lg, double complex z)
 {
-    double mag = cabs(z);
-    double t0 = cabs(lgain_eval(lg, z));
-    double t1 = cabs(lgain_eval(lg, z + 1e-4 * mag * cexp(I * 0.9)));
+    double mag = cabs(z), t0, t1;
+    if (cimag(z) == 0) {
+        /* on the real axis in real arithmetic: z (1 + 1e-4) is as good a
+         * neighbour as any for a simple zero */
+        t0 = fabs(lgain_eval_real(lg, creal(z)));
+        t1 = fabs(lgain_eval_real(lg, creal(z) * (1 + 1e-4)));
+    } else {
+        t0 = cabs(lgain_eval(lg, z));
+        t1 = cabs(lgain_eval(lg, z + 1e-4 * mag * cexp(I * 0.9)));
+    }
     return isfinite(t0) && isfinite(t1) && t0 < 1e-2 * t1;
 }
 
@@ -499,7 +531,7 @@ static int classify_zeros(lgain *lg, lg_tf *tf, int method, lw_error *err)
             break;
         tf->nzeros = 0;
         memset(tf->hidden, 0, (size_t)tf->npoles);
-        if (!sort_candidates(lg, tf, cand, nc, used == PENCIL_ZEROS_DYNAMICS))
+        if (!sort_candidates(lg, tf, cand, nc, used == PENCIL_ZEROS_DYNAMICS_CHECK))
             break;
         method = PENCIL_ZEROS_QZ;
     }

@@ -15,6 +15,14 @@
 #define M_LN10_ 2.30258509299404568402
 #define LW_EAGAIN_SCAN 100   /* internal: restart the scan on the LU path */
 
+/* The largest phase step (degrees) the exact scan takes between two points:
+ * small enough that the branch nearest the previous point is the right one
+ * and that a step holds at most one phase crossing. */
+#define EXACT_STEP_DEG 15.0
+/* Steps narrower than this (in log10 f) are taken whatever the phase does:
+ * a zero on the imaginary axis makes the phase jump by 180 degrees. */
+#define EXACT_MIN_STEP 1e-10
+
 /* The unwrapped phase of a value t = T(j 2 pi hz) already evaluated. */
 static double phase_of(const lg_tf *tf, double hz, double complex t, double *mag,
                        int *mismatch)
@@ -33,9 +41,55 @@ static double phase_of(const lg_tf *tf, double hz, double complex t, double *mag
     return ph;
 }
 
+/* The exact phase at hz walked from a point (hz0, ph0) where it is known,
+ * in steps of at most EXACT_STEP_DEG as in the exact scan. */
+static double walk_phase(lgain *lg, double hz0, double ph0, double hz, double *mag)
+{
+    double u = log10(hz0), ut = log10(hz), h = ut - u, ph = ph0;
+    double complex t = lgain_eval(lg, I * TWO_PI * hz0);
+    while (u < ut) {
+        double ub = fmin(u + h, ut);
+        t = lgain_eval(lg, I * TWO_PI * pow(10.0, ub));
+        double pb = ph + remainder(carg(t) * DEG - ph, 360.0);
+        if (isfinite(pb) && fabs(pb - ph) > EXACT_STEP_DEG && ub - u > EXACT_MIN_STEP) {
+            h = 0.5 * (ub - u);
+            continue;
+        }
+        if (isfinite(pb))
+            ph = pb;
+        u = ub;
+        h *= 2;
+    }
+    *mag = cabs(t);
+    return ph;
+}
+
 double margin_phase(lgain *lg, const lg_tf *tf, double hz, double *mag, int *mismatch)
 {
-    return phase_of(tf, hz, lgain_eval(lg, I * TWO_PI * hz), mag, mismatch);
+    double complex t = lgain_eval(lg, I * TWO_PI * hz);
+    if (!tf->phase_exact)
+        return phase_of(tf, hz, t, mag, mismatch);
+    /* the factored form is not to be trusted: walk the exact phase up from
+     * far below every root (where the anchor holds) or from the last point
+     * walked to */
+    if (mismatch)
+        *mismatch = 0;
+    double lo = INFINITY, hz0, ph0;
+    for (int k = 0; k < tf->npoles + tf->nzeros; k++) {
+        double complex v = k < tf->npoles ? tf->poles[k] : tf->zeros[k - tf->npoles];
+        if (v != 0)
+            lo = fmin(lo, cabs(v) / TWO_PI);
+    }
+    lo = isfinite(lo) ? 1e-4 * lo : 1e-3;
+    if (hz <= lo)
+        return phase_of(tf, hz, t, mag, NULL);
+    if (!lgain_walk_recall(lg, &hz0, &ph0) || hz0 > hz) {
+        hz0 = lo;
+        ph0 = phase_of(tf, lo, lgain_eval(lg, I * TWO_PI * lo), mag, NULL);
+    }
+    double ph = walk_phase(lg, hz0, ph0, hz, mag);
+    lgain_walk_store(lg, hz, ph);
+    return ph;
 }
 
 void margin_band(const lg_tf *tf, const double complex *cl, int ncl, double *flo, double *fhi)
@@ -74,7 +128,23 @@ typedef struct fparams {
     const lg_tf *tf;
     const fform *ff;     /* NULL: scan with the exact T */
     double target;       /* phase target in degrees (phase crossings) */
+    int unwrap;          /* 1: the exact phase's branch is the one nearest ref, */
+    double ref;          /* not the factored form's (the exact scan) */
 } fparams;
+
+/* The unwrapped phase of t = T(j 2 pi hz): on the branch of the factored
+ * form, or in the exact scan on the branch nearest fp->ref. *mismatch as
+ * in phase_of (never set in the exact scan). */
+static double exact_phase(const fparams *fp, double hz, double complex t, double *mag,
+                          int *mismatch)
+{
+    if (!fp->unwrap)
+        return phase_of(fp->tf, hz, t, mag, mismatch);
+    *mag = cabs(t);
+    if (mismatch)
+        *mismatch = 0;
+    return fp->ref + remainder(carg(t) * DEG - fp->ref, 360.0);
+}
 
 static void eval_at(const fparams *fp, double u, int exact, double *lm, double *ph)
 {
@@ -83,7 +153,7 @@ static void eval_at(const fparams *fp, double u, int exact, double *lm, double *
         return;
     }
     double hz = pow(10.0, u), mag;
-    *ph = margin_phase(fp->lg, fp->tf, hz, &mag, NULL);
+    *ph = exact_phase(fp, hz, lgain_eval(fp->lg, I * TWO_PI * hz), &mag, NULL);
     *lm = log(mag);
 }
 
@@ -278,6 +348,8 @@ static void add_point(margin_point *arr, int *n, double hz, double value)
 
 static int spot_check(fparams *fp, margins *m, double hz, double complex t, double lm,
                       double ph);
+static void structure_check(const fparams *fp, margins *m, double hz, double complex t,
+                            double lm, double ph);
 
 static int crossover(fparams *fp, margins *m, double ua, double ub, double la, double lb)
 {
@@ -285,11 +357,13 @@ static int crossover(fparams *fp, margins *m, double ua, double ub, double la, d
     int approx, rc = find_root(fp, 0, ua, ub, la, lb, &u, &approx);
     if (rc)
         return rc;
-    double mag, hz = pow(10.0, u);
+    double mag, hz = pow(10.0, u), lf = NAN, pf = NAN;
     int mis = 0;
     double complex t = lgain_eval(fp->lg, I * TWO_PI * hz);
-    double ph = phase_of(fp->tf, hz, t, &mag, &mis);
-    if (spot_check(fp, m, hz, t, NAN, NAN))
+    double ph = exact_phase(fp, hz, t, &mag, &mis);
+    if (fp->ff)
+        fform_eval(fp->ff, TWO_PI * hz, &lf, &pf);
+    if (spot_check(fp, m, hz, t, lf, pf))
         return LW_EAGAIN_SCAN;
     m->mismatch += mis + approx;
     add_point(m->cross, &m->ncross, hz, 180.0 + ph);
@@ -305,7 +379,12 @@ static int phase_crossing(fparams *fp, margins *m, double ua, double ub, double 
     int rc = find_root(fp, 1, ua, ub, pa - target, pb - target, &u, &approx);
     if (rc)
         return rc;
-    double hz = pow(10.0, u), mag = cabs(lgain_eval(fp->lg, I * TWO_PI * hz));
+    double hz = pow(10.0, u), lf = NAN, pf = NAN;
+    double complex t = lgain_eval(fp->lg, I * TWO_PI * hz);
+    double mag = cabs(t);
+    if (fp->ff)
+        fform_eval(fp->ff, TWO_PI * hz, &lf, &pf);
+    structure_check(fp, m, hz, t, lf, pf);
     /* far from unity gain the exact phase is the noisier of the two and the
      * factored root stands; it only matters within 80 dB of unity */
     m->mismatch += approx && mag > 1e-4 && mag < 1e4;
@@ -324,6 +403,22 @@ static void pick_best(margins *m)
             m->best_phase = k;
 }
 
+/* Compares the factored form (lm, ph) at hz with the fast exact T there
+ * (t): a disagreement beyond rounding means the poles or zeros behind the
+ * factored form are not the ones of T (issue 16), and is counted. */
+static void structure_check(const fparams *fp, margins *m, double hz, double complex t,
+                            double lm, double ph)
+{
+    double mag;
+    int mis = 0;
+    double pe = exact_phase(fp, hz, t, &mag, &mis);
+    if (!(mag > 1e-4 && mag < 1e4))
+        return; /* 80 dB or more from unity: no margin is decided there */
+    m->mismatch += mis;
+    if (fp->ff && !isnan(lm))
+        m->mismatch += fabs(log(mag) - lm) > 1e-6 * fmax(1.0, fabs(lm)) || fabs(pe - ph) > 1e-3;
+}
+
 /* Compares, at hz, the factored form (lm, ph) with the fast exact T (tf_), and the
  * fast T with the LU of the whole network. Where |T| matters for the margins
  * (within 80 dB of unity) a disagreement of the fast path switches the
@@ -331,9 +426,6 @@ static void pick_best(margins *m)
 static int spot_check(fparams *fp, margins *m, double hz, double complex tf_, double lm,
                       double ph)
 {
-    double mag;
-    int mis = 0;
-    double pe = phase_of(fp->tf, hz, tf_, &mag, &mis);
     double complex tl = lgain_eval_full(fp->lg, I * TWO_PI * hz);
     double al = cabs(tl);
     int relevant = al > 1e-4 && al < 1e4;
@@ -343,9 +435,8 @@ static int spot_check(fparams *fp, margins *m, double hz, double complex tf_, do
     }
     if (!relevant)
         return 0; /* 80 dB or more from unity: no margin is decided there */
-    m->mismatch += mis || !(cabs(tf_ - tl) <= 1e-7 * al);
-    if (fp->ff && !isnan(lm))
-        m->mismatch += fabs(log(mag) - lm) > 1e-6 * fmax(1.0, fabs(lm)) || fabs(pe - ph) > 1e-3;
+    m->mismatch += !(cabs(tf_ - tl) <= 1e-7 * al);
+    structure_check(fp, m, hz, tf_, lm, ph);
     return 0;
 }
 
@@ -381,27 +472,94 @@ static int scan(fparams *fp, margins *m, const double *u, int n)
     return rc;
 }
 
-int margins_find(lgain *lg, const lg_tf *tf, double flo, double fhi, margins *m,
-                 lw_error *err)
+/* ---- the exact scan ------------------------------------------------------ */
+
+typedef struct xpoint {
+    double u, lm, ph;
+} xpoint;
+
+static xpoint exact_point(fparams *fp, double u, double ref)
+{
+    double hz = pow(10.0, u), mag;
+    fp->ref = ref;
+    double ph = exact_phase(fp, hz, lgain_eval(fp->lg, I * TWO_PI * hz), &mag, NULL);
+    return (xpoint){ u, log(mag), ph };
+}
+
+static int exact_segment(fparams *fp, margins *m, xpoint a, xpoint b)
+{
+    int rc = LW_OK;
+    fp->ref = a.ph;
+    if ((a.lm < 0) != (b.lm < 0) && a.lm != 0)
+        rc = crossover(fp, m, a.u, b.u, a.lm, b.lm);
+    double qa = floor((a.ph + 180.0) / 360.0), qb = floor((b.ph + 180.0) / 360.0);
+    for (double q = fmin(qa, qb) + 1; rc == LW_OK && q <= fmax(qa, qb); q++) {
+        fp->ref = a.ph;
+        rc = phase_crossing(fp, m, a.u, b.u, a.ph, b.ph, -180.0 + 360.0 * q);
+    }
+    return rc;
+}
+
+/* The scan on the exact T alone, for when the factored form disagrees with
+ * it: the phase is unwrapped along the grid itself, each step halved until
+ * the phase moves by less than EXACT_STEP_DEG, starting from the branch of
+ * the low-frequency anchor (sign and origin order, which come from T on
+ * the real axis, not from the zeros). */
+static int scan_exact(fparams *fp, margins *m, const double *u, int n)
+{
+    int above = 0, below = 0, rc = LW_OK;
+    double hz0 = pow(10.0, u[0]), mag;
+    xpoint a = { u[0], 0, phase_of(fp->tf, hz0, lgain_eval(fp->lg, I * TWO_PI * hz0), &mag,
+                                   NULL) };
+    a.lm = log(mag);
+    for (int k = 1; k < n && rc == LW_OK; k++) {
+        double h = u[k] - a.u;
+        while (rc == LW_OK && a.u < u[k]) {
+            double ub = fmin(a.u + h, u[k]);
+            xpoint b = exact_point(fp, ub, a.ph);
+            if (!isfinite(b.lm) || !isfinite(b.ph)) {
+                a.u = ub; /* exactly on a pole or zero: step over it */
+                continue;
+            }
+            if (fabs(b.ph - a.ph) > EXACT_STEP_DEG && ub - a.u > EXACT_MIN_STEP) {
+                h = 0.5 * (ub - a.u);
+                continue;
+            }
+            above |= b.lm > 0;
+            below |= b.lm < 0;
+            if (isfinite(a.lm))
+                rc = exact_segment(fp, m, a, b);
+            a = b;
+            h *= 2;
+        }
+    }
+    m->why = m->ncross > 0 ? CROSS_FOUND : (above && !below ? CROSS_ABOVE : CROSS_BELOW);
+    return rc;
+}
+
+static int find(lgain *lg, const lg_tf *tf, double flo, double fhi, int exact, margins *m,
+                lw_error *err)
 {
     m->fmin_hz = flo;
     m->fmax_hz = fhi;
     m->ncross = m->nphase = m->mismatch = 0;
+    m->exact = exact;
     m->why = CROSS_BELOW;
     fform ff = { 0 };
-    int have_ff = tf->sign != 0 && fform_build(lg, tf, flo, fhi, &ff);
-    fparams fp = { lg, tf, have_ff ? &ff : NULL, 0 };
+    int have_ff = !exact && tf->sign != 0 && fform_build(lg, tf, flo, fhi, &ff);
+    fparams fp = { lg, tf, have_ff ? &ff : NULL, 0, exact, 0 };
     int n;
     double *u = make_grid(tf, flo, fhi, have_ff ? MARGIN_PER_DECADE : 4 * MARGIN_PER_DECADE, &n);
     if (!u) {
         fform_free(&ff);
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
+    int (*run)(fparams *, margins *, const double *, int) = exact ? scan_exact : scan;
     gsl_error_handler_t *old = gsl_set_error_handler_off();
-    int rc = tf->sign == 0 ? LW_OK : scan(&fp, m, u, n);
+    int rc = tf->sign == 0 ? LW_OK : run(&fp, m, u, n);
     if (rc == LW_EAGAIN_SCAN) {
         m->ncross = m->nphase = m->mismatch = 0;
-        rc = scan(&fp, m, u, n);
+        rc = run(&fp, m, u, n);
     }
     gsl_set_error_handler(old);
     free(u);
@@ -412,4 +570,16 @@ int margins_find(lgain *lg, const lg_tf *tf, double flo, double fhi, margins *m,
     if (rc)
         return lw_error_set(err, rc, "root refinement of a crossover did not converge");
     return LW_OK;
+}
+
+int margins_find(lgain *lg, const lg_tf *tf, double flo, double fhi, margins *m,
+                 lw_error *err)
+{
+    return find(lg, tf, flo, fhi, 0, m, err);
+}
+
+int margins_find_exact(lgain *lg, const lg_tf *tf, double flo, double fhi, margins *m,
+                       lw_error *err)
+{
+    return find(lg, tf, flo, fhi, 1, m, err);
 }

@@ -150,6 +150,57 @@ double complex pencil_hess_eval(pencil_hess *h, double complex s)
     return sumr + h->d0 + I * sumi;
 }
 
+/* pencil_hess_eval at a real s, in real arithmetic: the same elimination
+ * at about a third of the cost (the zero checks of loopgain.c evaluate at
+ * real zeros). */
+double pencil_hess_eval_real(pencil_hess *h, double s)
+{
+    int r = h->r;
+    if (r == 0)
+        return h->d0;
+    double *a = h->work, *x = a + r * r;
+    for (int i = 0; i < r; i++) {
+        int k0 = i > 0 ? i - 1 : 0;
+        for (int k = k0; k < r; k++)
+            a[i * r + k] = -h->H[i * r + k];
+        a[i * r + i] += s;
+        x[i] = h->b[i];
+    }
+    for (int k = 0; k < r - 1; k++) {
+        double *pr = a + k * r, *nr = a + (k + 1) * r;
+        if (fabs(nr[k]) > fabs(pr[k])) {
+            for (int j = k; j < r; j++) {
+                double t = pr[j];
+                pr[j] = nr[j];
+                nr[j] = t;
+            }
+            double t = x[k];
+            x[k] = x[k + 1];
+            x[k + 1] = t;
+        }
+        if (pr[k] == 0)
+            return NAN;
+        double f = nr[k] / pr[k];
+        if (f != 0) {
+            for (int j = k + 1; j < r; j++)
+                nr[j] -= f * pr[j];
+            x[k + 1] -= f * x[k];
+        }
+    }
+    double sum = 0;
+    for (int k = r - 1; k >= 0; k--) {
+        const double *pr = a + k * r;
+        double v = x[k];
+        for (int j = k + 1; j < r; j++)
+            v -= pr[j] * x[j];
+        if (pr[k] == 0)
+            return NAN;
+        x[k] = v / pr[k];
+        sum += h->c[k] * x[k];
+    }
+    return sum + h->d0;
+}
+
 int pencil_hess_feedback_eigen(const pencil_hess *h, double gain, double complex *eig, int *ok,
                                lw_error *err)
 {

@@ -12,6 +12,18 @@
 #include "loopwise/eigvals.h"
 #include "pencil_impl.h"
 
+/* How far the zero dynamics is trusted. Its zeros lose about
+ * 3e-13 / quality of relative accuracy, where quality is the first nonzero
+ * Markov parameter over the norm of its Krylov row (the projection divides
+ * by it; measured on the networks of tests/ref/family.py, whose paths run
+ * through stages decades below the largest pole). Below ZD_QUALITY_MIN, or
+ * with a Krylov basis whose R factor spans more than 1/ZD_SPREAD_MIN, the
+ * bordered pencil is used instead; below ZD_QUALITY_TRUST each zero is
+ * checked against T. */
+#define ZD_QUALITY_MIN 1e-8
+#define ZD_QUALITY_TRUST 1e-5
+#define ZD_SPREAD_MIN 1e-12
+
 static double norm2(const double *v, int n)
 {
     double s = 0;
@@ -29,9 +41,10 @@ static double norm2(const double *v, int n)
  * With a feedthrough d0 that matters, they are eig(M - b c^T / d0).
  * Returns 0 in *done when the caller should use the bordered pencil. */
 static int zero_dynamics(const pencil *p, const double *b, const double *c, double d0,
-                         double complex *z, int *nz, int *done, lw_error *err)
+                         double complex *z, int *nz, int *done, double *quality, lw_error *err)
 {
     int r = p->r, rc = LW_OK;
+    *quality = 1.0;
     *done = 0;
     double nm = gsl_matrix_norm1(p->M), nb = 0, nc = 0;
     for (int a = 0; a < r; a++) {
@@ -102,6 +115,9 @@ static int zero_dynamics(const pencil *p, const double *b, const double *c, doub
          * for a path. */
         if (fabs(mk) > 1e-8 * mbound && fabs(mk) > 1e-13 * gnorm) {
             gamma = mk; /* relative degree k + 1: c^T x = ... = c^T M^k x = 0 on the subspace */
+            /* the projection below divides by gamma: its size against the
+             * Krylov row's norm is what the zeros' accuracy hangs on */
+            *quality = fabs(mk) / gnorm;
             for (int a = 0; a < r; a++)
                 gsl_matrix_set(W, (size_t)a, (size_t)k, g[a]);
             k++;
@@ -152,6 +168,16 @@ static int zero_dynamics(const pencil *p, const double *b, const double *c, doub
                 gsl_matrix_set(W, (size_t)a, (size_t)q, 0.0);
         gsl_linalg_QR_decomp(W, tau);
         gsl_linalg_QR_unpack(W, tau, Q, R);
+        /* The Krylov rows are nearly parallel when the path gains lie far
+         * below the largest pole; a basis this degenerate is not used. */
+        double rmin = INFINITY, rmax = 0;
+        for (int q = 0; q < k; q++) {
+            double rq = fabs(gsl_matrix_get(R, (size_t)q, (size_t)q));
+            rmin = fmin(rmin, rq);
+            rmax = fmax(rmax, rq);
+        }
+        if (!(rmin >= ZD_SPREAD_MIN * rmax) || !(*quality >= ZD_QUALITY_MIN))
+            goto basis_done; /* *done stays 0: the bordered pencil takes over */
         /* Z = N^T (I - bb g^T / gamma) Ms N, N = Q[:, k..r-1]; the matrices
          * were allocated r x r, so their rows are r apart */
         const double *ms = Ms->data, *qm = Q->data;
@@ -183,6 +209,7 @@ static int zero_dynamics(const pencil *p, const double *b, const double *c, doub
             *done = 1;
         }
     }
+basis_done:
     gsl_matrix_free(Q);
     gsl_matrix_free(R);
     free(MN);
@@ -208,10 +235,12 @@ int pencil_zero_candidates(const pencil *p, int i, int o, int method, double com
             return lw_error_set(err, LW_ENOMEM, "out of memory");
         double d0 = pencil_io_vectors(p, i, o, bc, bc + r);
         int done = 0;
-        rc = zero_dynamics(p, bc, bc + r, d0, z, nz, &done, err);
+        double quality = 1.0;
+        rc = zero_dynamics(p, bc, bc + r, d0, z, nz, &done, &quality, err);
         free(bc);
         if (!rc && done)
-            *used = PENCIL_ZEROS_DYNAMICS;
+            *used = quality >= ZD_QUALITY_TRUST ? PENCIL_ZEROS_DYNAMICS
+                                                : PENCIL_ZEROS_DYNAMICS_CHECK;
         if (rc || done)
             return rc;
         *nz = 0;

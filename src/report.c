@@ -235,7 +235,13 @@ static void verdict(FILE *f, const check_result *r, report_target t)
         fprintf(f, "Note: the phase margin is positive but the closed loop is unstable%s; "
                 "the closed-loop poles decide.\n",
                 olrhp ? " (T has a right half-plane pole)" : "");
-    if (r->tf.suspect || mg->mismatch)
+    if (mg->exact)
+        fprintf(f, "Note: accuracy warning: the pole/zero form disagrees with the exact loop "
+                "gain, so the crossovers and margins above were found on the exact loop gain "
+                "alone; the poles and zeros listed may be inaccurate%s.\n",
+                mg->mismatch ? ", and the exact evaluation itself failed a consistency check: "
+                               "treat the margins with caution too" : "");
+    else if (r->tf.suspect || mg->mismatch)
         fprintf(f, "Note: accuracy warning: an internal consistency check failed (%s); treat "
                 "the margins with caution.\n",
                 r->tf.suspect ? "low-frequency slope and pole/zero count disagree"

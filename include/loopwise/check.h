@@ -48,6 +48,10 @@ int check_run(const desc *d, const model *m, const check_opts *o, check_result *
               lw_error *err);
 void check_result_free(check_result *r);
 
+/* 1 when a number of the result failed an internal consistency check: the
+ * report's accuracy warning. */
+int check_accuracy_warning(const check_result *r);
+
 /* Warns on stderr about directed cycles of gm elements that no declared loop
  * follows (at most a few). Returns the number found. */
 int check_warn_gm_cycles(const desc *d, FILE *out);

@@ -20,6 +20,8 @@ void lgain_free(lgain *lg);
 /* T(s) for s in rad/s, through the Hessenberg form of the reduced network:
  * O(rank^2) per point. NaN when Y0(s) is singular at s. */
 double complex lgain_eval(lgain *lg, double complex s);
+/* The same at a real s, in real arithmetic. */
+double lgain_eval_real(lgain *lg, double s);
 /* The same by a complex LU factorization of the whole Y0(s), O(n^3): an
  * independent path, used to cross-check the fast one. */
 double complex lgain_eval_full(lgain *lg, double complex s);
@@ -28,6 +30,11 @@ double complex lgain_eval_full(lgain *lg, double complex s);
  * reduced form ill-conditioned far from them). */
 void lgain_use_full(lgain *lg, int on);
 int lgain_uses_full(const lgain *lg);
+/* The last point (Hz, degrees) of a walk of the exact phase (margins.c),
+ * kept with the evaluator so that a table of rising frequencies walks each
+ * stretch once; recall returns 0 when there is none. */
+void lgain_walk_store(lgain *lg, double hz, double ph);
+int lgain_walk_recall(const lgain *lg, double *hz, double *ph);
 
 /* The loop gain's structure. Frequencies in rad/s. */
 typedef struct lg_tf {
@@ -43,6 +50,8 @@ typedef struct lg_tf {
     int suspect;              /* 1 when the numbers failed an internal consistency check */
     double origin_tol;        /* magnitude below which a pole or zero counts as at s = 0 */
     int zeros_qz;             /* 1 when the zeros came from the bordered pencil (QZ) */
+    int phase_exact;          /* 1: the factored form disagrees with T, so the phase is
+                                 walked on the exact T (set with margins_find_exact) */
 } lg_tf;
 
 /* C is the network's capacitance matrix (for the owner nodes); the break and

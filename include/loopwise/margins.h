@@ -31,6 +31,7 @@ typedef struct margins {
     margin_point phase[MARGIN_MAX_POINTS];
     int best_phase;      /* index of the smallest gain margin, -1 when none */
     int mismatch;        /* points where the factored and exact phase disagreed */
+    int exact;           /* 1: found by margins_find_exact */
 } margins;
 
 /* Unwrapped phase (degrees) of T at f (Hz); *mag gets |T|; *mismatch is set
@@ -41,7 +42,16 @@ double margin_phase(lgain *lg, const lg_tf *tf, double hz, double *mag, int *mis
  * nonzero magnitude among poles, zeros and closed-loop poles (Hz). */
 void margin_band(const lg_tf *tf, const double complex *cl, int ncl, double *flo, double *fhi);
 
+/* Scans the band on the factored form, brackets every crossover and phase
+ * crossing there and polishes each on the exact T. Where the factored form
+ * and the exact T disagree (spot checks in mid band and at every root found)
+ * m->mismatch counts it. */
 int margins_find(lgain *lg, const lg_tf *tf, double flo, double fhi, margins *m,
                  lw_error *err);
+/* The same on the exact T alone, the phase unwrapped along an adaptive grid
+ * (steps of at most 15 degrees) from the low-frequency anchor: slower, and
+ * independent of the zeros; for when the factored form cannot be trusted. */
+int margins_find_exact(lgain *lg, const lg_tf *tf, double flo, double fhi, margins *m,
+                       lw_error *err);
 
 #endif

@@ -41,13 +41,15 @@ int pencil_eigen(const pencil *p, const double *C, double complex *eig, int *own
  * the bordered pencil otherwise; PENCIL_ZEROS_QZ always takes the bordered
  * pencil (QZ, backward stable: the path to fall back on when the zero
  * dynamics, whose Krylov basis can be ill-conditioned, proves inaccurate). */
-enum { PENCIL_ZEROS_AUTO, PENCIL_ZEROS_QZ, PENCIL_ZEROS_DYNAMICS };
+enum { PENCIL_ZEROS_AUTO, PENCIL_ZEROS_QZ, PENCIL_ZEROS_DYNAMICS, PENCIL_ZEROS_DYNAMICS_CHECK };
 
 /* Candidate zeros (rad/s) of e_i^T (G + sC)^-1 e_o: the finite eigenvalues of
  * the bordered pencil [[M, b], [c^T, d0]]. Candidates include modes the
  * transfer cannot see and, after rounding, spurious ones; the caller
  * verifies them. *nz gets the count (at most rank), *used the path taken
- * (PENCIL_ZEROS_DYNAMICS or PENCIL_ZEROS_QZ). */
+ * (PENCIL_ZEROS_QZ, PENCIL_ZEROS_DYNAMICS, or PENCIL_ZEROS_DYNAMICS_CHECK when the
+ * zero dynamics was only moderately conditioned and each zero should be
+ * checked against T). */
 int pencil_zero_candidates(const pencil *p, int i, int o, int method, double complex *z,
                            int *nz, int *used, lw_error *err);
 
@@ -59,6 +61,8 @@ int pencil_hess_new(const pencil *p, int i, int o, pencil_hess **out, lw_error *
 void pencil_hess_free(pencil_hess *h);
 /* c^T (sI - H)^-1 b + d0; NaN when sI - H is singular. */
 double complex pencil_hess_eval(pencil_hess *h, double complex s);
+/* The same at a real s, in real arithmetic. */
+double pencil_hess_eval_real(pencil_hess *h, double s);
 /* Closed-loop poles as the eigenvalues of H - kappa b c^T, the loop closed
  * around the reduced form with T = gain (c^T (sI - H)^-1 b + d0). eig gets
  * rank values; *ok is 0 when the closed loop drops a degree (1 + gain d0 = 0),

@@ -214,6 +214,108 @@ static void test_no_crossover(void **state)
     }
 }
 
+/* The exact scan (margins_find_exact) on its own gives the closed-form
+ * margins of three equal poles, with no help from the factored form. */
+static void test_exact_scan_three_poles(void **state)
+{
+    (void)state;
+    const double R = 10e3, C = 2e-12;
+    const double gains[] = { 2.0, 7.8, 8.2 };
+    for (int k = 0; k < 3; k++) {
+        double A = gains[k], p = 1 / (2 * PI_ * R * C);
+        run x;
+        three_pole(&x, A, R, C);
+        margins m;
+        lw_error err;
+        lw_error_clear(&err);
+        assert_int_equal(margins_find_exact(x.r.lg, &x.r.tf, x.r.mg.fmin_hz, x.r.mg.fmax_hz, &m,
+                                            &err),
+                         LW_OK);
+        assert_int_equal(m.exact, 1);
+        assert_int_equal(m.mismatch, 0);
+        /* closed forms as in test_three_pole_gain_margin: the phase crossing
+         * at sqrt(3) p with |T| = A/8; the crossover at u p, u = sqrt(A^(2/3)
+         * - 1), PM = 180 - 3 atan(u) (worked by hand) */
+        double u = sqrt(pow(A, 2.0 / 3.0) - 1);
+        assert_int_equal(m.ncross, 1);
+        assert_rel(m.cross[0].hz, u * p, 1e-8);
+        assert_rel(m.cross[0].value, 180.0 - 3 * atan(u) * DEG_, 1e-6);
+        assert_int_equal(m.nphase, 1);
+        assert_rel(m.phase[0].hz, sqrt(3.0) * p, 1e-8);
+        assert_rel(m.phase[0].value, 20 * log10(8 / A), 1e-6);
+        release(&x);
+    }
+}
+
+/* A factored form that is not T's (a spurious zero added to the structure,
+ * as a dropped zero would be the other way round) is noticed by the spot
+ * checks, and with phase_exact set the phase is walked on the exact T: it
+ * follows -3 atan(f/p) continuously past -180 degrees (closed form). */
+static void test_wrong_structure_noticed(void **state)
+{
+    (void)state;
+    const double R = 10e3, C = 2e-12, A = 2.0, p = 1 / (2 * PI_ * R * C);
+    run x;
+    three_pole(&x, A, R, C);
+    lg_tf *tf = &x.r.tf;
+    assert_int_equal(x.r.mg.mismatch, 0);
+    assert_int_equal(tf->nzeros, 0);
+    double complex keep = tf->zeros ? tf->zeros[0] : 0;
+    double complex *z = realloc(tf->zeros, sizeof *z * 2);
+    assert_non_null(z);
+    tf->zeros = z;
+    tf->zeros[0] = -2 * PI_ * 0.5 * p; /* not a zero of T */
+    tf->nzeros = 1;
+    margins m;
+    lw_error err;
+    lw_error_clear(&err);
+    assert_int_equal(margins_find(x.r.lg, tf, x.r.mg.fmin_hz, x.r.mg.fmax_hz, &m, &err), LW_OK);
+    assert_true(m.mismatch > 0);
+    tf->phase_exact = 1;
+    const double f[] = { 0.01, 0.3, 1.0, 1.7320508075688772, 3.0, 10.0, 100.0 };
+    for (int k = 0; k < 7; k++) {
+        double mag, ph = margin_phase(x.r.lg, tf, f[k] * p, &mag, NULL);
+        assert_rel(ph, -3 * atan(f[k]) * DEG_, 1e-9);
+        assert_rel(mag, A / pow(1 + f[k] * f[k], 1.5), 1e-9);
+    }
+    tf->nzeros = 0;
+    tf->zeros[0] = keep;
+    release(&x);
+}
+
+/* The loop of issue 16: the loop's input node has capacitance only (a pole
+ * four decades above the rest) in front of a gm-C resonator tapped at its
+ * band-pass node. T vanishes where node rb's own admittance 1/r + sc is zero
+ * (its return current then holds ra at zero), s = -1/(r c) (worked by hand
+ * from the nodal equations); the zero must be found to full accuracy, and
+ * without an accuracy warning. The margins are checked against the numpy
+ * reference in tests/ref/family.py. */
+static void test_zero_with_poles_decades_apart(void **state)
+{
+    (void)state;
+    run x;
+    analyse(&x, "node vin c=13.9f\n"
+                "node s1 r=212k c=320f\n"
+                "node s2 r=1.42M c=2.63p\n"
+                "node ra r=344k c=89.8f\n"
+                "node rb r=415k c=60.4f\n"
+                "node vo r=7.97k c=923f\n"
+                "gm gq ra -> rb 66.7u\n"
+                "gm gr rb -> ra -78.9u\n"
+                "gm g1 vin -> s1 -2.5m\n"
+                "gm g2 s1 -> s2 -56.6u\n"
+                "gm ga s2 -> ra 31.3u\n"
+                "gm go ra -> vo -741u\n"
+                "res fb vo vin 257\n"
+                "loop main negative vin s1 s2 ra vo\n"
+                "loop tank negative ra rb\n"
+                "break g1\n");
+    assert_int_equal(x.r.tf.nzeros, 1);
+    assert_crel(x.r.tf.zeros[0], -1.0 / (415e3 * 60.4e-15), 1e-9);
+    assert_int_equal(check_accuracy_warning(&x.r), 0);
+    release(&x);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -224,6 +326,9 @@ int main(void)
         cmocka_unit_test(test_second_order_phase_margin),
         cmocka_unit_test(test_output_node_does_not_change_margins),
         cmocka_unit_test(test_no_crossover),
+        cmocka_unit_test(test_exact_scan_three_poles),
+        cmocka_unit_test(test_wrong_structure_noticed),
+        cmocka_unit_test(test_zero_with_poles_decades_apart),
     };
     return cmocka_run_group_tests_name("margins", tests, NULL, NULL);
 }
