@@ -87,7 +87,7 @@ int lgain_new(int n, const double *G0, const double *C, int in, int out, double 
     free(d);
     int rc = pencil_new(n, G0, C, &lg->p, err);
     if (!rc)
-        rc = pencil_hess_new(lg->p, in, out, &lg->h, err);
+        rc = pencil_hess_new(lg->p, &(pencil_io){ 1, in, out, NULL, NULL }, &lg->h, err);
     if (rc) {
         lgain_free(lg);
         return rc;
@@ -526,7 +526,8 @@ static int classify_zeros(lgain *lg, lg_tf *tf, int method, lw_error *err)
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
     for (;;) {
-        rc = pencil_zero_candidates(p, lg->in, lg->out, method, cand, &nc, &used, err);
+        rc = pencil_zero_candidates(p, &(pencil_io){ 1, lg->in, lg->out, NULL, NULL }, method, cand,
+                                    &nc, &used, err);
         if (rc)
             break;
         tf->nzeros = 0;

@@ -342,8 +342,9 @@ done:
 }
 
 /* b = L^-1/2 (qo1 - Z2 qo2), c = L^-1/2 (qi1 - Y2^T qi2), d0 = qi2^T G22^-1 qo2,
- * where q = Q^T D e_k (row k of Q times d_k). */
-double pencil_io_vectors(const pencil *p, int i, int o, double *b, double *c)
+ * where qo = Q^T e_o and qi = Q^T e_i are rows of Q (the factors d_i d_o are
+ * left to the caller). */
+static double io_unit(const pencil *p, int i, int o, double *b, double *c)
 {
     int r = p->r, m = p->m;
     double d0 = 0;
@@ -366,6 +367,45 @@ double pencil_io_vectors(const pencil *p, int i, int o, double *b, double *c)
                   gsl_matrix_get(p->G22inv, (size_t)a, (size_t)j) *
                   gsl_matrix_get(p->Q, (size_t)o, (size_t)(r + j));
     return d0;
+}
+
+/* The same for node vectors u, v: qu = Q^T D u, qv = Q^T D v. */
+static double io_general(const pencil *p, const double *u, const double *v, double *b, double *c)
+{
+    int n = p->n, r = p->r, m = p->m;
+    double *qu = malloc(sizeof(double) * (size_t)(2 * n)), *qv = qu ? qu + n : NULL, d0 = 0;
+    if (!qu)
+        return NAN;
+    for (int k = 0; k < n; k++) {
+        double su = 0, sv = 0;
+        for (int j = 0; j < n; j++) {
+            double q = gsl_matrix_get(p->Q, (size_t)j, (size_t)k) * p->d[j];
+            su += q * u[j];
+            sv += q * v[j];
+        }
+        qu[k] = su;
+        qv[k] = sv;
+    }
+    for (int k = 0; k < r; k++) {
+        double sb = qu[k], sc = qv[k];
+        for (int j = 0; j < m; j++) {
+            sb -= gsl_matrix_get(p->Z2, (size_t)k, (size_t)j) * qu[r + j];
+            sc -= gsl_matrix_get(p->Y2, (size_t)j, (size_t)k) * qv[r + j];
+        }
+        double s = sqrt(gsl_vector_get(p->lam, (size_t)k));
+        b[k] = sb / s;
+        c[k] = sc / s;
+    }
+    for (int a = 0; a < m; a++)
+        for (int j = 0; j < m; j++)
+            d0 += qv[r + a] * gsl_matrix_get(p->G22inv, (size_t)a, (size_t)j) * qu[r + j];
+    free(qu);
+    return d0;
+}
+
+double pencil_io_vectors(const pencil *p, const pencil_io *io, double *b, double *c)
+{
+    return io->unit ? io_unit(p, io->in, io->out, b, c) : io_general(p, io->u, io->v, b, c);
 }
 
 double pencil_scale(const pencil *p, int k)

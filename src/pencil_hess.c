@@ -32,7 +32,7 @@ void pencil_hess_free(pencil_hess *h)
     free(h);
 }
 
-int pencil_hess_new(const pencil *p, int i, int o, pencil_hess **out, lw_error *err)
+int pencil_hess_new(const pencil *p, const pencil_io *io, pencil_hess **out, lw_error *err)
 {
     *out = NULL;
     int r = p->r, rc = LW_OK;
@@ -49,7 +49,11 @@ int pencil_hess_new(const pencil *p, int i, int o, pencil_hess **out, lw_error *
         goto done;
     }
     h->c = h->b + r;
-    h->d0 = r || p->m ? pencil_io_vectors(p, i, o, h->b, h->c) : 0;
+    h->d0 = r || p->m ? pencil_io_vectors(p, io, h->b, h->c) : 0;
+    if (isnan(h->d0)) {
+        rc = lw_error_set(err, LW_ENOMEM, "out of memory");
+        goto done;
+    }
     if (r > 0) {
         /* balance first (a diagonal similarity D^-1 M D, Parlett and Reinsch):
          * the Householder steps then keep the small entries of a matrix whose

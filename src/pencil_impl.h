@@ -21,9 +21,9 @@ struct pencil {
     gsl_matrix *G22inv;   /* m x m */
 };
 
-/* The input and output vectors of the reduced form of e_i^T (G + sC)^-1 e_o
- * (up to the factor d_i d_o): b and c (rank values each); returns d0. */
-double pencil_io_vectors(const pencil *p, int i, int o, double *b, double *c);
+/* The input and output vectors of the reduced form of the transfer io:
+ * b and c (rank values each); returns d0. */
+double pencil_io_vectors(const pencil *p, const pencil_io *io, double *b, double *c);
 
 /* An eigvals status as an lw_error: -1 out of memory, 1 no convergence. */
 int pencil_eig_status(int st, const char *what, lw_error *err);

@@ -221,7 +221,7 @@ done:
     return rc;
 }
 
-int pencil_zero_candidates(const pencil *p, int i, int o, int method, double complex *z,
+int pencil_zero_candidates(const pencil *p, const pencil_io *io, int method, double complex *z,
                            int *nz, int *used, lw_error *err)
 {
     int r = p->r, rc = LW_OK;
@@ -233,8 +233,12 @@ int pencil_zero_candidates(const pencil *p, int i, int o, int method, double com
         double *bc = malloc(sizeof(double) * (size_t)(2 * r));
         if (!bc)
             return lw_error_set(err, LW_ENOMEM, "out of memory");
-        double d0 = pencil_io_vectors(p, i, o, bc, bc + r);
+        double d0 = pencil_io_vectors(p, io, bc, bc + r);
         int done = 0;
+        if (isnan(d0)) {
+            free(bc);
+            return lw_error_set(err, LW_ENOMEM, "out of memory");
+        }
         double quality = 1.0;
         rc = zero_dynamics(p, bc, bc + r, d0, z, nz, &done, &quality, err);
         free(bc);
@@ -256,7 +260,11 @@ int pencil_zero_candidates(const pencil *p, int i, int o, int method, double com
         goto done;
     }
     double *c = b + r;
-    double d0 = pencil_io_vectors(p, i, o, b, c);
+    double d0 = pencil_io_vectors(p, io, b, c);
+    if (isnan(d0)) {
+        rc = lw_error_set(err, LW_ENOMEM, "out of memory");
+        goto done;
+    }
     double nm = gsl_matrix_norm1(p->M), nb = norm2(b, r), nc = norm2(c, r);
     if (nb == 0 || nc == 0)
         goto done; /* the transfer has no dynamics: no zeros */

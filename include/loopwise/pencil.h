@@ -35,6 +35,17 @@ int pencil_rank(const pencil *p);
 int pencil_eigen(const pencil *p, const double *C, double complex *eig, int *owner,
                  lw_error *err);
 
+/* A transfer of the reduced network, v^T (G + sC)^-1 u: u is where a
+ * current is injected, v what is read (node vectors, n values each). With
+ * unit set, u = e_out and v = e_in without their scale factors: the form
+ * the loop gain uses (T = -g d_in d_out times the transfer, see
+ * pencil_scale), whose arithmetic touches only the two rows involved. */
+typedef struct pencil_io {
+    int unit;
+    int in, out;               /* unit: node indices */
+    const double *u, *v;       /* otherwise: node vectors */
+} pencil_io;
+
 /* How the zero candidates are found: PENCIL_ZEROS_AUTO takes the zero
  * dynamics (a standard eigenproblem of order rank minus the relative degree,
  * the fast path) where the relative degree is low and the network small,
@@ -43,21 +54,21 @@ int pencil_eigen(const pencil *p, const double *C, double complex *eig, int *own
  * dynamics, whose Krylov basis can be ill-conditioned, proves inaccurate). */
 enum { PENCIL_ZEROS_AUTO, PENCIL_ZEROS_QZ, PENCIL_ZEROS_DYNAMICS, PENCIL_ZEROS_DYNAMICS_CHECK };
 
-/* Candidate zeros (rad/s) of e_i^T (G + sC)^-1 e_o: the finite eigenvalues of
+/* Candidate zeros (rad/s) of the transfer io: the finite eigenvalues of
  * the bordered pencil [[M, b], [c^T, d0]]. Candidates include modes the
  * transfer cannot see and, after rounding, spurious ones; the caller
  * verifies them. *nz gets the count (at most rank), *used the path taken
  * (PENCIL_ZEROS_QZ, PENCIL_ZEROS_DYNAMICS, or PENCIL_ZEROS_DYNAMICS_CHECK when the
  * zero dynamics was only moderately conditioned and each zero should be
  * checked against T). */
-int pencil_zero_candidates(const pencil *p, int i, int o, int method, double complex *z,
+int pencil_zero_candidates(const pencil *p, const pencil_io *io, int method, double complex *z,
                            int *nz, int *used, lw_error *err);
 
-/* The state-space form of e_i^T (G + sC)^-1 e_o (up to the factor d_i d_o):
- * c^T (sI - M)^-1 b + d0, with M in upper Hessenberg form H = U^T M U and
- * b, c rotated alike, so that each evaluation costs O(rank^2). */
+/* The state-space form of the transfer io: c^T (sI - M)^-1 b + d0, with M
+ * in upper Hessenberg form H = U^T M U and b, c rotated alike, so that each
+ * evaluation costs O(rank^2). */
 typedef struct pencil_hess pencil_hess;
-int pencil_hess_new(const pencil *p, int i, int o, pencil_hess **out, lw_error *err);
+int pencil_hess_new(const pencil *p, const pencil_io *io, pencil_hess **out, lw_error *err);
 void pencil_hess_free(pencil_hess *h);
 /* c^T (sI - H)^-1 b + d0; NaN when sI - H is singular. */
 double complex pencil_hess_eval(pencil_hess *h, double complex s);

@@ -18,6 +18,7 @@
 #include "loopwise/loopgain.h"
 #include "loopwise/margins.h"
 #include "loopwise/model.h"
+#include "loopwise/pencil.h"
 #include "loopwise/text.h"
 
 #include "testutil.h"
@@ -275,6 +276,53 @@ static void test_owner_nodes_miller(void **state)
     release(&x);
 }
 
+/* The inverse of a 3x3 complex matrix by cofactors (Cramer's rule). */
+static void inverse3(const double complex A[9], double complex X[9])
+{
+    double complex det = A[0] * (A[4] * A[8] - A[5] * A[7]) - A[1] * (A[3] * A[8] - A[5] * A[6]) +
+                         A[2] * (A[3] * A[7] - A[4] * A[6]);
+    for (int i = 0; i < 3; i++)
+        for (int j = 0; j < 3; j++) {
+            /* X[i][j] = cofactor(j, i) / det */
+            int r0 = (j + 1) % 3, r1 = (j + 2) % 3, c0 = (i + 1) % 3, c1 = (i + 2) % 3;
+            X[i * 3 + j] = (A[r0 * 3 + c0] * A[r1 * 3 + c1] - A[r0 * 3 + c1] * A[r1 * 3 + c0]) / det;
+        }
+}
+
+/* A transfer between node vectors, v^T (G + sC)^-1 u, through the reduced
+ * Hessenberg form: three nodes (two capacitive, one without capacitance, so
+ * that the Schur elimination is exercised), a floating capacitor, a gm;
+ * against Cramer's rule on the 3x3 nodal matrix at several complex s. */
+static void test_general_transfer(void **state)
+{
+    (void)state;
+    const double G[9] = { 1 / 10e3 + 1 / 4.7e3, -1 / 4.7e3, 0,
+                          -1 / 4.7e3 - 2e-4, 1 / 4.7e3 + 1 / 22e3 + 1 / 8.2e3, -1 / 8.2e3,
+                          0, -1 / 8.2e3, 1 / 8.2e3 + 1 / 33e3 };
+    const double C[9] = { 2e-12 + 0.5e-12, -0.5e-12, 0, -0.5e-12, 3e-12 + 0.5e-12, 0, 0, 0, 0 };
+    const double u[3] = { 1.0, 0.0, -0.5 }, v[3] = { 0.3, 1.0, 2.0 };
+    pencil *p = NULL;
+    pencil_hess *h = NULL;
+    lw_error err;
+    lw_error_clear(&err);
+    assert_int_equal(pencil_new(3, G, C, &p, &err), LW_OK);
+    assert_int_equal(pencil_rank(p), 2);
+    assert_int_equal(pencil_hess_new(p, &(pencil_io){ 0, 0, 0, u, v }, &h, &err), LW_OK);
+    const double complex s[] = { 0, 1e6, 3e7 * I, -2e7 + 5e7 * I, 1e10 * I };
+    for (int k = 0; k < 5; k++) {
+        double complex A[9], X[9], want = 0;
+        for (int q = 0; q < 9; q++)
+            A[q] = G[q] + s[k] * C[q];
+        inverse3(A, X);
+        for (int i = 0; i < 3; i++)
+            for (int j = 0; j < 3; j++)
+                want += v[i] * X[i * 3 + j] * u[j];
+        assert_crel(pencil_hess_eval(h, s[k]), want, 1e-10);
+    }
+    pencil_hess_free(h);
+    pencil_free(p);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -287,6 +335,7 @@ int main(void)
         cmocka_unit_test(test_output_node_pole_is_hidden),
         cmocka_unit_test(test_owner_nodes),
         cmocka_unit_test(test_owner_nodes_miller),
+        cmocka_unit_test(test_general_transfer),
     };
     return cmocka_run_group_tests_name("poles", tests, NULL, NULL);
 }
