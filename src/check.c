@@ -30,7 +30,26 @@ void check_result_free(check_result *r)
 
 int check_accuracy_warning(const check_result *r)
 {
-    return r->tf.suspect || r->mg.mismatch || r->mg.exact;
+    return r->tf.suspect || r->mg.mismatch || r->mg.exact || r->nyquist_disagrees;
+}
+
+/* The Nyquist count, and whether its Z agrees with the closed-loop poles in
+ * the right half-plane (SPEC section 7). A count left undecided (1 + T
+ * through 0 on the axis: a closed-loop pole on it) is not a disagreement. */
+static int nyquist_verdict(check_result *r, lw_error *err)
+{
+    int rc = nyquist_count(r->lg, &r->tf, r->mg.fmin_hz, r->mg.fmax_hz, &r->nq, err);
+    if (rc)
+        return rc;
+    r->have_nyquist = 1;
+    double scale = 0;
+    for (int k = 0; k < r->ncl; k++)
+        scale = fmax(scale, cabs(r->cl[k]));
+    int rhp = 0;
+    for (int k = 0; k < r->ncl; k++)
+        rhp += creal(r->cl[k]) > 1e-9 * scale;
+    r->nyquist_disagrees = r->nq.decided && !r->marginal && r->nq.closed_loop_rhp != rhp;
+    return LW_OK;
 }
 
 /* 1/(2π R C_total), C_total = c + every cap from the node to gnd. */
@@ -287,8 +306,11 @@ int check_run(const desc *d, const model *m, const check_opts *o, check_result *
         rc = estimates(d, r, err);
     if (!rc)
         rc = sound_margins(o, r, err);
-    if (!rc) {
+    if (!rc)
         stability(r);
+    if (!rc && o->want_nyquist)
+        rc = nyquist_verdict(r, err);
+    if (!rc) {
         if (o->want_loops)
             dominance(d, r);
         else

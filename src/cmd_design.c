@@ -86,7 +86,7 @@ static figure_opts fig(const options *o)
  * much as the poles themselves on larger networks. */
 static check_opts design_opts(const options *o)
 {
-    check_opts co = { o->fmin, o->fmax, 0, 0, 0 };
+    check_opts co = { o->fmin, o->fmax, 0, 0, 0, 0 };
     return co;
 }
 

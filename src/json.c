@@ -117,6 +117,14 @@ void report_check_json(FILE *f, const desc *d, const model *m, const check_resul
     fputs(",\n \"closed_loop_poles\": ", f);
     json_roots(f, r->cl, r->ncl);
     fprintf(f, ",\n \"stable\": %s", r->stable ? "true" : "false");
+    if (r->have_nyquist) {
+        const nyquist *q = &r->nq;
+        fputs(",\n \"nyquist\": {\"encirclements\": ", f);
+        json_number(f, q->decided ? (double)q->encirclements : NAN);
+        fprintf(f, ", \"open_loop_rhp\": %d, \"closed_loop_rhp\": ", q->open_loop_rhp);
+        json_number(f, q->decided ? (double)q->closed_loop_rhp : NAN);
+        fputc('}', f);
+    }
     fputs(",\n \"loops\": ", f);
     json_loops(f, d, m, r);
     fputs(",\n \"dominance_db\": ", f);

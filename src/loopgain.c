@@ -553,7 +553,11 @@ static void low_frequency(lgain *lg, lg_tf *tf)
         if (tf->zeros[k] != 0)
             lo = fmin(lo, cabs(tf->zeros[k]));
     double sigma = isfinite(lo) ? 1e-4 * lo : 1.0;
-    double complex t1 = lgain_eval(lg, sigma), t2 = lgain_eval(lg, sigma / 10);
+    /* with a pole or zero at the origin T is large or small near it, and
+     * the LU of the whole network keeps its sign where the reduced form,
+     * spanning many decades, may not */
+    double complex t1 = tf->origin ? lgain_eval_full(lg, sigma) : lgain_eval(lg, sigma);
+    double complex t2 = tf->origin ? lgain_eval_full(lg, sigma / 10) : lgain_eval(lg, sigma / 10);
     tf->sign = creal(t1) > 0 ? 1 : (creal(t1) < 0 ? -1 : 0);
     if (cabs(t1) > 0 && cabs(t2) > 0) {
         double slope = log10(cabs(t1) / cabs(t2));
@@ -571,6 +575,13 @@ static void low_frequency(lgain *lg, lg_tf *tf)
         if (!isfinite(creal(t0)))
             t0 = lgain_eval(lg, 0);
         tf->dc = isfinite(creal(t0)) ? creal(t0) : creal(lgain_eval(lg, sigma * 1e-6));
+        /* T(0) by the LU decides the sign; the reduced form at sigma can
+         * lose it when the poles span many decades */
+        if (tf->dc != 0 && (tf->dc > 0) != (tf->sign > 0)) {
+            tf->sign = tf->dc > 0 ? 1 : -1;
+            if (!lgain_uses_full(lg))
+                lgain_use_full(lg, 1);
+        }
     }
 }
 

@@ -288,7 +288,8 @@ int main(int argc, char **argv)
     memset(&r, 0, sizeof r);
     text_file *t = NULL;
     int rc = load(&o, &t, &d, &m, &err);
-    check_opts co = { o.fmin, o.fmax, 1, 1, o.each };
+    check_opts co = { o.fmin, o.fmax, 1, 1, o.each, 0 };
+    co.want_nyquist = !strcmp(o.command, "check");
     int design = !strcmp(o.command, "size") || !strcmp(o.command, "sweep") ||
                  !strcmp(o.command, "load") || !strcmp(o.command, "corners") ||
                  !strcmp(o.command, "montecarlo");

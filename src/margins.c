@@ -293,7 +293,7 @@ static int find_root(fparams *fp, int phase, double a, double b, double ga, doub
  * points on either side of each resonance so a narrow peak is not missed.
  * Beyond a decade outside the poles and zeros T is a plain power of f, so
  * the grid there is sparse. */
-static double *make_grid(const lg_tf *tf, double flo, double fhi, int per_decade, int *npts)
+double *margin_grid(const lg_tf *tf, double flo, double fhi, int per_decade, int *npts)
 {
     double slo = INFINITY, shi = 0;
     for (int k = 0; k < tf->npoles + tf->nzeros; k++) {
@@ -549,7 +549,7 @@ static int find(lgain *lg, const lg_tf *tf, double flo, double fhi, int exact, m
     int have_ff = !exact && tf->sign != 0 && fform_build(lg, tf, flo, fhi, &ff);
     fparams fp = { lg, tf, have_ff ? &ff : NULL, 0, exact, 0 };
     int n;
-    double *u = make_grid(tf, flo, fhi, have_ff ? MARGIN_PER_DECADE : 4 * MARGIN_PER_DECADE, &n);
+    double *u = margin_grid(tf, flo, fhi, have_ff ? MARGIN_PER_DECADE : 4 * MARGIN_PER_DECADE, &n);
     if (!u) {
         fform_free(&ff);
         return lw_error_set(err, LW_ENOMEM, "out of memory");

@@ -82,6 +82,25 @@ static void section_loops(FILE *f, const desc *d, const model *m, const check_re
                 r->dominance_db < 6 ? "  (less than 2x: the positive loop is strong)" : "");
 }
 
+/* The Nyquist count in one line: N, P and the Z they give, beside the
+ * closed-loop poles' own count. */
+static void nyquist_line(FILE *f, const check_result *r)
+{
+    const nyquist *q = &r->nq;
+    if (!q->decided) {
+        fprintf(f, "  Nyquist count   undecided: 1 + T passes through 0 on the imaginary axis "
+                "(a closed-loop pole on it)\n");
+        return;
+    }
+    fprintf(f, "  Nyquist count   %d clockwise encirclement%s of -1, %d open-loop pole%s in the "
+            "right half-plane: %d closed-loop pole%s there%s\n",
+            q->encirclements, abs(q->encirclements) == 1 ? "" : "s", q->open_loop_rhp,
+            q->open_loop_rhp == 1 ? "" : "s", q->closed_loop_rhp,
+            q->closed_loop_rhp == 1 ? "" : "s",
+            r->nyquist_disagrees ? " (the closed-loop poles say otherwise: see the warning)"
+                                 : ", as the closed-loop poles say");
+}
+
 static void section_gain(FILE *f, const desc *d, const model *m, const check_result *r)
 {
     const lg_tf *tf = &r->tf;
@@ -118,6 +137,8 @@ static void section_gain(FILE *f, const desc *d, const model *m, const check_res
                 si_format(mg->phase[mg->best_phase].hz, "Hz", a, sizeof a));
     fprintf(f, "  band            %s to %s\n", si_format(mg->fmin_hz, "Hz", a, sizeof a),
             si_format(mg->fmax_hz, "Hz", b, sizeof b));
+    if (r->have_nyquist)
+        nyquist_line(f, r);
 }
 
 static void section_poles(FILE *f, const desc *d, const check_result *r)
@@ -235,6 +256,11 @@ static void verdict(FILE *f, const check_result *r, report_target t)
         fprintf(f, "Note: the phase margin is positive but the closed loop is unstable%s; "
                 "the closed-loop poles decide.\n",
                 olrhp ? " (T has a right half-plane pole)" : "");
+    if (r->nyquist_disagrees)
+        fprintf(f, "Note: accuracy warning: the Nyquist count gives %d closed-loop pole%s in "
+                "the right half-plane and the closed-loop poles %d; one of the two verdicts is "
+                "wrong here.\n", r->nq.closed_loop_rhp, r->nq.closed_loop_rhp == 1 ? "" : "s",
+                rhp);
     if (mg->exact)
         fprintf(f, "Note: accuracy warning: the pole/zero form disagrees with the exact loop "
                 "gain, so the crossovers and margins above were found on the exact loop gain "

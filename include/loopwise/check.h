@@ -11,12 +11,14 @@
 #include "loopwise/loopgain.h"
 #include "loopwise/margins.h"
 #include "loopwise/model.h"
+#include "loopwise/nyquist.h"
 
 typedef struct check_opts {
     double fmin_hz, fmax_hz;   /* 0: automatic band */
     int want_owner;            /* owner nodes of the open-loop poles */
     int want_loops;            /* each declared loop's own gain and sign check */
     int keep_loops;            /* keep each loop's own-gain evaluator (for plots) */
+    int want_nyquist;          /* the Nyquist count and its cross-check */
 } check_opts;
 
 typedef struct check_loop {
@@ -40,6 +42,9 @@ typedef struct check_result {
     double *node_double;       /* phase-margin change per node when its capacitance to */
     double *node_half;         /* ground doubles / halves; NULL unless computed (design.h) */
     double *node_cg;           /* each node's capacitance to ground (with the table) */
+    int have_nyquist;          /* with want_nyquist: */
+    nyquist nq;                /* the Nyquist count */
+    int nyquist_disagrees;     /* its Z differs from the closed-loop poles in the RHP */
     lgain **loop_lg;           /* with keep_loops: each loop's own-gain evaluator (or NULL) */
     lg_tf *loop_tf;            /* and its structure */
 } check_result;

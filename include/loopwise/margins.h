@@ -46,6 +46,12 @@ void margin_band(const lg_tf *tf, const double complex *cl, int ncl, double *flo
  * crossing there and polishes each on the exact T. Where the factored form
  * and the exact T disagree (spot checks in mid band and at every root found)
  * m->mismatch counts it. */
+/* The scan grid (log10 f, rising, allocated; the caller frees it): a log
+ * grid over the band, dense within a decade of the poles and zeros of T and
+ * sparse outside, plus every pole and zero frequency and points on either
+ * side of each resonance so that a narrow peak is not stepped over. */
+double *margin_grid(const lg_tf *tf, double flo, double fhi, int per_decade, int *npts);
+
 int margins_find(lgain *lg, const lg_tf *tf, double flo, double fhi, margins *m,
                  lw_error *err);
 /* The same on the exact T alone, the phase unwrapped along an adaptive grid

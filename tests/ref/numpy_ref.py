@@ -1818,6 +1818,21 @@ def compare_run(path, exe, tally, net, ref, L, tol, verbose=False):
               js.get("phase_crossover_hz"), rel=tol["pcross"])
     tally.check(js.get("stable") is ref.stable, L + "stable",
                 "ref %r, reported %r" % (ref.stable, js.get("stable")))
+    # SPEC 7: the Nyquist count's Z is the number of closed-loop poles in
+    # the right half-plane, here from scipy's generalized eigenvalues
+    nq = js.get("nyquist")
+    cl = getattr(getattr(ref, "truth", None), "cl", None) or ref.cl
+    want_z = sum(1 for z in cl if z.real > 0)
+    if nq is not None and nq.get("closed_loop_rhp") is not None:
+        tally.check(nq.get("closed_loop_rhp") == want_z, L + "nyquist closed_loop_rhp",
+                    "ref %d closed-loop poles in the right half-plane, count %r (N %r, P %r)"
+                    % (want_z, nq.get("closed_loop_rhp"), nq.get("encirclements"),
+                       nq.get("open_loop_rhp")))
+    else:
+        tally.check(nq is not None and any(abs(z.real) <= 1e-9 * abs(z) for z in cl),
+                    L + "nyquist decided",
+                    "count missing or undecided (%r) without a closed-loop pole on the axis"
+                    % (nq,))
 
     to_hz = lambda zs: [z / TWO_PI for z in zs]
     olp = js.get("open_loop_poles") or []

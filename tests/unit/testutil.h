@@ -77,8 +77,16 @@ static void analyse(run *x, const char *fmt, ...)
     memset(&o, 0, sizeof o);
     o.want_owner = 1;
     o.want_loops = 1;
+    o.want_nyquist = 1;
     if (rc == LW_OK)
         rc = check_run(x->d, x->m, &o, &x->r, &err);
+    /* every network a unit test analyses also checks that the two stability
+     * verdicts agree: the Nyquist count and the closed-loop poles */
+    if (rc == LW_OK && x->r.nyquist_disagrees) {
+        print_error("the Nyquist count (Z = %d) disagrees with the closed-loop poles\n--- input "
+                    "---\n%s", x->r.nq.closed_loop_rhp, src);
+        fail();
+    }
     if (rc != LW_OK) {
         print_error("analysis failed (%d) at %d:%d: %s\n--- input ---\n%s", rc, err.line,
                     err.col, err.msg, src);

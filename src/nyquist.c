@@ -1,0 +1,153 @@
+/* nyquist: the Nyquist count on the exact T. See nyquist.h. */
+#include "loopwise/nyquist.h"
+
+#include <complex.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "loopwise/margins.h"
+
+#define TWO_PI 6.283185307179586
+#define PI_ 3.14159265358979323846
+/* The largest change of arg(1 + T) (radians) accepted in one step: far
+ * below pi, so the branch of each step is never in doubt. */
+#define STEP_RAD (15.0 * PI_ / 180.0)
+/* Steps narrower than this (log10 f) are not split further: 1 + T then
+ * passes through or next to 0 (a closed-loop pole on the axis). */
+#define MIN_STEP 1e-11
+/* A pole with |re| below this times its magnitude sits on the axis. */
+#define AXIS_TOL 1e-9
+/* Points per decade of the grid the walk starts from (margin_grid). */
+#define PER_DECADE 20
+
+static double complex one_plus_t(lgain *lg, double u)
+{
+    return 1.0 + lgain_eval(lg, I * TWO_PI * pow(10.0, u));
+}
+
+/* Adds to *delta the change of arg(1 + T) from u0 (where its value is *prev)
+ * to u1, halving each step until the argument moves by less than STEP_RAD.
+ * Returns 0 when a step could not be resolved. */
+static int walk(lgain *lg, double u0, double u1, double complex *prev, double *delta)
+{
+    double u = u0, h = u1 - u0;
+    double complex a = *prev;
+    int resolved = 1;
+    while (u < u1) {
+        double ub = fmin(u + h, u1);
+        double complex b = one_plus_t(lg, ub);
+        if (!isfinite(creal(b)) || !isfinite(cimag(b)) || b == 0) {
+            resolved = 0; /* exactly on a pole of T or a closed-loop pole */
+            u = ub;
+            continue;
+        }
+        double d = remainder(carg(b) - carg(a), TWO_PI);
+        if (fabs(d) > STEP_RAD && ub - u > MIN_STEP) {
+            h = 0.5 * (ub - u);
+            continue;
+        }
+        resolved &= fabs(d) <= STEP_RAD;
+        *delta += d;
+        a = b;
+        u = ub;
+        h *= 2;
+    }
+    *prev = a;
+    return resolved;
+}
+
+static int cmp_double(const void *pa, const void *pb)
+{
+    double a = *(const double *)pa, b = *(const double *)pb;
+    return a < b ? -1 : a > b;
+}
+
+/* P, the hidden right-half-plane modes, and the positive frequencies (log10
+ * Hz, sorted, one entry per pole so a double pole appears twice) of the
+ * poles of T on the imaginary axis above the origin. */
+static int classify_poles(const lg_tf *tf, nyquist *nq, double *axis_u, int *naxis)
+{
+    *naxis = 0;
+    for (int k = 0; k < tf->npoles; k++) {
+        double complex p = tf->poles[k];
+        if (p == 0)
+            continue; /* the origin: indented by its order below */
+        int on_axis = fabs(creal(p)) <= AXIS_TOL * cabs(p);
+        if (tf->hidden[k]) {
+            nq->hidden_rhp += creal(p) > 0 && !on_axis;
+            continue;
+        }
+        if (on_axis) {
+            nq->axis_poles++;
+            if (cimag(p) > 0)
+                axis_u[(*naxis)++] = log10(cimag(p) / TWO_PI);
+        } else {
+            nq->open_loop_rhp += creal(p) > 0;
+        }
+    }
+    qsort(axis_u, (size_t)*naxis, sizeof *axis_u, cmp_double);
+    return 0;
+}
+
+int nyquist_count(lgain *lg, const lg_tf *tf, double flo, double fhi, nyquist *nq,
+                  lw_error *err)
+{
+    memset(nq, 0, sizeof *nq);
+    double *axis_u = malloc(sizeof(double) * (size_t)(tf->npoles + 1));
+    if (!axis_u)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    int naxis;
+    classify_poles(tf, nq, axis_u, &naxis);
+    int origin_poles = tf->origin < 0 ? -tf->origin : 0;
+    nq->axis_poles += origin_poles;
+    if (tf->sign == 0) {
+        /* T is identically zero: 1 + T = 1 winds around nothing */
+        nq->decided = 1;
+        nq->closed_loop_rhp = nq->open_loop_rhp + nq->hidden_rhp;
+        free(axis_u);
+        return LW_OK;
+    }
+    int n;
+    double *u = margin_grid(tf, flo / 10, fhi * 10, PER_DECADE, &n);
+    if (!u) {
+        free(axis_u);
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    }
+    /* the positive frequencies, 0+ to +inf; an axis pole is passed on a
+     * small half circle to its right, where T ~ R/(s - jw0) turns by -180
+     * degrees per order while |T| is huge */
+    double delta = 0;
+    double complex prev = one_plus_t(lg, u[0]);
+    int decided = isfinite(creal(prev)) && isfinite(cimag(prev)) && prev != 0, j = 0;
+    double cur = u[0];
+    while (j < naxis && axis_u[j] <= cur)
+        j++; /* below the band: beyond the walk's reach, and left as such */
+    for (int k = 1; k < n && decided; k++) {
+        while (j < naxis && axis_u[j] <= u[k]) {
+            double up = axis_u[j], gap = 1e-7;
+            decided &= walk(lg, cur, up - gap, &prev, &delta);
+            while (j < naxis && axis_u[j] == up) {
+                delta -= PI_;
+                j++;
+            }
+            cur = up + gap;
+            prev = one_plus_t(lg, cur);
+        }
+        if (u[k] > cur) {
+            decided &= walk(lg, cur, u[k], &prev, &delta);
+            cur = u[k];
+        }
+    }
+    free(u);
+    free(axis_u);
+    /* the negative frequencies mirror the positive ones (T(-jw) is the
+     * conjugate of T(jw), traversed the other way: the same change); the
+     * half circle around the origin turns T by -180 degrees per pole there */
+    double total = 2.0 * delta - PI_ * origin_poles;
+    double turns = -total / TWO_PI;
+    nq->encirclements = (int)lround(turns);
+    nq->decided = decided && fabs(turns - nq->encirclements) < 0.05;
+    nq->closed_loop_rhp = nq->encirclements + nq->open_loop_rhp + nq->hidden_rhp;
+    return LW_OK;
+}
