@@ -388,6 +388,7 @@ int design_node_table(const desc *d, const check_opts *o, check_result *r, lw_er
     check_opts q = *o;
     q.want_loops = 0;
     q.want_owner = 0;
+    q.want_nyquist = 0;
     double pm_now = r->mg.best_cross >= 0 ? r->mg.cross[r->mg.best_cross].value : NAN;
     size_t n = (size_t)d->nnodes + 1;
     r->node_double = malloc(sizeof(double) * n);

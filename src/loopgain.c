@@ -4,6 +4,7 @@
 #include <gsl/gsl_complex.h>
 #include <gsl/gsl_complex_math.h>
 #include <gsl/gsl_linalg.h>
+#include <limits.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -454,8 +455,85 @@ static int zero_accurate(lgain *lg, double complex z)
 /* Sorts the candidates into zeros, hidden modes and debris. Returns 1, with
  * the sorting left unfinished, when check_plain is set and a candidate
  * taken as a zero without verification is not accurate. */
-static int sort_candidates(lgain *lg, lg_tf *tf, const double complex *cand, int nc,
-                           int check_plain)
+/* The radius within which k roots count as one k-fold root at s = 0, as a
+ * fraction of the largest root: a k-fold root at the origin (a chain of k
+ * integrators is a Jordan block) comes out of the eigenvalue iteration
+ * spread over a circle of about eps^(1/k), so 1e-9 (SPEC 1) for a single
+ * root and (1e-13)^(1/k) beyond. */
+static double origin_radius(int k)
+{
+    return fmax(1e-9, pow(1e-13, 1.0 / k));
+}
+
+/* The size of the cluster at the origin among the magnitudes m[n] (sorted
+ * rising): the largest k whose k smallest lie within origin_radius(k). */
+static int origin_cluster(const double *m, int n, double scale)
+{
+    int best = 0;
+    for (int k = 1; k <= n && k <= 8; k++)
+        if (m[k - 1] <= origin_radius(k) * scale)
+            best = k;
+    return best;
+}
+
+static int cmp_mag(const void *pa, const void *pb)
+{
+    double a = cabs(*(const double complex *)pa), b = cabs(*(const double complex *)pb);
+    return a < b ? -1 : a > b;
+}
+
+/* The origin order of T from the slope of the exact T (the LU of the whole
+ * network) between 1e-10 and 1e-11 of scale on the real axis, below which
+ * SPEC 1 counts every root as at the origin; INT_MIN when T is zero or
+ * singular there or the slope is not near an integer. */
+static int origin_slope(lgain *lg, double scale)
+{
+    double t1 = cabs(lgain_eval_full(lg, 1e-10 * scale));
+    double t2 = cabs(lgain_eval_full(lg, 1e-11 * scale));
+    if (!(t1 > 0) || !(t2 > 0) || !isfinite(t1) || !isfinite(t2))
+        return INT_MIN;
+    double slope = log10(t1 / t2);
+    return fabs(slope - round(slope)) < 0.1 ? (int)round(slope) : INT_MIN;
+}
+
+/* Snaps the roots at the origin to exactly 0: *p0 of the poles (sorted by
+ * magnitude already) and *z0 of the candidates (sorted here). */
+static void origin_roots(lgain *lg, lg_tf *tf, double complex *cand, int nc, double scale,
+                         int *p0, int *z0)
+{
+    int pole_ok = 0, zero_ok = 0, np = tf->npoles;
+    *p0 = *z0 = 0;
+    qsort(cand, (size_t)nc, sizeof *cand, cmp_mag);
+    double *m = malloc(sizeof(double) * (size_t)(np + nc + 1));
+    if (!m)
+        return;
+    for (int k = 0; k < np; k++)
+        m[k] = cabs(tf->poles[k]);
+    for (int k = 0; k < nc; k++)
+        m[np + k] = cabs(cand[k]);
+    int cp = origin_cluster(m, np, scale), cz = origin_cluster(m + np, nc, scale);
+    free(m);
+    if (cp + cz == 0)
+        return;
+    origin_possible(lg, &pole_ok, &zero_ok);
+    *p0 = pole_ok ? cp : 0;
+    *z0 = zero_ok ? cz : 0;
+    if (*p0 + *z0 > 1) {
+        /* a multiple root: the exact T's slope far below every genuine root
+         * decides when the cluster sizes disagree with it */
+        int m_lu = origin_slope(lg, scale);
+        if (m_lu != INT_MIN && m_lu != *z0 - *p0) {
+            *p0 = m_lu < 0 && pole_ok ? (-m_lu < np ? -m_lu : np) : 0;
+            *z0 = m_lu > 0 && zero_ok ? (m_lu < nc ? m_lu : nc) : 0;
+        }
+    }
+    for (int k = 0; k < *p0; k++)
+        tf->poles[k] = 0;
+    for (int k = 0; k < *z0; k++)
+        cand[k] = 0;
+}
+
+static int sort_candidates(lgain *lg, lg_tf *tf, double complex *cand, int nc, int check_plain)
 {
     double scale = 0;
     for (int k = 0; k < tf->npoles; k++)
@@ -464,23 +542,11 @@ static int sort_candidates(lgain *lg, lg_tf *tf, const double complex *cand, int
         for (int k = 0; k < nc; k++)
             scale = fmax(scale, cabs(cand[k]));
     tf->origin_tol = 1e-9 * scale;
-    int p0 = 0, z0 = 0, pole_ok = 0, zero_ok = 0, small = 0;
-    for (int k = 0; k < tf->npoles; k++)
-        small |= cabs(tf->poles[k]) <= tf->origin_tol;
-    for (int k = 0; k < nc; k++)
-        small |= cabs(cand[k]) <= tf->origin_tol;
-    if (small)
-        origin_possible(lg, &pole_ok, &zero_ok);
-    for (int k = 0; k < tf->npoles && pole_ok; k++)
-        if (cabs(tf->poles[k]) <= tf->origin_tol) {
-            tf->poles[k] = 0;
-            p0++;
-        }
+    int p0, z0;
+    origin_roots(lg, tf, cand, nc, scale, &p0, &z0);
     for (int k = 0; k < nc; k++) {
-        if (zero_ok && cabs(cand[k]) <= tf->origin_tol) {
-            z0++;
+        if (k < z0)
             continue;
-        }
         /* In exact arithmetic the finite candidates are the zeros of T and the
          * modes T cannot see (which are poles); rounding adds debris only far
          * out, where infinite zeros were perturbed. So a candidate away from

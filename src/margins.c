@@ -22,6 +22,9 @@
 /* Steps narrower than this (in log10 f) are taken whatever the phase does:
  * a zero on the imaginary axis makes the phase jump by 180 degrees. */
 #define EXACT_MIN_STEP 1e-10
+/* Steps taken at the smallest width beyond which the phase is taken for
+ * noise (an evaluation that lost its accuracy), so that no walk runs on. */
+#define EXACT_MAX_FORCED 20
 
 /* The unwrapped phase of a value t = T(j 2 pi hz) already evaluated. */
 static double phase_of(const lg_tf *tf, double hz, double complex t, double *mag,
@@ -45,16 +48,19 @@ static double phase_of(const lg_tf *tf, double hz, double complex t, double *mag
  * in steps of at most EXACT_STEP_DEG as in the exact scan. */
 static double walk_phase(lgain *lg, double hz0, double ph0, double hz, double *mag)
 {
-    double u = log10(hz0), ut = log10(hz), h = ut - u, ph = ph0;
+    double u = log10(hz0), ut = log10(hz), h = ut - u, ph = ph0, min_step = EXACT_MIN_STEP;
+    int forced = 0;
     double complex t = lgain_eval(lg, I * TWO_PI * hz0);
     while (u < ut) {
         double ub = fmin(u + h, ut);
         t = lgain_eval(lg, I * TWO_PI * pow(10.0, ub));
         double pb = ph + remainder(carg(t) * DEG - ph, 360.0);
-        if (isfinite(pb) && fabs(pb - ph) > EXACT_STEP_DEG && ub - u > EXACT_MIN_STEP) {
+        if (isfinite(pb) && fabs(pb - ph) > EXACT_STEP_DEG && ub - u > min_step) {
             h = 0.5 * (ub - u);
             continue;
         }
+        if (isfinite(pb) && fabs(pb - ph) > EXACT_STEP_DEG && ++forced == EXACT_MAX_FORCED)
+            min_step = 1e-3; /* noise, not a zero on the axis: onward coarsely */
         if (isfinite(pb))
             ph = pb;
         u = ub;
@@ -507,7 +513,8 @@ static int exact_segment(fparams *fp, margins *m, xpoint a, xpoint b)
  * the real axis, not from the zeros). */
 static int scan_exact(fparams *fp, margins *m, const double *u, int n)
 {
-    int above = 0, below = 0, rc = LW_OK;
+    int above = 0, below = 0, rc = LW_OK, forced = 0;
+    double min_step = EXACT_MIN_STEP;
     double hz0 = pow(10.0, u[0]), mag;
     xpoint a = { u[0], 0, phase_of(fp->tf, hz0, lgain_eval(fp->lg, I * TWO_PI * hz0), &mag,
                                    NULL) };
@@ -521,9 +528,20 @@ static int scan_exact(fparams *fp, margins *m, const double *u, int n)
                 a.u = ub; /* exactly on a pole or zero: step over it */
                 continue;
             }
-            if (fabs(b.ph - a.ph) > EXACT_STEP_DEG && ub - a.u > EXACT_MIN_STEP) {
+            if (fabs(b.ph - a.ph) > EXACT_STEP_DEG && ub - a.u > min_step) {
                 h = 0.5 * (ub - a.u);
                 continue;
+            }
+            if (fabs(b.ph - a.ph) > EXACT_STEP_DEG && ++forced == EXACT_MAX_FORCED) {
+                /* the phase is noise here, not a zero on the axis: again on
+                 * the LU path, or, on it already, onward in coarse steps with
+                 * the warning raised */
+                if (!lgain_uses_full(fp->lg)) {
+                    lgain_use_full(fp->lg, 1);
+                    return LW_EAGAIN_SCAN;
+                }
+                m->mismatch++;
+                min_step = 1e-3;
             }
             above |= b.lm > 0;
             below |= b.lm < 0;

@@ -16,6 +16,8 @@
 /* Steps narrower than this (log10 f) are not split further: 1 + T then
  * passes through or next to 0 (a closed-loop pole on the axis). */
 #define MIN_STEP 1e-11
+/* Unresolved steps after which the walk gives up on the evaluator. */
+#define MAX_FORCED 20
 /* A pole with |re| below this times its magnitude sits on the axis. */
 #define AXIS_TOL 1e-9
 /* Points per decade of the grid the walk starts from (margin_grid). */
@@ -28,13 +30,17 @@ static double complex one_plus_t(lgain *lg, double u)
 
 /* Adds to *delta the change of arg(1 + T) from u0 (where its value is *prev)
  * to u1, halving each step until the argument moves by less than STEP_RAD.
- * Returns 0 when a step could not be resolved. */
+ * Returns 1, 0 when a step could not be resolved, or -1 when more than
+ * MAX_FORCED steps could not be: T is noise there (the fast evaluation has
+ * lost its accuracy), not a closed-loop pole on the axis. */
 static int walk(lgain *lg, double u0, double u1, double complex *prev, double *delta)
 {
     double u = u0, h = u1 - u0;
     double complex a = *prev;
-    int resolved = 1;
+    int resolved = 1, forced = 0;
     while (u < u1) {
+        if (forced > MAX_FORCED)
+            return -1;
         double ub = fmin(u + h, u1);
         double complex b = one_plus_t(lg, ub);
         if (!isfinite(creal(b)) || !isfinite(cimag(b)) || b == 0) {
@@ -47,7 +53,10 @@ static int walk(lgain *lg, double u0, double u1, double complex *prev, double *d
             h = 0.5 * (ub - u);
             continue;
         }
-        resolved &= fabs(d) <= STEP_RAD;
+        if (fabs(d) > STEP_RAD) {
+            resolved = 0;
+            forced++;
+        }
         *delta += d;
         a = b;
         u = ub;
@@ -90,6 +99,39 @@ static int classify_poles(const lg_tf *tf, nyquist *nq, double *axis_u, int *nax
     return 0;
 }
 
+/* The change of arg(1 + T) over the positive frequencies, 0+ to +inf, on
+ * the grid u[n]; an axis pole (axis_u, rising) is passed on a small half
+ * circle to its right, where T ~ R/(s - jw0) turns by -180 degrees per
+ * order while |T| is huge. Returns as walk does. */
+static int positive_half(lgain *lg, const double *u, int n, const double *axis_u, int naxis,
+                         double *delta)
+{
+    double complex prev = one_plus_t(lg, u[0]);
+    int decided = isfinite(creal(prev)) && isfinite(cimag(prev)) && prev != 0, j = 0;
+    double cur = u[0];
+    while (j < naxis && axis_u[j] <= cur)
+        j++; /* below the band: beyond the walk's reach, and left as such */
+    for (int k = 1; k < n && decided > 0; k++) {
+        while (j < naxis && axis_u[j] <= u[k] && decided > 0) {
+            double up = axis_u[j], gap = 1e-7;
+            int w = walk(lg, cur, up - gap, &prev, delta);
+            decided = w < 0 ? w : decided && w;
+            while (j < naxis && axis_u[j] == up) {
+                *delta -= PI_;
+                j++;
+            }
+            cur = up + gap;
+            prev = one_plus_t(lg, cur);
+        }
+        if (u[k] > cur && decided > 0) {
+            int w = walk(lg, cur, u[k], &prev, delta);
+            decided = w < 0 ? w : decided && w;
+            cur = u[k];
+        }
+    }
+    return decided;
+}
+
 int nyquist_count(lgain *lg, const lg_tf *tf, double flo, double fhi, nyquist *nq,
                   lw_error *err)
 {
@@ -114,31 +156,16 @@ int nyquist_count(lgain *lg, const lg_tf *tf, double flo, double fhi, nyquist *n
         free(axis_u);
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
-    /* the positive frequencies, 0+ to +inf; an axis pole is passed on a
-     * small half circle to its right, where T ~ R/(s - jw0) turns by -180
-     * degrees per order while |T| is huge */
     double delta = 0;
-    double complex prev = one_plus_t(lg, u[0]);
-    int decided = isfinite(creal(prev)) && isfinite(cimag(prev)) && prev != 0, j = 0;
-    double cur = u[0];
-    while (j < naxis && axis_u[j] <= cur)
-        j++; /* below the band: beyond the walk's reach, and left as such */
-    for (int k = 1; k < n && decided; k++) {
-        while (j < naxis && axis_u[j] <= u[k]) {
-            double up = axis_u[j], gap = 1e-7;
-            decided &= walk(lg, cur, up - gap, &prev, &delta);
-            while (j < naxis && axis_u[j] == up) {
-                delta -= PI_;
-                j++;
-            }
-            cur = up + gap;
-            prev = one_plus_t(lg, cur);
-        }
-        if (u[k] > cur) {
-            decided &= walk(lg, cur, u[k], &prev, &delta);
-            cur = u[k];
-        }
+    int decided = positive_half(lg, u, n, axis_u, naxis, &delta);
+    if (decided < 0 && !lgain_uses_full(lg)) {
+        /* the fast evaluation is noise somewhere on the way: again on the
+         * LU of the whole network */
+        lgain_use_full(lg, 1);
+        delta = 0;
+        decided = positive_half(lg, u, n, axis_u, naxis, &delta);
     }
+    decided = decided > 0;
     free(u);
     free(axis_u);
     /* the negative frequencies mirror the positive ones (T(-jw) is the

@@ -234,6 +234,69 @@ static void test_conditionally_stable(void **state)
     assert_int_equal(changes, 3);
 }
 
+/* Three integrators in a chain (a Jordan block: the eigenvalue iteration
+ * spreads the triple pole at the origin over eps^(1/3) of the largest
+ * pole), two of them with a series R-C to ground, and two RC poles:
+ *   T = K (1 + s/z)^2 / (s^3 (1 + s/p)^2).
+ * The origin order must come out as -3 with three poles at exactly 0, the
+ * crossover and phase margin must match the closed form (|T| = 1 solved
+ * here by bisection on the formula; phase -270 + 2 atan(w/z) - 2 atan(w/p)),
+ * and the count must match Routh's array on s^3 (1 + s/p)^2 + K (1 + s/z)^2. */
+static void test_three_integrators(void **state)
+{
+    (void)state;
+    const double Rz = 100e3, Cz = 10e-12, C3 = 10e-12, Rp = 1e3, Cp = 100e-12, g = 1e-3;
+    const double z = 1 / (Rz * Cz), p = 1 / (Rp * Cp);
+    const double K = g * g * g * g * g * Rp * Rp / (Cz * Cz * C3);
+    run x;
+    analyse(&x,
+            "node x1 r=inf\n"
+            "node k1 r=inf c=%.17g\n"
+            "node x2 r=inf\n"
+            "node k2 r=inf c=%.17g\n"
+            "node x3 r=inf c=%.17g\n"
+            "node o1 r=%.17g c=%.17g\n"
+            "node o2 r=%.17g c=%.17g\n"
+            "res s1 x1 k1 %.17g\n"
+            "res s2 x2 k2 %.17g\n"
+            "gm g1 o2 -> x1 %.17g\n"
+            "gm g2 x1 -> x2 %.17g\n"
+            "gm g3 x2 -> x3 %.17g\n"
+            "gm g4 x3 -> o1 %.17g\n"
+            "gm g5 o1 -> o2 %.17g\n"
+            "loop main negative x1 x2 x3 o1 o2\n",
+            Cz, Cz, C3, Rp, Cp, Rp, Cp, Rz, Rz, -g, g, g, g, g);
+    assert_int_equal(x.r.tf.origin, -3);
+    int at0 = 0;
+    for (int k = 0; k < x.r.tf.npoles; k++)
+        at0 += x.r.tf.poles[k] == 0;
+    assert_int_equal(at0, 3);
+    double lo = z, hi = 1e3 * p;
+    for (int it = 0; it < 200; it++) {
+        double w = sqrt(lo * hi);
+        double mag = K * (1 + w * w / (z * z)) / (w * w * w * (1 + w * w / (p * p)));
+        if (mag > 1)
+            lo = w;
+        else
+            hi = w;
+    }
+    double wc = sqrt(lo * hi);
+    double pm = 180.0 - 270.0 + 2 * atan(wc / z) * DEG_ - 2 * atan(wc / p) * DEG_;
+    assert_int_equal(x.r.mg.ncross, 1);
+    assert_rel(x.r.mg.cross[0].hz, wc / (2 * PI_), 1e-8);
+    assert_rel(x.r.mg.cross[0].value, pm, 1e-6);
+    /* in units of z: s^3 (1 + s/P)^2 + K' (1 + s)^2, K' = K / z^3, times P^2 */
+    double P = p / z, Kn = K / (z * z * z);
+    double a[6] = { 1, 2 * P, P * P, P * P * Kn, 2 * P * P * Kn, P * P * Kn };
+    nyquist q = count_of(&x);
+    int want = routh_rhp(a, 5);
+    assert_int_equal(want, 2);
+    assert_int_equal(q.encirclements, want);
+    assert_int_equal(q.closed_loop_rhp, want);
+    assert_int_equal(rhp_poles(&x), want);
+    release(&x);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -241,6 +304,7 @@ int main(void)
         cmocka_unit_test(test_rhp_pole_held_by_gain),
         cmocka_unit_test(test_integrator_indentation),
         cmocka_unit_test(test_conditionally_stable),
+        cmocka_unit_test(test_three_integrators),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
