@@ -251,12 +251,12 @@ int cmd_load(const options *o, desc *d, int *code, lw_error *err)
     return rc;
 }
 
-int cmd_polemap(const options *o, const desc *d, const check_result *r, lw_error *err)
+int cmd_roots(const options *o, const desc *d, const check_result *r, lw_error *err)
 {
     figure_opts fo = fig(o);
-    int rc = figure_polemap(&fo, d, r, err);
+    int rc = figure_roots(&fo, d, r, err);
     if (!rc)
-        printf("loopwise polemap: %s: %d open-loop poles, %d zeros, %d closed-loop poles drawn "
+        printf("loopwise roots: %s: %d open-loop poles, %d zeros, %d closed-loop poles drawn "
                "in %s\n", d->path, r->tf.npoles, r->tf.nzeros, r->ncl, o->plot);
     return rc;
 }

@@ -188,7 +188,7 @@ static void slog_tics(FILE *s, const char *axis, double maxabs)
     fputs(")\n", s);
 }
 
-int figure_polemap(const figure_opts *fo, const desc *d, const check_result *r, lw_error *err)
+int figure_roots(const figure_opts *fo, const desc *d, const check_result *r, lw_error *err)
 {
     plot_job *job;
     int rc = plot_begin(fo->path, fo->width, fo->height, &job, err);

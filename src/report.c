@@ -1,4 +1,4 @@
-/* report: the text report of 'check' and the tables of 'bode'. */
+/* report: the text report of 'check' and the tables of 'gain'. */
 #include "loopwise/report.h"
 
 #include <math.h>
@@ -287,14 +287,14 @@ void report_check_text(FILE *f, const desc *d, const model *m, const check_resul
     verdict(f, r, t);
 }
 
-int report_bode(FILE *f, const desc *d, const check_result *r, int npoints, bode_format fmt)
+int report_gain(FILE *f, const desc *d, const check_result *r, int npoints, gain_format fmt)
 {
     double lo = log10(r->mg.fmin_hz), hi = log10(r->mg.fmax_hz);
     char a[32];
-    if (fmt == BODE_TEXT)
-        fprintf(f, "loopwise bode: %s\n  %-14s %12s %12s\n", d->path, "frequency", "|T| (dB)",
+    if (fmt == GAIN_TEXT)
+        fprintf(f, "loopwise gain: %s\n  %-14s %12s %12s\n", d->path, "frequency", "|T| (dB)",
                 "phase (\xC2\xB0)");
-    else if (fmt == BODE_CSV)
+    else if (fmt == GAIN_CSV)
         fputs("freq_hz,mag_db,phase_deg\n", f);
     else
         fputs("{\"points\": [", f);
@@ -302,9 +302,9 @@ int report_bode(FILE *f, const desc *d, const check_result *r, int npoints, bode
         double hz = pow(10.0, npoints > 1 ? lo + (hi - lo) * k / (npoints - 1) : lo), mag;
         double ph = margin_phase(r->lg, &r->tf, hz, &mag, NULL);
         double db = 20.0 * log10(mag);
-        if (fmt == BODE_TEXT)
+        if (fmt == GAIN_TEXT)
             fprintf(f, "  %-14s %12.3f %12.3f\n", si_format(hz, "Hz", a, sizeof a), db, ph);
-        else if (fmt == BODE_CSV)
+        else if (fmt == GAIN_CSV)
             fprintf(f, "%.17g,%.17g,%.17g\n", hz, isfinite(db) ? db : -HUGE_VAL, ph);
         else {
             fprintf(f, "%s\n  {\"hz\": ", k ? "," : "");
@@ -316,7 +316,7 @@ int report_bode(FILE *f, const desc *d, const check_result *r, int npoints, bode
             fputc('}', f);
         }
     }
-    if (fmt == BODE_JSON)
+    if (fmt == GAIN_JSON)
         fputs("]}\n", f);
     return LW_OK;
 }

@@ -6,7 +6,7 @@
 
 #include "loopwise/check.h"
 
-enum { MAX_SETS = 256, MAX_BODE_POINTS = 100000 };
+enum { MAX_SETS = 256, MAX_GAIN_POINTS = 100000 };
 
 typedef struct options {
     const char *command, *file, *csv;
@@ -28,7 +28,7 @@ typedef struct options {
 int option_number(const char *name, const char *text, expr_unit unit, double *v);
 
 /* Draws fig after the text output; a failed plot turns *code into 3. */
-int cmd_polemap(const options *o, const desc *d, const check_result *r, lw_error *err);
+int cmd_roots(const options *o, const desc *d, const check_result *r, lw_error *err);
 int cmd_corners(const options *o, desc *d, int *code, lw_error *err);
 int cmd_montecarlo(const options *o, const desc *d, const text_file *t, int *code,
                    lw_error *err);

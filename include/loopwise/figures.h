@@ -16,7 +16,7 @@ typedef struct figure_opts {
 /* each: overlay every declared loop's own gain (needs check_opts.keep_loops). */
 int figure_bode(const figure_opts *fo, const desc *d, const model *m, const check_result *r,
                 int each, lw_error *err);
-int figure_polemap(const figure_opts *fo, const desc *d, const check_result *r, lw_error *err);
+int figure_roots(const figure_opts *fo, const desc *d, const check_result *r, lw_error *err);
 /* Phase margin and crossover against the varied value (sweep and load). */
 int figure_margin(const figure_opts *fo, const desc *d, const char *what, const char *unit,
                   const sweep_result *s, design_goal g, int lin, lw_error *err);

@@ -1,5 +1,5 @@
 /* report: the outputs people and scripts read: the text report and JSON of
- * 'check', and the frequency-response table, CSV and JSON of 'bode'. */
+ * 'check', and the frequency-response table, CSV and JSON of 'gain'. */
 #ifndef LOOPWISE_REPORT_H
 #define LOOPWISE_REPORT_H
 
@@ -20,9 +20,9 @@ void report_check_text(FILE *f, const desc *d, const model *m, const check_resul
                        report_target t);
 void report_check_json(FILE *f, const desc *d, const model *m, const check_result *r);
 
-typedef enum { BODE_TEXT, BODE_CSV, BODE_JSON } bode_format;
+typedef enum { GAIN_TEXT, GAIN_CSV, GAIN_JSON } gain_format;
 /* npoints log-spaced over the analysis band. */
-int report_bode(FILE *f, const desc *d, const check_result *r, int npoints, bode_format fmt);
+int report_gain(FILE *f, const desc *d, const check_result *r, int npoints, gain_format fmt);
 
 /* JSON helpers shared by the commands: a double as %.17g, or null when not finite. */
 void json_number(FILE *f, double v);
