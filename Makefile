@@ -75,6 +75,7 @@ golden: $(LW_BIN)
 	@sh tests/golden/run.sh ./$(LW_BIN)
 	@sh tests/golden/variation.sh ./$(LW_BIN)
 	@sh tests/golden/large.sh ./$(LW_BIN)
+	@sh tests/golden/rules.sh ./$(LW_BIN)
 
 reference: loopwise
 	@$(PYTHON) tests/ref/numpy_ref.py --selftest

@@ -92,8 +92,7 @@ static check_opts design_opts(const options *o)
 
 static design_goal goal(const options *o)
 {
-    design_goal g = { o->pm, o->gm_given ? o->gm : NAN };
-    return g;
+    return option_goal(o);
 }
 
 /* density -> VALUE '/um2'   (capacitance per square micrometre) */
@@ -198,7 +197,7 @@ int cmd_sweep(const options *o, desc *d, int *code, lw_error *err)
     }
     if (!o->csv || strcmp(o->csv, "-"))
         report_sweep(stdout, d, o->vary, t, &r, goal(o), o->json ? OUT_JSON : OUT_TEXT);
-    *code = o->pm_given && r.missed ? 1 : 0;
+    *code = r.failed ? 1 : 0;
     if (o->plot) {
         figure_opts fo = fig(o);
         fflush(stdout);
@@ -236,7 +235,7 @@ int cmd_load(const options *o, desc *d, int *code, lw_error *err)
     if ((rc = load_run(d, node, lo, hi, o->points ? o->points : 25, goal(o), &co, &r, err)))
         return rc;
     report_load(stdout, d, &r, lo, hi, goal(o), o->json ? OUT_JSON : OUT_TEXT);
-    *code = o->pm_given && !r.met ? 1 : 0;
+    *code = r.failed ? 1 : 0;
     if (o->plot && r.inside) {
         figure_opts fo = fig(o);
         char what[DESC_MAX_NAME + 16];

@@ -2,6 +2,7 @@
 #include "loopwise/figures.h"
 
 #include <math.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "loopwise/units.h"
@@ -302,9 +303,17 @@ int figure_margin(const figure_opts *fo, const desc *d, const char *what, const 
 
 /* ---- Monte Carlo histogram ------------------------------------------------- */
 
-int figure_histogram(const figure_opts *fo, const desc *d, const double *pm, int n,
-                     design_goal g, lw_error *err)
+int figure_histogram(const figure_opts *fo, const desc *d, const mc_result *mc,
+                     design_goal g, double yield_target, lw_error *err)
 {
+    (void)yield_target;
+    double *pm = malloc(sizeof(double) * (size_t)(mc->nsamples + 1));
+    if (!pm)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    int n = 0;
+    for (int i = 0; i < mc->nsamples; i++)
+        if (mc->valid[i] && !isnan(mc->pts[i].pm_deg))
+            pm[n++] = mc->pts[i].pm_deg;
     plot_job *job;
     int rc = plot_begin(fo->path, fo->width, fo->height, &job, err);
     if (rc)

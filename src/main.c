@@ -36,24 +36,31 @@ static const char usage_text[] =
     "\n"
     "options:\n"
     "  --set NAME=EXPR   override a param, an element value, or NODE.r / NODE.c (repeatable)\n"
-    "  --pm DEG          target phase margin (default 60; when given, a miss exits with 1)\n"
+    "  --pm DEG          target phase margin; without it, 60 is the reference the text\n"
+    "                    measures against, never a reason to exit 1\n"
     "  --fmin F, --fmax F  analysis band in Hz (default: from the poles and zeros)\n"
     "  --json            machine-readable output on standard output\n"
     "  --csv PATH        gain, sweep: also write CSV to PATH (PATH may be -)\n"
     "  --points N        gain: frequencies (default 121); sweep: values (default 25)\n"
     "  --lin             sweep: linear spacing instead of logarithmic\n"
     "  --within LO..HI   size: the range searched (default: value/100 .. value*100)\n"
-    "  --gm DB           size: also require this gain margin\n"
+    "  --gm DB           target gain margin (every command; a loop whose phase never\n"
+    "                    reaches -180 has an unbounded gain margin and meets it)\n"
+    "  --yield P         montecarlo: the one-sided 95% lower bound of the yield must\n"
+    "                    reach P (0.99 or 99%)\n"
     "  --density D       size: capacitance per area, e.g. 2fF/um2, to report the area\n"
-    "  -o PATH           gain, roots, sweep, load, montecarlo: draw a picture (PATH ends in .png or .svg)\n"
+    "  -o PATH           gain, roots, sweep, load, montecarlo: draw a picture\n"
+    "                    (PATH ends in .png or .svg)\n"
     "  --each            gain -o: overlay each declared loop's own gain\n"
     "  --size WxH        plot size in pixels (default 960x720)\n"
     "  --keep-script DIR leave the plot's data and gnuplot script in DIR\n"
     "  -h, --help        this help;  --version  the version\n"
     "\n"
     "Numbers take SI prefixes and units as in the file: 2.2pF, 180k, 1e3k, 40uS.\n"
-    "Exit codes: 0 done and targets met, 1 target missed or unstable, 2 bad input,\n"
-    "3 numerical failure.\n";
+    "Exit codes: 0 done, every target given met; 1 a target given (--pm, --gm,\n"
+    "--yield) is missed or the loop is unstable where the command looked (size: no\n"
+    "value meets the target; montecarlo: only --yield counts); 2 bad usage or input,\n"
+    "nothing computed; 3 numerical failure, or gnuplot missing.\n";
 
 
 
@@ -84,6 +91,12 @@ int option_number(const char *name, const char *text, expr_unit unit, double *v)
     return 0;
 }
 
+design_goal option_goal(const options *o)
+{
+    design_goal g = { o->pm, o->gm_given ? o->gm : NAN, o->pm_given };
+    return g;
+}
+
 static int parse_options(int argc, char **argv, options *o)
 {
     for (int k = 1; k < argc; k++) {
@@ -91,7 +104,7 @@ static int parse_options(int argc, char **argv, options *o)
         const char *val = k + 1 < argc ? argv[k + 1] : NULL;
         static const char *const with_value[] = { "--set", "--pm", "--fmin", "--fmax", "--csv",
             "--points", "--tune", "--within", "--vary", "--from", "--to", "--node", "--cload",
-            "--density", "--gm", "-o", "--size", "--keep-script", "--samples", "--seed" };
+            "--density", "--gm", "-o", "--size", "--keep-script", "--samples", "--seed", "--yield" };
         int takes = 0;
         for (size_t j = 0; j < sizeof with_value / sizeof *with_value; j++)
             takes |= !strcmp(a, with_value[j]);
@@ -163,6 +176,24 @@ static int parse_options(int argc, char **argv, options *o)
                 o->seed = (unsigned long long)v;
                 o->seed_given = 1;
             }
+        } else if (!strcmp(a, "--yield")) {
+            /* a fraction (0.99) or a percentage (99%) */
+            char num[64];
+            size_t l = strlen(val);
+            int pct = l > 0 && val[l - 1] == '%';
+            double v;
+            if (l - (size_t)pct >= sizeof num)
+                return usage_error("--yield '%s': too long", val);
+            memcpy(num, val, l - (size_t)pct);
+            num[l - (size_t)pct] = '\0';
+            if (option_number(a, num, UNIT_NONE, &v))
+                return 2;
+            v = pct ? v / 100.0 : v;
+            if (!(v > 0 && v < 1))
+                return usage_error("--yield takes a fraction between 0 and 1 (0.99) or a "
+                                   "percentage below 100%% (99%%), got '%s'", val);
+            o->yield = v;
+            o->yield_given = 1;
         } else if (!strcmp(a, "--each")) {
             o->each = 1;
         } else if (!strcmp(a, "--lin")) {
@@ -206,6 +237,8 @@ static int parse_options(int argc, char **argv, options *o)
                     !strcmp(o->command, "corners")))
         return usage_error("-o draws a picture with gain, roots, sweep, load or montecarlo, "
                            "not '%s'", o->command);
+    if (o->yield_given && strcmp(o->command, "montecarlo"))
+        return usage_error("--yield goes with 'montecarlo', not '%s'", o->command);
     if (!strcmp(o->command, "montecarlo") && o->samples < 1)
         return usage_error("%s", "montecarlo needs --samples N (1 or more) and --seed S");
     if (o->plot) {
@@ -324,7 +357,7 @@ int main(int argc, char **argv)
         goto done;
     }
     check_warn_gm_cycles(d, stderr);
-    report_target tg = { o.pm, o.pm_given };
+    report_target tg = { o.pm, o.pm_given, o.gm, o.gm_given };
     if (design) {
         /* output written by the command */
     } else if (!strcmp(o.command, "check")) {
@@ -335,9 +368,13 @@ int main(int argc, char **argv)
         code = report_check_status(&r, tg);
     } else if (!strcmp(o.command, "roots")) {
         rc = cmd_roots(&o, d, &r, &err);
-    } else if (!(rc = run_gain(&o, d, &r, &err)) && o.plot) {
-        figure_opts fo = { o.plot, o.width, o.height, o.keep_script };
-        rc = figure_bode(&fo, d, m, &r, o.each, &err);
+        code = report_check_status(&r, tg);
+    } else {
+        if (!(rc = run_gain(&o, d, &r, &err)) && o.plot) {
+            figure_opts fo = { o.plot, o.width, o.height, o.keep_script };
+            rc = figure_bode(&fo, d, m, &r, o.each, &err);
+        }
+        code = report_check_status(&r, tg);
     }
     if (rc) {
         lw_error_print(&err, o.file, stderr);

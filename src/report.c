@@ -20,6 +20,8 @@ int report_check_status(const check_result *r, report_target t)
         return 1;
     if (t.given && (r->mg.best_cross < 0 || r->mg.cross[r->mg.best_cross].value < t.pm_deg))
         return 1;
+    if (t.gm_given && r->mg.best_phase >= 0 && r->mg.phase[r->mg.best_phase].value < t.gm_db)
+        return 1;
     return 0;
 }
 
@@ -218,6 +220,7 @@ static void verdict(FILE *f, const check_result *r, report_target t)
 {
     const margins *mg = &r->mg;
     double pm = mg->best_cross >= 0 ? mg->cross[mg->best_cross].value : NAN;
+    const char *word = t.given ? "target" : "reference";
     int rhp = 0;
     for (int k = 0; k < r->ncl; k++)
         rhp += creal(r->cl[k]) > 0;
@@ -229,13 +232,20 @@ static void verdict(FILE *f, const check_result *r, report_target t)
                 rhp == 1 ? "" : "s");
     else if (isnan(pm))
         fprintf(f, "Verdict: stable; no crossover, so no phase margin to compare with the "
-                "%.4g\xC2\xB0 target.\n", t.pm_deg);
+                "%.4g\xC2\xB0 %s.\n", t.pm_deg, word);
     else if (pm >= t.pm_deg)
-        fprintf(f, "Verdict: stable; phase margin %.1f\xC2\xB0 meets the %.4g\xC2\xB0 target.\n",
-                pm, t.pm_deg);
+        fprintf(f, "Verdict: stable; phase margin %.1f\xC2\xB0 meets the %.4g\xC2\xB0 %s.\n",
+                pm, t.pm_deg, word);
     else
         fprintf(f, "Verdict: stable, but the phase margin %.1f\xC2\xB0 is below the %.4g\xC2\xB0 "
-                "target.\n", pm, t.pm_deg);
+                "%s%s.\n", pm, t.pm_deg, word, t.given ? "" : " (give --pm to make it a target)");
+    if (t.gm_given && mg->best_phase < 0)
+        fprintf(f, "Gain margin target %.4g dB: met; the gain margin is unbounded (the phase "
+                "never reaches -180\xC2\xB0).\n", t.gm_db);
+    else if (t.gm_given)
+        fprintf(f, "Gain margin target %.4g dB: %s; the gain margin is %.2f dB.\n", t.gm_db,
+                mg->phase[mg->best_phase].value >= t.gm_db ? "met" : "MISSED",
+                mg->phase[mg->best_phase].value);
     if (r->stable && !isnan(pm) && pm < 0)
         fprintf(f, "Note: the closed loop is stable although the phase margin is negative: "
                 "the loop is conditionally stable; check the margin over gain changes.\n");

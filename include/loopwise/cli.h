@@ -4,7 +4,7 @@
 #ifndef LOOPWISE_CLI_H
 #define LOOPWISE_CLI_H
 
-#include "loopwise/check.h"
+#include "loopwise/design.h"
 
 enum { MAX_SETS = 256, MAX_GAIN_POINTS = 100000 };
 
@@ -21,11 +21,16 @@ typedef struct options {
     int nsets, json, points;
     double pm, fmin, fmax;
     int pm_given;
+    double yield;                     /* montecarlo --yield, as a fraction */
+    int yield_given;
 } options;
 
 /* Evaluates a numeric option with the file's number syntax; prints the
  * error and returns 2 when it is not a finite number. */
 int option_number(const char *name, const char *text, expr_unit unit, double *v);
+/* The margin goal of the command line: --pm (or the default 60 degrees as a
+ * reference), --gm when given. */
+design_goal option_goal(const options *o);
 
 /* Draws fig after the text output; a failed plot turns *code into 3. */
 int cmd_roots(const options *o, const desc *d, const check_result *r, lw_error *err);

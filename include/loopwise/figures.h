@@ -6,6 +6,7 @@
 
 #include "loopwise/design.h"
 #include "loopwise/plot.h"
+#include "loopwise/variation.h"
 
 typedef struct figure_opts {
     const char *path;        /* .png or .svg */
@@ -21,8 +22,10 @@ int figure_roots(const figure_opts *fo, const desc *d, const check_result *r, lw
 int figure_margin(const figure_opts *fo, const desc *d, const char *what, const char *unit,
                   const sweep_result *s, design_goal g, int lin, lw_error *err);
 
-/* Histogram of the phase margin over Monte Carlo samples, with the target. */
-int figure_histogram(const figure_opts *fo, const desc *d, const double *pm, int n,
-                     design_goal g, lw_error *err);
+/* Histogram of the phase margin over Monte Carlo samples, with the goal,
+ * the yield and the operating point (the --set values); yield_target is
+ * --yield as a fraction, or NAN. */
+int figure_histogram(const figure_opts *fo, const desc *d, const mc_result *mc,
+                     design_goal g, double yield_target, lw_error *err);
 
 #endif

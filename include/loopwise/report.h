@@ -8,12 +8,16 @@
 #include "loopwise/check.h"
 
 typedef struct report_target {
-    double pm_deg;     /* target phase margin */
+    double pm_deg;     /* target phase margin, or the default 60 as a reference */
     int given;         /* 1 when --pm was on the command line */
+    double gm_db;      /* target gain margin when gm_given */
+    int gm_given;      /* 1 when --gm was on the command line */
 } report_target;
 
-/* Exit status of 'check' (SPEC section 5): 1 when unstable, or when --pm is
- * given and missed or there is no margin to compare with it. */
+/* Exit status of 'check', 'gain' and 'roots' (SPEC section 5): 1 when the
+ * loop is unstable, when --pm is given and missed or there is no margin to
+ * compare with it, or when --gm is given and missed (a gain margin that is
+ * unbounded, the phase never reaching -180 + 360 m, meets any --gm). */
 int report_check_status(const check_result *r, report_target t);
 
 void report_check_text(FILE *f, const desc *d, const model *m, const check_result *r,

@@ -101,14 +101,16 @@ refuse "expected capacitance per area" size $R --tune ccomp --density 2fF
 "$LW" size $R --tune ccomp --pm 60 >/dev/null 2>&1; [ $? = 0 ] && ok || bad "size: reachable target must exit 0"
 "$LW" size $R --tune ccomp --pm 89 --within 1p..10p >/dev/null 2>&1; [ $? = 1 ] && ok || bad "size: unreachable target must exit 1"
 "$LW" sweep $R --vary rser --from 540 --to 54k --pm 60 >/dev/null 2>&1; [ $? = 1 ] && ok || bad "sweep: missed --pm must exit 1"
-"$LW" sweep $R --vary rser --from 540 --to 54k --csv "$tmp/s.csv" --json >"$tmp/s.json" 2>/dev/null &&
-    [ "$(wc -l <"$tmp/s.csv")" = 26 ] && $PY -c "import json,sys; d=json.load(open(sys.argv[1])); assert len(d['points'])==25 and d['crossings'][0]['direction']=='falls'" "$tmp/s.json" &&
+# (the points from about 25k on are unstable: exit 1 by SPEC section 5)
+"$LW" sweep $R --vary rser --from 540 --to 54k --csv "$tmp/s.csv" --json >"$tmp/s.json" 2>/dev/null
+[ $? = 1 ] && [ "$(wc -l <"$tmp/s.csv")" = 26 ] && $PY -c "import json,sys; d=json.load(open(sys.argv[1])); assert len(d['points'])==25 and d['crossings'][0]['direction']=='falls'" "$tmp/s.json" &&
     ok || bad "sweep CSV and JSON"
 "$LW" load $R --node vref --cload 1p..1n --json >"$tmp/l.json" 2>/dev/null &&
     $PY - "$tmp/l.json" <<'PYEOF' && ok || bad "load outside the loop: settling"
 import json, math, sys
 d = json.load(open(sys.argv[1]))
-assert d["inside_loop"] is False and d["met"] is True
+# met: the loop's own margin, the same at every load, against the reference
+assert d["inside_loop"] is False and d["met"] is False
 # first-order settling t = R C ln(1/error) (from memory); the tap is r=120k, c=1p
 for p in d["settling"]:
     tau = 120e3 * (1e-12 + p["load_f"])
