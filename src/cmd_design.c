@@ -243,8 +243,9 @@ int cmd_load(const options *o, desc *d, int *code, lw_error *err)
         fflush(stdout);
         rc = figure_margin(&fo, d, what, "F", &r.sw, goal(o), 0, err);
     } else if (o->plot) {
-        fprintf(stderr, "loopwise: node '%s' is outside the loop: no margin curve to draw\n",
-                d->nodes[node].name);
+        figure_opts fo = fig(o);
+        fflush(stdout);
+        rc = figure_load_outside(&fo, d, &r, lo, hi, goal(o), err);
     }
     load_result_free(&r);
     return rc;

@@ -292,8 +292,8 @@ static void mc_text(FILE *f, const options *o, const desc *d, const mc_result *r
     }
 }
 
-int cmd_montecarlo(const options *o, const desc *d, const text_file *t, int *code,
-                   lw_error *err)
+int cmd_montecarlo(const options *o, const desc *d, const text_file *t,
+                   const check_result *nominal, int *code, lw_error *err)
 {
     if (o->samples <= 0)
         return lw_error_set(err, LW_EINPUT, "montecarlo needs --samples N with N of 1 or more");
@@ -349,7 +349,8 @@ int cmd_montecarlo(const options *o, const desc *d, const text_file *t, int *cod
     if (o->plot) {
         figure_opts fo = { o->plot, o->width, o->height, o->keep_script };
         fflush(stdout);
-        rc = figure_histogram(&fo, d, &r, g, o->yield_given ? o->yield : NAN, err);
+        rc = figure_histogram(&fo, d, &r, nominal, o->sets, o->nsets, g,
+                              o->yield_given ? o->yield : NAN, err);
     }
     free(again);
     mc_result_free(&r);

@@ -343,7 +343,7 @@ int main(int argc, char **argv)
              : !strcmp(o.command, "sweep") ? cmd_sweep(&o, d, &code, &err)
              : !strcmp(o.command, "load") ? cmd_load(&o, d, &code, &err)
              : !strcmp(o.command, "corners") ? cmd_corners(&o, d, &code, &err)
-                                             : cmd_montecarlo(&o, d, t, &code, &err);
+                                             : cmd_montecarlo(&o, d, t, &r, &code, &err);
         if (rc == LW_ENUMERIC && err.msg[0] && o.plot) {
             /* the analysis printed; only the picture failed */
             lw_error_print(&err, o.file, stderr);

@@ -35,8 +35,10 @@ design_goal option_goal(const options *o);
 /* Draws fig after the text output; a failed plot turns *code into 3. */
 int cmd_roots(const options *o, const desc *d, const check_result *r, lw_error *err);
 int cmd_corners(const options *o, desc *d, int *code, lw_error *err);
-int cmd_montecarlo(const options *o, const desc *d, const text_file *t, int *code,
-                   lw_error *err);
+/* nominal: the analysis with the --set values and no spread (the operating
+ * point the histogram marks). */
+int cmd_montecarlo(const options *o, const desc *d, const text_file *t,
+                   const check_result *nominal, int *code, lw_error *err);
 int cmd_size(const options *o, desc *d, int *code, lw_error *err);
 int cmd_sweep(const options *o, desc *d, int *code, lw_error *err);
 int cmd_load(const options *o, desc *d, int *code, lw_error *err);

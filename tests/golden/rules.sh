@@ -143,6 +143,60 @@ PYEOF
 grep -q "matched copy of 'g_srcb' outside the loop, as 'g_srco' already does for 'vref'" "$tmp/o" &&
     ok || bad "load: the remedy for a mirrored branch"
 
+rm -f "$tmp/out.png"
+exits 0 "load -o on a node outside the loop" load $R --node vref --cload 1p..1n -o "$tmp/out.png" --pm 30
+[ -s "$tmp/out.png" ] && ok || bad "load -o outside the loop wrote no picture"
+
+# ---- the pictures (their gnuplot scripts, kept with --keep-script) ----------
+# gain: the margins are drawn as measured distances and said in words, with
+# the values of ring3.loop's closed forms (35.4 deg, 7.50 dB); no dotted
+# vertical line marks the crossover.
+"$LW" gain $RING -o "$tmp/g.png" --keep-script "$tmp/kg" >/dev/null 2>&1
+grep -q 'phase margin 35.4' "$tmp/kg/plot.gp" && grep -q 'gain margin 7.5 dB' "$tmp/kg/plot.gp" &&
+    [ "$(grep -c 'heads size' "$tmp/kg/plot.gp")" = 2 ] &&
+    ! grep -q 'set arrow from [-0-9.e+]*, graph 0 to' "$tmp/kg/plot.gp" &&
+    ok || bad "gain picture: margins as measured distances in words"
+# one symbol per meaning: the Miller zero of twostage.loop, gm2/(2 pi Cc) =
+# 1.8m/(2 pi 1.2p) = 238.7 MHz in the right half-plane (closed form, from
+# memory), is the right-half-plane symbol in both pictures.
+"$LW" gain cases/twostage.loop -o "$tmp/g2.png" --keep-script "$tmp/kz" >/dev/null 2>&1
+"$LW" roots cases/twostage.loop -o "$tmp/r2.png" --keep-script "$tmp/kr" >/dev/null 2>&1
+$PY - "$tmp/kz" "$tmp/kr" <<'PYEOF' && ok || bad "a right-half-plane zero has one symbol everywhere"
+import math, re, sys
+strip = [l.split() for l in open(sys.argv[1] + "/strip.dat") if not l.startswith("#")]
+rhp = [float(r[0]) for r in strip if r[2] == "2"]
+assert len(rhp) == 1 and abs(rhp[0] - 1.8e-3 / (2 * math.pi * 1.2e-12)) < 1e-6 * rhp[0], rhp
+roots = [l.split() for l in open(sys.argv[2] + "/roots.dat") if not l.startswith("#")]
+assert sum(r[2] == "2" for r in roots) == 1 and not any(r[2] == "1" for r in roots), roots
+for d in sys.argv[1:]:
+    gp = open(d + "/plot.gp").read()
+    # the right-half-plane zeros (kind 2) are drawn with point type 8, and only they
+    assert re.search(r"\$3==2 \? \$2 : 1/0\) with points pt 8 ", gp), d
+    assert gp.count("pt 8 ") == gp.count("$3==2") + ("1/0 with points pt 8" in gp), d
+PYEOF
+# sweep: the goal line inside the frame, unstable points shaded, the
+# smallest margin marked, more than three tick labels over two decades.
+"$LW" sweep $R --vary rser --from 540 --to 54k -o "$tmp/s.png" --keep-script "$tmp/ks" >/dev/null 2>&1
+"$LW" load $R --node brb --cload 0.1p..10p -o "$tmp/l.png" --keep-script "$tmp/kl" >/dev/null 2>&1
+$PY - "$tmp/ks/plot.gp" "$tmp/kl/plot.gp" <<'PYEOF' && ok || bad "margin pictures"
+import re, sys
+for p in sys.argv[1:]:
+    gp = open(p).read()
+    lo, hi = map(float, re.search(r"set yrange \[([-0-9.e]+):([-0-9.e]+)\]", gp).groups())
+    assert lo + 5 <= 60 <= hi - 5, (p, lo, hi)         # the 60-degree line clear of the frame
+    assert "set object rect" in gp and "title 'unstable'" in gp, p
+    assert "smallest margin" in gp and "pt 12" in gp, p
+    tics = re.search(r"set xtics \((.*)\)", gp).group(1)
+    assert tics.count("'") // 2 >= 5, (p, tics)
+sweep = open(sys.argv[1]).read()
+assert "falls through 60" in sweep and "offset 1,1.3" in sweep  # above the line, right of the mark
+PYEOF
+# montecarlo: the operating point (the --set values) and the yield on the picture
+"$LW" montecarlo $R --samples 300 --seed 1 --set ccomp=25p --pm 55 --yield 90% -o "$tmp/h.png" --keep-script "$tmp/kh" >/dev/null 2>&1
+grep -q "operating point 6[0-9.]*" "$tmp/kh/plot.gp" && grep -q -- "--set ccomp=25p" "$tmp/kh/plot.gp" &&
+    grep -q "yield 100.00%: 300 of 300 samples pass" "$tmp/kh/plot.gp" &&
+    grep -q "yield target 90%: met" "$tmp/kh/plot.gp" && ok || bad "montecarlo picture: operating point and yield"
+
 # ---- fault 8: a param's unit comes from the fields it feeds ------------------
 "$LW" size $G/nulling.loop --tune cm >"$tmp/o" 2>/dev/null
 grep -q "answer          cm = [0-9.]* [fpn]F$" "$tmp/o" && ok || bad "size: a param feeding a cap prints in F: $(grep answer "$tmp/o")"
