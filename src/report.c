@@ -132,10 +132,11 @@ static void section_gain(FILE *f, const desc *d, const model *m, const check_res
                 si_format(mg->cross[k].hz, "Hz", a, sizeof a), mg->cross[k].value,
                 mg->ncross > 1 && k == mg->best_cross ? "  (smallest)" : "");
     if (mg->nphase == 0)
-        fprintf(f, "  gain margin     undefined: the phase never reaches -180\xC2\xB0 (mod 360\xC2\xB0) "
+        fprintf(f, "  gain margin     unbounded: the phase never reaches -180\xC2\xB0 (mod 360\xC2\xB0) "
                 "in the band\n");
     else
-        fprintf(f, "  gain margin     %.2f dB at %s\n", mg->phase[mg->best_phase].value,
+        fprintf(f, "  gain margin     %.2f dB, where the phase reaches -180\xC2\xB0 (%s)\n",
+                mg->phase[mg->best_phase].value,
                 si_format(mg->phase[mg->best_phase].hz, "Hz", a, sizeof a));
     fprintf(f, "  band            %s to %s\n", si_format(mg->fmin_hz, "Hz", a, sizeof a),
             si_format(mg->fmax_hz, "Hz", b, sizeof b));
