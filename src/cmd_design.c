@@ -90,6 +90,12 @@ static check_opts design_opts(const options *o)
     return co;
 }
 
+design_goal option_goal(const options *o)
+{
+    design_goal g = { o->pm, o->gm_given ? o->gm : NAN, o->pm_given };
+    return g;
+}
+
 static design_goal goal(const options *o)
 {
     return option_goal(o);

@@ -91,12 +91,6 @@ int option_number(const char *name, const char *text, expr_unit unit, double *v)
     return 0;
 }
 
-design_goal option_goal(const options *o)
-{
-    design_goal g = { o->pm, o->gm_given ? o->gm : NAN, o->pm_given };
-    return g;
-}
-
 static int parse_options(int argc, char **argv, options *o)
 {
     for (int k = 1; k < argc; k++) {

@@ -401,11 +401,11 @@ void report_load(FILE *f, const desc *d, const load_result *r, double lo, double
                 node);
         if (isnan(r->nominal.pm_deg))
             fprintf(f, "The loop has no crossover (no phase margin) at any load%s.\n",
-                    r->nominal.stable ? "" : ", and it is UNSTABLE");
+                    r->nominal.stable ? "" : "; the closed loop is not stable: run check for its poles");
         else
             fprintf(f, "The loop's phase margin is %.2f\xC2\xB0 at every load (%s the %.4g\xC2\xB0 "
                     "%s)%s.\n", r->nominal.pm_deg, design_meets(&r->nominal, g) ? "meets" : "below",
-                    g.pm_deg, design_goal_word(g), r->nominal.stable ? "" : ", and the loop is UNSTABLE");
+                    g.pm_deg, design_goal_word(g), r->nominal.stable ? "" : "; the closed loop is not stable: run check for its poles");
         if (!isfinite(r->r_seen)) {
             fprintf(f, "No resistance to ground is seen at '%s': a load there integrates, it "
                     "does not settle.\n", node);

@@ -118,7 +118,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
         goto done;
     }
     check_warn_gm_cycles(d, devnull);
-    report_target tg = { 60.0, (int)(size & 1) };
+    report_target tg = { .pm_deg = 60.0, .given = (int)(size & 1) };
     report_check_text(devnull, d, m, &r, tg);
     report_check_json(devnull, d, m, &r);
     (void)report_check_status(&r, tg);
