@@ -224,11 +224,11 @@ int sweep_run_offset(desc *d, desc_target t, double from, double to, double offs
     return rc;
 }
 
-int sweep_worst(const sweep_result *r, design_goal g)
+int sweep_smallest_margin(const sweep_result *r)
 {
     int w = -1;
     for (int k = 0; k < r->npts; k++)
-        if (w < 0 || design_goal_distance(&r->pts[k], g) < design_goal_distance(&r->pts[w], g))
+        if (!isnan(r->pts[k].pm_deg) && (w < 0 || r->pts[k].pm_deg < r->pts[w].pm_deg))
             w = k;
     return w;
 }

@@ -24,6 +24,16 @@ static void axis_label(FILE *s, const char *what, const char *unit)
     fputs(" noenhanced\n", s);
 }
 
+/* A value with its unit and SI prefix; a plain number without a unit (an
+ * "m" alone would read as metres). */
+static const char *tic_text(double v, const char *unit, char *buf, size_t n)
+{
+    if (*unit)
+        return si_format(v, unit, buf, n);
+    snprintf(buf, n, "%g", v);
+    return buf;
+}
+
 /* Tick labels that a reader can interpolate between: on a log axis 1-2-5
  * (or 1-1.5-2-3-5-7 over about a decade) per decade, every decade over
  * more than three; on a linear one steps of 1, 2 or 5 times a power of ten,
@@ -44,14 +54,14 @@ static void value_tics(FILE *s, double lo, double hi, int lin, const char *unit)
                 double v = m[j] * pow(10.0, e);
                 if (v < lo * (1 - 1e-9) || v > hi * (1 + 1e-9))
                     continue;
-                fprintf(s, "%s'%s' %.10g", n++ ? ", " : "", si_format(v, unit, a, sizeof a), v);
+                fprintf(s, "%s'%s' %.10g", n++ ? ", " : "", tic_text(v, unit, a, sizeof a), v);
             }
     } else {
         double raw = (hi - lo) / 8, p = pow(10.0, floor(log10(raw))), step = p;
         step = raw / p > 5 ? 10 * p : raw / p > 2 ? 5 * p : raw / p > 1 ? 2 * p : p;
         for (double v = step * ceil(lo / step); v <= hi * (1 + 1e-12) + 1e-300; v += step)
             fprintf(s, "%s'%s' %.10g", n++ ? ", " : "",
-                    si_format(fabs(v) < 1e-9 * step ? 0.0 : v, unit, a, sizeof a), v);
+                    tic_text(fabs(v) < 1e-9 * step ? 0.0 : v, unit, a, sizeof a), v);
     }
     fputs(")\n", s);
 }
@@ -138,8 +148,11 @@ int figure_margin(const figure_opts *fo, const desc *d, const char *what, const 
     for (int k = 0; k < sw->ncross; k++) {
         const design_crossing *c = &sw->cross[k];
         double at = lin ? (c->value - x0) / (x1 - x0) : log(c->value / x0) / log(x1 / x0);
-        const char *where = c->rises ? (at < 0.6 ? "left offset 1,-1.3" : "right offset -1,1.3")
-                                     : (at > 0.4 ? "right offset -1,-1.3" : "left offset 1,1.3");
+        int below = c->rises ? at < 0.6 : at > 0.4;
+        /* the k-th label one line further out, so that neighbours do not overlap */
+        char where[64];
+        snprintf(where, sizeof where, "%s offset %d,%.1f", (c->rises == below) ? "left" : "right",
+                 (c->rises == below) ? 1 : -1, (below ? -1.3 : 1.3) * (1 + k));
         snprintf(text, sizeof text, "%s through %.4g\xC2\xB0 at %s",
                  c->rises ? "rises" : "falls", g.pm_deg, si_format(c->value, unit, a, sizeof a));
         fprintf(s, "set object circle at %.10g, first %.6g size screen 0.006 fc rgb '%s' "
@@ -150,8 +163,8 @@ int figure_margin(const figure_opts *fo, const desc *d, const char *what, const 
     }
     /* the smallest margin: ringed, and said in words below it (the curve is
      * higher on both sides of a smallest value), towards the middle */
-    int w = sweep_worst(sw, g);
-    if (w >= 0 && !isnan(sw->pts[w].pm_deg)) {
+    int w = sweep_smallest_margin(sw);
+    if (w >= 0) {
         const design_point *p = &sw->pts[w];
         double at = lin ? (p->value - x0) / (x1 - x0) : log(p->value / x0) / log(x1 / x0);
         snprintf(text, sizeof text, "smallest margin %.1f\xC2\xB0 at %s", p->pm_deg,

@@ -186,10 +186,10 @@ void report_sweep(FILE *f, const desc *d, const char *name, desc_target t,
         fprintf(f, "The margin %s through %.4g\xC2\xB0 at %s = %s.\n",
                 r->cross[k].rises ? "rises" : "falls", g.pm_deg, name,
                 si_format(r->cross[k].value, unit, a, sizeof a));
-    int worst = sweep_worst(r, g), unstable = 0;
+    int worst = sweep_smallest_margin(r), unstable = 0;
     for (int k = 0; k < r->npts; k++)
         unstable += !r->pts[k].stable;
-    if (worst >= 0 && !isnan(r->pts[worst].pm_deg))
+    if (worst >= 0)
         fprintf(f, "The smallest phase margin is %.2f\xC2\xB0, at %s = %s.\n",
                 r->pts[worst].pm_deg, name, si_format(r->pts[worst].value, unit, a, sizeof a));
     if (unstable)

@@ -78,8 +78,9 @@ int sweep_run(desc *d, desc_target t, double from, double to, int npts, int lin,
 int sweep_run_offset(desc *d, desc_target t, double from, double to, double offset, int npts,
                      int lin, design_goal g, const check_opts *o, sweep_result *r, lw_error *err);
 void sweep_result_free(sweep_result *r);
-/* The point farthest below the goal (the first of equals), -1 when none. */
-int sweep_worst(const sweep_result *r, design_goal g);
+/* The point with the smallest phase margin (the first of equals; points
+ * without a crossover left out), -1 when none has one. */
+int sweep_smallest_margin(const sweep_result *r);
 
 typedef struct size_result {
     int met;
