@@ -75,6 +75,7 @@ golden: $(LW_BIN)
 	@sh tests/golden/run.sh ./$(LW_BIN)
 	@sh tests/golden/variation.sh ./$(LW_BIN)
 	@sh tests/golden/large.sh ./$(LW_BIN)
+	@sh tests/golden/rules.sh ./$(LW_BIN)
 
 reference: loopwise
 	@$(PYTHON) tests/ref/numpy_ref.py --selftest
@@ -91,8 +92,8 @@ demo: all
 	./loopwise size cases/refcore.loop --tune ccomp --pm 60 --density 2fF/um2
 	./loopwise sweep cases/refcore.loop --vary rser --from 540 --to 54k --points 13; test $$? -le 1
 	./loopwise load cases/refcore.loop --node vref --cload 1p..1n
-	./loopwise bode cases/refcore.loop --each -o plots/refcore-bode.png >/dev/null
-	./loopwise polemap cases/refcore.loop -o plots/refcore-polemap.png
+	./loopwise gain cases/refcore.loop --each -o plots/refcore-gain.png >/dev/null
+	./loopwise roots cases/refcore.loop -o plots/refcore-roots.png
 	./loopwise sweep cases/refcore.loop --vary rser --from 540 --to 54k -o plots/refcore-sweep-rser.png >/dev/null; test $$? -le 1
 	./loopwise load cases/refcore.loop --node brb --cload 0.1p..10p -o plots/refcore-load-brb.png >/dev/null; test $$? -le 1
 	./loopwise corners cases/refcore.loop; test $$? -le 1
@@ -163,7 +164,7 @@ sanitize-run: $(LW_BIN) $(TEST_BIN)
 	    else echo "sanitize: no sanitizer reports"; fi; exit $$failed
 
 # valgrind memcheck of the normal binary: check on every case, and the design
-# and variation commands and bode on the reference core (no plots). Zero errors and zero
+# and variation commands and gain on the reference core (no plots). Zero errors and zero
 # definite or indirect leaks, whatever loopwise's own exit code (0 or 1); the
 # OpenMP runtime's thread stacks are only "possibly lost" and not counted.
 VG := valgrind -q --error-exitcode=97 --leak-check=full --show-leak-kinds=definite,indirect \
@@ -176,7 +177,7 @@ memcheck: all
 	        "size $(MC) --tune ccomp --pm 60 --density 2fF/um2" \
 	        "sweep $(MC) --vary rser --from 540 --to 54k --points 13" \
 	        "load $(MC) --node vref --cload 1p..1n" "load $(MC) --node brb --cload 0.1p..10p" \
-	        "bode $(MC) --points 50" "corners $(MC)" "montecarlo $(MC) --samples 200 --seed 1"; do \
+	        "gain $(MC) --points 50" "corners $(MC)" "montecarlo $(MC) --samples 200 --seed 1"; do \
 	    $(VG) ./loopwise $$run >/dev/null 2>&1; rc=$$?; \
 	    if [ $$rc -le 1 ] && [ ! -s build/memcheck.log ]; then echo "  MEMCHECK ok      $$run"; \
 	        pass=$$((pass + 1)); \

@@ -141,7 +141,7 @@ static timing time_sweep(const char *path, int npts, double budget, int *ncross,
     desc_target tg;
     if (desc_target_find(d, SWEEP_CAP, &tg, &err))
         die("finding the swept cap", &err, path);
-    design_goal g = { SWEEP_PM, NAN };
+    design_goal g = { SWEEP_PM, NAN, 1 };
     double t[64], total = 0, c0 = cpu_now();
     int n = 0;
     while (n < 64 && (n == 0 || total < budget)) {

@@ -90,10 +90,15 @@ static check_opts design_opts(const options *o)
     return co;
 }
 
+design_goal option_goal(const options *o)
+{
+    design_goal g = { o->pm, o->gm_given ? o->gm : NAN, o->pm_given };
+    return g;
+}
+
 static design_goal goal(const options *o)
 {
-    design_goal g = { o->pm, o->gm_given ? o->gm : NAN };
-    return g;
+    return option_goal(o);
 }
 
 /* density -> VALUE '/um2'   (capacitance per square micrometre) */
@@ -198,7 +203,7 @@ int cmd_sweep(const options *o, desc *d, int *code, lw_error *err)
     }
     if (!o->csv || strcmp(o->csv, "-"))
         report_sweep(stdout, d, o->vary, t, &r, goal(o), o->json ? OUT_JSON : OUT_TEXT);
-    *code = o->pm_given && r.missed ? 1 : 0;
+    *code = r.failed ? 1 : 0;
     if (o->plot) {
         figure_opts fo = fig(o);
         fflush(stdout);
@@ -236,7 +241,7 @@ int cmd_load(const options *o, desc *d, int *code, lw_error *err)
     if ((rc = load_run(d, node, lo, hi, o->points ? o->points : 25, goal(o), &co, &r, err)))
         return rc;
     report_load(stdout, d, &r, lo, hi, goal(o), o->json ? OUT_JSON : OUT_TEXT);
-    *code = o->pm_given && !r.met ? 1 : 0;
+    *code = r.failed ? 1 : 0;
     if (o->plot && r.inside) {
         figure_opts fo = fig(o);
         char what[DESC_MAX_NAME + 16];
@@ -244,19 +249,20 @@ int cmd_load(const options *o, desc *d, int *code, lw_error *err)
         fflush(stdout);
         rc = figure_margin(&fo, d, what, "F", &r.sw, goal(o), 0, err);
     } else if (o->plot) {
-        fprintf(stderr, "loopwise: node '%s' is outside the loop: no margin curve to draw\n",
-                d->nodes[node].name);
+        figure_opts fo = fig(o);
+        fflush(stdout);
+        rc = figure_load_outside(&fo, d, &r, lo, hi, goal(o), err);
     }
     load_result_free(&r);
     return rc;
 }
 
-int cmd_polemap(const options *o, const desc *d, const check_result *r, lw_error *err)
+int cmd_roots(const options *o, const desc *d, const check_result *r, lw_error *err)
 {
     figure_opts fo = fig(o);
-    int rc = figure_polemap(&fo, d, r, err);
+    int rc = figure_roots(&fo, d, r, err);
     if (!rc)
-        printf("loopwise polemap: %s: %d open-loop poles, %d zeros, %d closed-loop poles drawn "
+        printf("loopwise roots: %s: %d open-loop poles, %d zeros, %d closed-loop poles drawn "
                "in %s\n", d->path, r->tf.npoles, r->tf.nzeros, r->ncl, o->plot);
     return rc;
 }

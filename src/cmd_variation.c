@@ -24,63 +24,122 @@ static const char *exact(double v, char *buf, size_t n)
     return buf;
 }
 
-static void set_line(FILE *f, const desc *d, const char *file, const int *params, int np,
-                     const double *v)
+/* The command that gives exactly the reported figures of one corner or
+ * sample: the file, the band if given, every --set of the command line (a
+ * value the user pinned is part of the operating point), then the varied
+ * values. Returns a string to free, or NULL without memory. */
+static char *reproduce_line(const options *o, const desc *d, const int *params, int np,
+                            const double *v)
 {
-    char b[40];
-    fprintf(f, "loopwise check %s", file);
+    char *buf = NULL, b[40];
+    size_t len = 0;
+    FILE *f = open_memstream(&buf, &len);
+    if (!f)
+        return NULL;
+    fputs("loopwise check ", f);
+    report_shell_word(f, o->file);
+    if (o->fmin > 0)
+        fprintf(f, " --fmin %s", exact(o->fmin, b, sizeof b));
+    if (o->fmax > 0)
+        fprintf(f, " --fmax %s", exact(o->fmax, b, sizeof b));
+    for (int k = 0; k < o->nsets; k++) {
+        fputs(" --set ", f);
+        report_shell_word(f, o->sets[k]);
+    }
     for (int j = 0; j < np; j++)
         fprintf(f, " --set %s=%s", d->params[params[j]].name, exact(v[j], b, sizeof b));
+    if (fclose(f) != 0) {
+        free(buf);
+        return NULL;
+    }
+    return buf;
 }
 
-static void json_set_line(FILE *f, const desc *d, const char *file, const int *params, int np,
-                          const double *v)
+/* Params whose spread (a corner range, or a distribution) a --set pins:
+ * they keep the value given and are left out of the combinations or draws. */
+static int pinned(const desc_param *p, int ranges)
 {
-    char buf[4096];
-    int len = snprintf(buf, sizeof buf, "loopwise check %s", file);
-    for (int j = 0; j < np && len < (int)sizeof buf; j++)
-        len += snprintf(buf + len, sizeof buf - (size_t)len, " --set %s=%s",
-                        d->params[params[j]].name, exact(v[j], (char[40]){ 0 }, 40));
-    json_string(f, buf);
+    int spread = ranges ? p->spread.has_range : p->spread.dist != DIST_NONE;
+    return spread && p->override != DESC_NO_OVERRIDE;
 }
 
+static void pinned_text(FILE *f, const desc *d, int ranges)
+{
+    int n = 0;
+    char a[32];
+    for (int k = 0; k < d->nparams; k++) {
+        const desc_param *p = &d->params[k];
+        if (!pinned(p, ranges))
+            continue;
+        fprintf(f, "%s %s = %s", n++ ? "," : ranges ? "  pinned by --set, not combined:"
+                                                   : "  pinned by --set, not drawn:", p->name,
+                si_format(p->value, report_unit_of(p->unit), a, sizeof a));
+    }
+    if (n)
+        fputc('\n', f);
+}
+
+static void pinned_json(FILE *f, const desc *d, int ranges)
+{
+    int n = 0;
+    fputs("\"pinned\": [", f);
+    for (int k = 0; k < d->nparams; k++)
+        if (pinned(&d->params[k], ranges)) {
+            fputs(n++ ? ", " : "", f);
+            json_string(f, d->params[k].name);
+        }
+    fputc(']', f);
+}
 
 static void corners_text(FILE *f, const desc *d, const corner_result *r, design_goal g)
 {
-    fprintf(f, "loopwise corners: %s  %d corner%s (every combination of %d range end%s), "
-            "target phase margin %.4g\xC2\xB0\n\n  %-4s", d->path, r->ncorners,
-            r->ncorners == 1 ? "" : "s", r->nparams, r->nparams == 1 ? "" : "s", g.pm_deg, "#");
+    char gt[160];
+    fprintf(f, "loopwise corners: %s  %d corner%s (every combination of %d range end%s), %s\n",
+            d->path, r->ncorners, r->ncorners == 1 ? "" : "s", r->nparams,
+            r->nparams == 1 ? "" : "s", report_goal_text(g, gt, sizeof gt));
+    pinned_text(f, d, 1);
+    fprintf(f, "\n  %-4s", "#");
     for (int j = 0; j < r->nparams; j++)
         fprintf(f, " %-11s", d->params[r->params[j]].name);
-    fprintf(f, " %-9s %-11s %-9s %s\n", "PM", "crossover", "GM", "stable");
+    fprintf(f, " %-13s %-11s %-12s %s\n", "phase margin", "crossover", "gain margin", "stable");
     for (int k = 0; k < r->ncorners; k++) {
         int c = r->order[k];
         const design_point *p = &r->pts[c];
         char a[32], pm[16], gm[16];
         fprintf(f, "  %-4d", c + 1);
-        for (int j = 0; j < r->nparams; j++)
-            fprintf(f, " %-11.4g", r->values[c * r->nparams + j]);
-        snprintf(pm, sizeof pm, isnan(p->pm_deg) ? "-" : "%.2f\xC2\xB0", p->pm_deg);
-        snprintf(gm, sizeof gm, isnan(p->gm_db) ? "-" : "%.2f dB", p->gm_db);
-        fprintf(f, " %-10s %-11s %-9s %s%s\n", pm,
+        for (int j = 0; j < r->nparams; j++) {
+            const desc_param *q = &d->params[r->params[j]];
+            fputc(' ', f);
+            report_pad(f, si_format(r->values[c * r->nparams + j], report_unit_of(q->unit), a,
+                                    sizeof a), 11);
+        }
+        snprintf(pm, sizeof pm, isnan(p->pm_deg) ? "none" : "%.2f\xC2\xB0", p->pm_deg);
+        snprintf(gm, sizeof gm, isnan(p->gm_db) ? "unbounded" : "%.2f dB", p->gm_db);
+        fprintf(f, " %-14s %-11s %-12s %s%s\n", pm,
                 isnan(p->crossover_hz) ? "none" : si_format(p->crossover_hz, "Hz", a, sizeof a),
-                gm, p->stable ? "yes" : "NO", design_meets(p, g) ? "" : "  < target");
+                gm, p->stable ? "yes" : "NO", design_meets(p, g) ? "" : report_below_mark(g));
     }
 }
 
 int cmd_corners(const options *o, desc *d, int *code, lw_error *err)
 {
     check_opts co = { .fmin_hz = o->fmin, .fmax_hz = o->fmax, .want_owner = 1 };
-    design_goal g = { o->pm, o->gm_given ? o->gm : NAN };
+    design_goal g = option_goal(o);
     corner_result r;
     int rc = corners_run(d, &co, g, &r, err);
     if (rc)
         return rc;
     int w = r.order[0];
-    const double *wv = r.values + w * r.nparams;
-    int met = 1;
-    for (int c = 0; c < r.ncorners; c++)
+    char *again = reproduce_line(o, d, r.params, r.nparams, r.values + w * r.nparams);
+    if (!again) {
+        corner_result_free(&r);
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    }
+    int met = 1, failed = 0;
+    for (int c = 0; c < r.ncorners; c++) {
         met &= design_meets(&r.pts[c], g);
+        failed |= design_fails(&r.pts[c], g);
+    }
     if (o->json) {
         fprintf(stdout, "{\"corners\": [");
         for (int k = 0; k < r.ncorners; k++) {
@@ -96,9 +155,10 @@ int cmd_corners(const options *o, desc *d, int *code, lw_error *err)
             report_point_fields(stdout, &r.pts[c]);
             fputc('}', stdout);
         }
-        fprintf(stdout, "],\n \"worst\": %d, \"met\": %s, \"reproduce\": ", w + 1,
-                met ? "true" : "false");
-        json_set_line(stdout, d, o->file, r.params, r.nparams, wv);
+        fprintf(stdout, "],\n \"worst\": %d, \"met\": %s, ", w + 1, met ? "true" : "false");
+        pinned_json(stdout, d, 1);
+        fputs(", \"reproduce\": ", stdout);
+        json_string(stdout, again);
         fputs("}\n", stdout);
     } else {
         corners_text(stdout, d, &r, g);
@@ -108,7 +168,7 @@ int cmd_corners(const options *o, desc *d, int *code, lw_error *err)
         if (isnan(p->pm_deg))
             printf(" no crossover, phase margin undefined");
         else
-            printf(" phase margin %.2f\xC2\xB0 at %s", p->pm_deg,
+            printf(" phase margin %.2f\xC2\xB0 (crossover %s)", p->pm_deg,
                    si_format(p->crossover_hz, "Hz", a, sizeof a));
         if (!isnan(p->gm_db))
             printf(", gain margin %.2f dB", p->gm_db);
@@ -116,13 +176,17 @@ int cmd_corners(const options *o, desc *d, int *code, lw_error *err)
             printf(", poles of T at %s", si_format(p->p1_hz, "Hz", a, sizeof a));
         if (!isnan(p->p2_hz))
             printf(" and %s", si_format(p->p2_hz, "Hz", a, sizeof a));
-        printf("%s\n", p->stable ? "" : ", UNSTABLE");
-        printf("  reproduce it: ");
-        set_line(stdout, d, o->file, r.params, r.nparams, wv);
-        printf("\nVerdict: %s\n", met ? "every corner meets the target."
-                                      : "some corners miss the target (marked above).");
+        printf("%s\n  reproduce it: %s\n", p->stable ? "" : ", UNSTABLE", again);
+        if (met)
+            printf("Verdict: every corner is stable and meets the %s.\n", design_goal_word(g));
+        else if (failed)
+            printf("Verdict: some corners are unstable or miss a target given (marked above).\n");
+        else
+            printf("Verdict: some corners fall below the %.4g\xC2\xB0 reference (marked above); "
+                   "no target was given.\n", g.pm_deg);
     }
-    *code = met ? 0 : 1;
+    *code = failed ? 1 : 0;
+    free(again);
     corner_result_free(&r);
     return LW_OK;
 }
@@ -139,7 +203,8 @@ static void stats_row(FILE *f, const char *label, const mc_stats *s, int hz)
         else
             snprintf(b[k], sizeof b[k], "%.2f", v[k]);
     }
-    fprintf(f, "  %-15s", label);
+    fputs("  ", f);
+    report_pad(f, label, 15);
     for (int k = 0; k < 9; k++)
         fprintf(f, " %-9s", b[k]);
     fputc('\n', f);
@@ -158,34 +223,64 @@ static void json_stats(FILE *f, const char *name, const mc_stats *s)
     fputc('}', f);
 }
 
-static void mc_text(FILE *f, const desc *d, const char *file, const mc_result *r, uint64_t seed,
-                    design_goal g)
+/* With every sample passing, the one-sided lower bound is alpha^(1/n)
+ * (Clopper and Pearson 1934 with x = n); the fewest samples that can show
+ * a yield P at 95% are ln(0.05)/ln(P), rounded up. */
+static double samples_to_show(double p)
 {
-    fprintf(f, "loopwise montecarlo: %s  %d samples, seed %llu, target phase margin %.4g\xC2\xB0\n"
-            "  varied:", d->path, r->nsamples, (unsigned long long)seed, g.pm_deg);
+    return ceil(log(0.05) / log(p));
+}
+
+static void mc_text(FILE *f, const options *o, const desc *d, const mc_result *r, uint64_t seed,
+                    design_goal g, const char *again)
+{
+    char gt[160], a[32], b[32];
+    fprintf(f, "loopwise montecarlo: %s  %d samples, seed %llu, %s\n  varied:", d->path,
+            r->nsamples, (unsigned long long)seed, report_goal_text(g, gt, sizeof gt));
     for (int j = 0; j < r->nparams; j++) {
         const desc_param *p = &d->params[r->params[j]];
+        const char *u = report_unit_of(p->unit);
         if (p->spread.dist == DIST_NORMAL)
-            fprintf(f, "%s %s (normal, sigma %.4g)", j ? "," : "", p->name, p->spread.a_v);
+            fprintf(f, "%s %s (normal, sigma %s)", j ? "," : "", p->name,
+                    si_format(p->spread.a_v, u, a, sizeof a));
         else
-            fprintf(f, "%s %s (uniform %.4g..%.4g)", j ? "," : "", p->name, p->spread.a_v,
-                    p->spread.b_v);
+            fprintf(f, "%s %s (uniform %s..%s)", j ? "," : "", p->name,
+                    si_format(p->spread.a_v, u, a, sizeof a), si_format(p->spread.b_v, u, b, sizeof b));
     }
-    fprintf(f, "\n\n  %-15s %-9s %-9s %-9s %-9s %-9s %-9s %-9s %-9s %-9s\n", "", "mean", "sigma",
+    fputc('\n', f);
+    pinned_text(f, d, 0);
+    fprintf(f, "\n  %-15s %-9s %-9s %-9s %-9s %-9s %-9s %-9s %-9s %-9s\n", "", "mean", "sigma",
             "min", "1%", "5%", "median", "95%", "99%", "max");
-    stats_row(f, "PM (degrees)", &r->pm, 0);
-    stats_row(f, "GM (dB)", &r->gm, 0);
+    stats_row(f, "phase margin \xC2\xB0", &r->pm, 0);
+    stats_row(f, "gain margin dB", &r->gm, 0);
     stats_row(f, "crossover", &r->fc, 1);
-    fprintf(f, "\n  yield: %d of %d samples meet the target (%.3f%%)\n"
+    if (r->gm.n < r->nsamples - r->invalid)
+        fprintf(f, "  %d samples have an unbounded gain margin (the phase never reaches "
+                "-180\xC2\xB0); they are left out of its row\n", r->nsamples - r->invalid - r->gm.n);
+    fprintf(f, "\n  yield: %d of %d samples pass (stable, %s): %.3f%%\n"
             "  95%% confidence interval (Clopper-Pearson): %.3f%% to %.3f%%; one-sided 95%% "
-            "lower bound %.3f%%\n", r->passes, r->nsamples, 100 * r->yield, 100 * r->ci_lo,
-            100 * r->ci_hi, 100 * r->lower95);
+            "lower bound %.3f%%\n", r->passes, r->nsamples, report_goal_text(g, gt, sizeof gt),
+            100 * r->yield, 100 * r->ci_lo, 100 * r->ci_hi, 100 * r->lower95);
     if (r->invalid)
         fprintf(f, "  %d samples gave values that are not allowed (a negative resistance, ...) "
                 "and count as failures\n", r->invalid);
     if (r->pm.n < r->nsamples - r->invalid)
         fprintf(f, "  %d samples have no crossover (no phase margin) and count as failures\n",
                 r->nsamples - r->invalid - r->pm.n);
+    int unstable = 0;
+    for (int i = 0; i < r->nsamples; i++)
+        unstable += r->valid[i] && !r->pts[i].stable;
+    if (unstable)
+        fprintf(f, "  %d samples are unstable and count as failures\n", unstable);
+    if (o->yield_given) {
+        int met = r->lower95 >= o->yield;
+        fprintf(f, "  yield target %.4g%%: %s: the one-sided 95%% lower bound %.3f%% %s it\n",
+                100 * o->yield, met ? "met" : "MISSED", 100 * r->lower95,
+                met ? "reaches" : "is below");
+        if (!met && r->passes == r->nsamples)
+            fprintf(f, "  every sample passed, but %d samples cannot show %.4g%%: that takes at "
+                    "least %.0f\n", r->nsamples, 100 * o->yield, samples_to_show(o->yield));
+    }
     if (r->worst >= 0) {
         const design_point *p = &r->pts[r->worst];
         fprintf(f, "\n  worst sample #%d: phase margin ", r->worst + 1);
@@ -193,19 +288,17 @@ static void mc_text(FILE *f, const desc *d, const char *file, const mc_result *r
             fprintf(f, "undefined");
         else
             fprintf(f, "%.2f\xC2\xB0", p->pm_deg);
-        fprintf(f, "%s\n  reproduce it: ", p->stable ? "" : ", UNSTABLE");
-        set_line(f, d, file, r->params, r->nparams, r->values + (size_t)r->worst * (size_t)r->nparams);
-        fputc('\n', f);
+        fprintf(f, "%s\n  reproduce it: %s\n", p->stable ? "" : ", UNSTABLE", again);
     }
 }
 
-int cmd_montecarlo(const options *o, const desc *d, const text_file *t, int *code,
-                   lw_error *err)
+int cmd_montecarlo(const options *o, const desc *d, const text_file *t,
+                   const check_result *nominal, int *code, lw_error *err)
 {
     if (o->samples <= 0)
         return lw_error_set(err, LW_EINPUT, "montecarlo needs --samples N with N of 1 or more");
     check_opts co = { .fmin_hz = o->fmin, .fmax_hz = o->fmax };
-    design_goal g = { o->pm, o->gm_given ? o->gm : NAN };
+    design_goal g = option_goal(o);
     mc_result r;
     uint64_t seed = o->seed_given ? o->seed : 1;
     FILE *progress = isatty(2) && !o->json ? stderr : NULL;
@@ -213,6 +306,13 @@ int cmd_montecarlo(const options *o, const desc *d, const text_file *t, int *cod
                             &r, err);
     if (rc)
         return rc;
+    char *again = NULL;
+    if (r.worst >= 0 && !(again = reproduce_line(o, d, r.params, r.nparams,
+                                                 r.values + (size_t)r.worst * (size_t)r.nparams))) {
+        mc_result_free(&r);
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    }
+    int yield_met = !o->yield_given || r.lower95 >= o->yield;
     if (o->json) {
         printf("{\"samples\": %d, \"seed\": %llu, \"target_pm_deg\": ", r.nsamples,
                (unsigned long long)seed);
@@ -225,6 +325,10 @@ int cmd_montecarlo(const options *o, const desc *d, const text_file *t, int *cod
         json_number(stdout, r.ci_hi);
         fputs("], \"yield_lower95\": ", stdout);
         json_number(stdout, r.lower95);
+        fputs(", \"yield_target\": ", stdout);
+        json_number(stdout, o->yield_given ? o->yield : NAN);
+        printf(", \"yield_met\": %s, ", !o->yield_given ? "null" : yield_met ? "true" : "false");
+        pinned_json(stdout, d, 0);
         json_stats(stdout, "phase_margin_deg", &r.pm);
         json_stats(stdout, "gain_margin_db", &r.gm);
         json_stats(stdout, "crossover_hz", &r.fc);
@@ -233,25 +337,22 @@ int cmd_montecarlo(const options *o, const desc *d, const text_file *t, int *cod
             fputs(", ", stdout);
             report_point_fields(stdout, &r.pts[r.worst]);
             fputs(", \"reproduce\": ", stdout);
-            json_set_line(stdout, d, o->file, r.params, r.nparams,
-                          r.values + (size_t)r.worst * (size_t)r.nparams);
+            json_string(stdout, again);
         }
         fputs("}}\n", stdout);
     } else {
-        mc_text(stdout, d, o->file, &r, seed, g);
+        mc_text(stdout, o, d, &r, seed, g, again);
     }
-    *code = r.passes == r.nsamples ? 0 : (o->pm_given ? 1 : 0);
+    /* SPEC section 5: only --yield makes montecarlo exit 1; unstable
+     * samples are failures inside the yield */
+    *code = yield_met ? 0 : 1;
     if (o->plot) {
-        double *pm = malloc(sizeof(double) * (size_t)(r.nsamples + 1));
-        int n = 0;
-        for (int i = 0; pm && i < r.nsamples; i++)
-            if (r.valid[i] && !isnan(r.pts[i].pm_deg))
-                pm[n++] = r.pts[i].pm_deg;
         figure_opts fo = { o->plot, o->width, o->height, o->keep_script };
         fflush(stdout);
-        rc = pm ? figure_histogram(&fo, d, pm, n, g, err) : lw_error_set(err, LW_ENOMEM, "out of memory");
-        free(pm);
+        rc = figure_histogram(&fo, d, &r, nominal, o->sets, o->nsets, g,
+                              o->yield_given ? o->yield : NAN, err);
     }
+    free(again);
     mc_result_free(&r);
     return rc;
 }

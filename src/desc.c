@@ -424,6 +424,44 @@ static int parse_param(pstate *ps)
     return rc;
 }
 
+static int is_field(const char *s)
+{
+    return !strncmp(s, "r=", 2) || !strncmp(s, "c=", 2);
+}
+
+/* A space inside a node field splits it into tokens, and the expression
+ * parser would see only the first part ("expected ')'"). A field followed by
+ * a token that cannot start a field and continues it (an operator at the
+ * seam, an open bracket, a bare "r =") is reported as such, with the field
+ * written without its spaces. */
+static int field_split(pstate *ps, int k)
+{
+    const text_line *ln = ps->ln;
+    const text_token *f = &ln->tok[k];
+    if (k + 1 >= ln->ntok || is_field(ln->tok[k + 1].s))
+        return LW_OK;
+    const text_token *next = &ln->tok[k + 1];
+    size_t fl = strlen(f->s);
+    int open = 0;
+    for (const char *c = f->s; *c; c++)
+        open += (*c == '(') - (*c == ')');
+    int bare = (!strcmp(f->s, "r") || !strcmp(f->s, "c")) && next->s[0] == '=';
+    int seam = fl > 0 && (strchr("+-*/^(,=", f->s[fl - 1]) || strchr("+-*/^),", next->s[0]));
+    if (!bare && !(is_field(f->s) && (seam || open > 0)))
+        return LW_OK;
+    char joined[96];
+    size_t len = 0;
+    for (int j = k; j < ln->ntok && (j == k || !is_field(ln->tok[j].s)); j++)
+        for (const char *c = ln->tok[j].s; *c && len + 4 < sizeof joined; c++)
+            joined[len++] = *c;
+    if (len + 4 >= sizeof joined)
+        memcpy(joined + len, "...", 3), len += 3;
+    joined[len] = '\0';
+    return at_tok(ps, next, "a space inside the node field '%c=': a node field may not contain "
+                  "spaces; write '%s', or give the value a name with a param line", f->s[0],
+                  joined);
+}
+
 /* node -> 'node' NAME ['r=' EXPR] ['c=' EXPR] */
 static int parse_node(pstate *ps)
 {
@@ -446,6 +484,8 @@ static int parse_node(pstate *ps)
     for (int k = 2; k < ps->ln->ntok; k++) {
         const text_token *f = &ps->ln->tok[k];
         int is_r = !strncmp(f->s, "r=", 2), is_c = !strncmp(f->s, "c=", 2);
+        if ((rc = field_split(ps, k)))
+            return rc;
         if (!is_r && !is_c)
             return at_tok(ps, f, "unknown node field '%s'; expected r=VALUE or c=VALUE "
                           "(no spaces inside the value)", f->s);
@@ -783,6 +823,8 @@ int desc_parse(const text_file *t, const char *path, desc **out, lw_error *err)
     free(ps.later_params);
     if (rc == LW_OK && !(d->pvals = calloc((size_t)d->nparams + 1, sizeof(double))))
         rc = lw_error_set(err, LW_ENOMEM, "out of memory");
+    if (rc == LW_OK)
+        desc_units_infer(d);
     if (rc != LW_OK) {
         desc_free(d);
         return rc;

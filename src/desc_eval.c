@@ -146,6 +146,22 @@ static int eval_spread(desc *d, desc_param *p, lw_error *err)
 {
     desc_spread *sp = &p->spread;
     int rc = LW_OK;
+    /* a percentage of zero spreads nothing (SPEC section 5): say so at the
+     * file's own value; a value set from outside pins the param instead */
+    if (p->value == 0 && p->override == DESC_NO_OVERRIDE) {
+        int range = sp->has_range && (sp->lo.is_pct || sp->hi.is_pct);
+        int dist = sp->dist != DIST_NONE && (sp->a.is_pct || (sp->dist == DIST_UNIFORM && sp->b.is_pct));
+        if (range || dist) {
+            desc_pos at = range ? sp->range_at : sp->dist_at;
+            lw_error_at(err, at.line, at.col, "param '%s': a spread in percent of a nominal "
+                        "value of 0 spreads nothing; give the %s absolutely, e.g. %s", p->name,
+                        range || sp->dist == DIST_UNIFORM ? "bounds" : "sigma",
+                        range ? "'corners -1m..1m'" : sp->dist == DIST_UNIFORM
+                        ? "'uniform -1m..1m'" : "'normal 1m'");
+            desc_error_source(d, err);
+            return LW_EINPUT;
+        }
+    }
     if (sp->has_range) {
         if ((rc = eval_bound(d, &sp->lo, p->value, &sp->lo_v, err)) ||
             (rc = eval_bound(d, &sp->hi, p->value, &sp->hi_v, err)))
@@ -198,6 +214,55 @@ int desc_eval(desc *d, lw_error *err)
     if (!rc)
         rc = check_floating(d, err);
     return rc;
+}
+
+/* ---- units of params ---------------------------------------------------- */
+
+enum { UNIT_UNSEEN = -1, UNIT_MIXED = -2 };
+
+static void feed(int *u, int param, int unit)
+{
+    if (param < 0 || unit == UNIT_UNSEEN)
+        return;
+    int *p = &u[param];
+    *p = *p == UNIT_UNSEEN ? unit : (*p == unit ? unit : UNIT_MIXED);
+}
+
+/* A param takes the unit of a field whose whole value it is (the field's
+ * expression is P or -P), and of a param defined as exactly P or -P. A
+ * param inside a larger expression says nothing about its unit (in
+ * 'gpass = 40*iload' the 40 carries siemens per ampere), so such uses are
+ * not counted; fields of different units leave the param without one. */
+void desc_units_infer(desc *d)
+{
+    int *u = malloc(sizeof(int) * ((size_t)d->nparams + 1));
+    for (int k = 0; k < d->nparams; k++)
+        d->params[k].unit = UNIT_ANY;
+    if (!u)
+        return; /* the units are only shown: without memory, none are */
+    for (int k = 0; k < d->nparams; k++)
+        u[k] = UNIT_UNSEEN;
+    static const expr_unit by_kind[] = { UNIT_OHM, UNIT_F, UNIT_S };
+    for (int k = 0; k < d->nnodes; k++) {
+        if (d->nodes[k].r_expr >= 0)
+            feed(u, expr_sole_param(d->pool, d->nodes[k].r_expr), UNIT_OHM);
+        if (d->nodes[k].c_expr >= 0)
+            feed(u, expr_sole_param(d->pool, d->nodes[k].c_expr), UNIT_F);
+    }
+    for (int k = 0; k < d->nelems; k++)
+        feed(u, expr_sole_param(d->pool, d->elems[k].expr), by_kind[d->elems[k].kind]);
+    /* a param is used only after it is declared: going backwards, each
+     * param's own unit is complete before it is passed on */
+    for (int k = d->nparams - 1; k >= 0; k--)
+        feed(u, expr_sole_param(d->pool, d->params[k].expr), u[k]);
+    for (int k = 0; k < d->nparams; k++)
+        d->params[k].unit = u[k] >= 0 ? (expr_unit)u[k] : UNIT_ANY;
+    free(u);
+}
+
+expr_unit desc_target_shown_unit(const desc *d, desc_target t)
+{
+    return t.kind == TARGET_PARAM ? d->params[t.index].unit : desc_target_unit(d, t);
 }
 
 /* ---- targets: --set, --tune, --vary ------------------------------------ */

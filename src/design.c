@@ -9,11 +9,32 @@
 
 #define TWO_PI 6.283185307179586
 
+/* NAN gain margin: the phase never reaches -180 + 360 m, so no gain change
+ * brings the loop to the edge: unbounded, above any requirement. */
+static int gm_meets(const design_point *p, design_goal g)
+{
+    return isnan(g.gm_db) || isnan(p->gm_db) || p->gm_db >= g.gm_db;
+}
+
 int design_meets(const design_point *p, design_goal g)
 {
     if (!p->stable || isnan(p->pm_deg) || p->pm_deg < g.pm_deg)
         return 0;
-    return isnan(g.gm_db) || (!isnan(p->gm_db) && p->gm_db >= g.gm_db);
+    return gm_meets(p, g);
+}
+
+int design_fails(const design_point *p, design_goal g)
+{
+    if (!p->stable)
+        return 1;
+    if (g.pm_given && (isnan(p->pm_deg) || p->pm_deg < g.pm_deg))
+        return 1;
+    return !gm_meets(p, g);
+}
+
+const char *design_goal_word(design_goal g)
+{
+    return g.pm_given ? "target" : "reference";
 }
 
 int design_eval_full(desc *d, desc_target t, double value, const check_opts *o,
@@ -91,6 +112,7 @@ typedef struct refine_ctx {
     const check_opts *o;
     design_goal g;
     int logscale;
+    double offset;          /* added to the swept value before it is set */
     int failed;
     lw_error *err;
 } refine_ctx;
@@ -99,8 +121,8 @@ typedef struct refine_ctx {
 double design_goal_distance(const design_point *p, design_goal g)
 {
     double v = isnan(p->pm_deg) ? -1e3 : p->pm_deg - g.pm_deg;
-    if (!isnan(g.gm_db))
-        v = fmin(v, isnan(p->gm_db) ? -1e3 : p->gm_db - g.gm_db);
+    if (!isnan(g.gm_db) && !isnan(p->gm_db)) /* NAN: unbounded, never the limit */
+        v = fmin(v, p->gm_db - g.gm_db);
     return v;
 }
 
@@ -109,7 +131,7 @@ static double refine_fn(double x, void *vp)
     refine_ctx *c = vp;
     design_point pt;
     double v = c->logscale ? exp(x) : x;
-    if (design_eval(c->d, c->t, v, c->o, &pt, c->err) != LW_OK) {
+    if (design_eval(c->d, c->t, v + c->offset, c->o, &pt, c->err) != LW_OK) {
         c->failed = 1;
         return 0;
     }
@@ -158,6 +180,12 @@ void sweep_result_free(sweep_result *r)
 int sweep_run(desc *d, desc_target t, double from, double to, int npts, int lin,
               design_goal g, const check_opts *o, sweep_result *r, lw_error *err)
 {
+    return sweep_run_offset(d, t, from, to, 0.0, npts, lin, g, o, r, err);
+}
+
+int sweep_run_offset(desc *d, desc_target t, double from, double to, double offset, int npts,
+                     int lin, design_goal g, const check_opts *o, sweep_result *r, lw_error *err)
+{
     memset(r, 0, sizeof *r);
     r->pts = calloc((size_t)npts, sizeof *r->pts);
     r->cross = calloc((size_t)npts, sizeof *r->cross);
@@ -173,11 +201,13 @@ int sweep_run(desc *d, desc_target t, double from, double to, int npts, int lin,
         double v = lin ? from + (to - from) * f : from * pow(to / from, f);
         if (k == npts - 1)
             v = to;
-        rc = design_eval(d, t, v, o, &r->pts[k], err);
+        rc = design_eval(d, t, v + offset, o, &r->pts[k], err);
+        r->pts[k].value = v;
         r->npts = k + 1;
         r->missed |= !rc && !design_meets(&r->pts[k], g);
+        r->failed |= !rc && design_fails(&r->pts[k], g);
     }
-    refine_ctx c = { d, t, o, g, !lin, 0, err };
+    refine_ctx c = { d, t, o, g, !lin, offset, 0, err };
     for (int k = 1; k < r->npts && !rc; k++) {
         double a = design_goal_distance(&r->pts[k - 1], g), b = design_goal_distance(&r->pts[k], g);
         if ((a >= 0) == (b >= 0))
@@ -192,6 +222,15 @@ int sweep_run(desc *d, desc_target t, double from, double to, int npts, int lin,
     if (rc)
         sweep_result_free(r);
     return rc;
+}
+
+int sweep_smallest_margin(const sweep_result *r)
+{
+    int w = -1;
+    for (int k = 0; k < r->npts; k++)
+        if (!isnan(r->pts[k].pm_deg) && (w < 0 || r->pts[k].pm_deg < r->pts[w].pm_deg))
+            w = k;
+    return w;
 }
 
 /* ---- size -------------------------------------------------------------- */
@@ -259,9 +298,10 @@ void load_result_free(load_result *r)
         sweep_result_free(&r->sw);
 }
 
-/* The node is inside the loop when extra capacitance there changes T. */
+/* The node is inside the loop when extra capacitance there changes T.
+ * nominal gets the margins without a load. */
 static int node_inside(desc *d, desc_target t, double c0, double cl, const check_opts *o,
-                       int *inside, lw_error *err)
+                       int *inside, design_point *nominal, lw_error *err)
 {
     check_result a, b;
     model *ma, *mb;
@@ -274,6 +314,7 @@ static int node_inside(desc *d, desc_target t, double c0, double cl, const check
         return rc;
     }
     *inside = 0;
+    design_point_from(&a, 0.0, nominal);
     double lo = log10(a.mg.fmin_hz), hi = log10(a.mg.fmax_hz);
     for (int k = 0; k <= 40 && !*inside; k++) {
         double complex s = I * TWO_PI * pow(10.0, lo + (hi - lo) * k / 40.0);
@@ -328,17 +369,15 @@ int load_run(desc *d, int node, double lo, double hi, int npts, design_goal g, c
         if (d->elems[e].kind == ELEM_CAP && d->elems[e].a == node && d->elems[e].b == DESC_GND)
             r->c_node += d->elems[e].value;
     gsl_error_handler_t *old = gsl_set_error_handler_off();
-    int rc = node_inside(d, t, c0, hi, o, &r->inside, err);
+    int rc = node_inside(d, t, c0, hi, o, &r->inside, &r->nominal, err);
     if (!rc && !r->inside)
         rc = seen_resistance(d, node, &r->r_seen, err);
     if (!rc && r->inside) {
-        /* the sweep's value is the total node capacitance; report the load */
-        rc = sweep_run(d, t, c0 + lo, c0 + hi, npts, 0, g, o, &r->sw, err);
-        for (int k = 0; !rc && k < r->sw.npts; k++)
-            r->sw.pts[k].value -= c0;
-        for (int k = 0; !rc && k < r->sw.ncross; k++)
-            r->sw.cross[k].value -= c0;
+        /* the points are spaced in the added load (SPEC section 4's log
+         * spacing from LO to HI); each sets the node's c to c0 + load */
+        rc = sweep_run_offset(d, t, lo, hi, c0, npts, 0, g, o, &r->sw, err);
         if (!rc) {
+            r->failed = r->sw.failed;
             r->met = !r->sw.missed;
             if (r->met)
                 r->max_load_f = hi;
@@ -350,7 +389,9 @@ int load_run(desc *d, int node, double lo, double hi, int npts, design_goal g, c
                     }
         }
     } else if (!rc) {
-        r->met = 1;
+        /* outside: every load leaves the loop as it is */
+        r->met = design_meets(&r->nominal, g);
+        r->failed = design_fails(&r->nominal, g);
     }
     gsl_set_error_handler(old);
     desc_eval(d, err);

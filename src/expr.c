@@ -561,6 +561,13 @@ static void walk_params(const expr_pool *p, int h, void (*fn)(void *, int), void
         walk_params(p, n->b, fn, ctx);
 }
 
+int expr_sole_param(const expr_pool *p, int handle)
+{
+    while (handle >= 0 && p->n[handle].op == OP_NEG)
+        handle = p->n[handle].a;
+    return handle >= 0 && p->n[handle].op == OP_PARAM ? p->n[handle].param : -1;
+}
+
 void expr_params(const expr_pool *p, int handle, void (*fn)(void *, int), void *ctx)
 {
     walk_params(p, handle, fn, ctx);

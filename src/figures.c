@@ -1,17 +1,18 @@
-/* figures: Bode plot, pole-zero map and margin curves as gnuplot jobs. */
+/* figures: the project's look, the roots of the loop in the s-plane, and the
+ * Monte Carlo histogram of the phase margin. */
 #include "loopwise/figures.h"
 
 #include <math.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "loopwise/units.h"
 
 #define TWO_PI 6.283185307179586
-enum { BODE_POINTS = 600 };
 
 /* Common look: the project's palette, light grid, no enhanced-text surprises
  * in user strings (they are quoted and marked noenhanced). */
-static void style(FILE *s)
+void figure_style(FILE *s)
 {
     fprintf(s, "set border lc rgb '%s'\nset grid xtics ytics mxtics lc rgb '#d5dbe1' lw 1 dt 1\n"
             "set key top right box lc rgb '#d5dbe1' opaque\n"
@@ -22,7 +23,7 @@ static void style(FILE *s)
             PLOT_INK, PLOT_INK, PLOT_ACCENT, PLOT_MUTED, PLOT_EXTRA);
 }
 
-static void title(FILE *s, const char *what, const desc *d, const char *extra)
+void figure_title(FILE *s, const char *what, const desc *d, const char *extra)
 {
     char buf[600];
     snprintf(buf, sizeof buf, "%s: %s%s%s", what, d->path, extra ? ", " : "", extra ? extra : "");
@@ -36,135 +37,7 @@ static double complex root_hz(double complex v)
     return v / TWO_PI;
 }
 
-/* ---- Bode ---------------------------------------------------------------- */
-
-static int bode_data(plot_job *job, const char *name, lgain *lg, const lg_tf *tf, double lo,
-                     double hi, double *phmin, double *phmax, lw_error *err)
-{
-    FILE *f = plot_data(job, name, err);
-    if (!f)
-        return LW_ENUMERIC;
-    for (int k = 0; k < BODE_POINTS; k++) {
-        double hz = pow(10.0, lo + (hi - lo) * k / (BODE_POINTS - 1)), mag;
-        double ph = margin_phase(lg, tf, hz, &mag, NULL);
-        if (mag > 0 && isfinite(mag)) {
-            fprintf(f, "%.10g %.10g %.10g\n", hz, 20.0 * log10(mag), ph);
-            *phmin = fmin(*phmin, ph);
-            *phmax = fmax(*phmax, ph);
-        }
-    }
-    return LW_OK;
-}
-
-/* Poles and zeros along the frequency axis: x for poles, o for left-half-
- * plane zeros, filled triangles for right-half-plane zeros. */
-static int pz_data(plot_job *job, const check_result *r, lw_error *err)
-{
-    FILE *f = plot_data(job, "pz.dat", err);
-    if (!f)
-        return LW_ENUMERIC;
-    const lg_tf *tf = &r->tf;
-    fputs("# hz kind(0 pole, 1 lhp zero, 2 rhp zero)\n", f);
-    for (int k = 0; k < tf->npoles; k++)
-        if (!tf->hidden[k] && tf->poles[k] != 0 && cimag(tf->poles[k]) <= 0)
-            fprintf(f, "%.10g 0\n", cabs(root_hz(tf->poles[k])));
-    for (int k = 0; k < tf->nzeros; k++)
-        if (tf->zeros[k] != 0 && cimag(tf->zeros[k]) <= 0)
-            fprintf(f, "%.10g %d\n", cabs(root_hz(tf->zeros[k])), creal(tf->zeros[k]) > 0 ? 2 : 1);
-    fputs("1 9\n", f); /* keeps the file non-empty for gnuplot; kind 9 is never drawn */
-    return LW_OK;
-}
-
-static void bode_marks(FILE *s, const check_result *r)
-{
-    const margins *mg = &r->mg;
-    char a[32];
-    for (int k = 0; k < mg->ncross; k++) {
-        fprintf(s, "set arrow from %.10g, graph 0 to %.10g, graph 1 nohead lc rgb '%s' dt 3\n",
-                mg->cross[k].hz, mg->cross[k].hz, PLOT_MUTED);
-        fprintf(s, "set label 'PM %.1f\xC2\xB0 at %s' at %.10g, graph %.2f offset 0.5,0 "
-                "tc rgb '%s' noenhanced\n", mg->cross[k].value,
-                si_format(mg->cross[k].hz, "Hz", a, sizeof a), mg->cross[k].hz,
-                0.92 - 0.07 * k, PLOT_INK);
-    }
-    for (int k = 0; k < mg->nphase && k < 4; k++)
-        fprintf(s, "set label 'GM %.1f dB at %s' at %.10g, graph %.2f offset 0.5,0 "
-                "tc rgb '%s' noenhanced\n", mg->phase[k].value,
-                si_format(mg->phase[k].hz, "Hz", a, sizeof a), mg->phase[k].hz,
-                0.62 - 0.07 * k, PLOT_ACCENT);
-}
-
-int figure_bode(const figure_opts *fo, const desc *d, const model *m, const check_result *r,
-                int each, lw_error *err)
-{
-    plot_job *job;
-    int rc = plot_begin(fo->path, fo->width, fo->height, &job, err);
-    if (rc)
-        return rc;
-    double lo = log10(r->mg.fmin_hz), hi = log10(r->mg.fmax_hz);
-    double phmin = INFINITY, phmax = -INFINITY;
-    rc = bode_data(job, "net.dat", r->lg, &r->tf, lo, hi, &phmin, &phmax, err);
-    for (int l = 0; !rc && each && r->loop_lg && l < r->nloops; l++) {
-        char name[32];
-        snprintf(name, sizeof name, "loop%d.dat", l);
-        if (r->loop_lg[l])
-            rc = bode_data(job, name, r->loop_lg[l], &r->loop_tf[l], lo, hi, &phmin, &phmax, err);
-    }
-    if (!rc)
-        rc = pz_data(job, r, err);
-    if (rc) {
-        plot_abort(job);
-        return rc;
-    }
-    FILE *s = plot_script(job);
-    char extra[200];
-    snprintf(extra, sizeof extra, "loop opened at gm %s", d->elems[m->gm[m->brk].elem].name);
-    style(s);
-    fprintf(s, "set multiplot layout 2,1\nset logscale x\nset format x '%%.0s%%c'\n"
-            "set xrange [%.10g:%.10g]\nset lmargin 11\nset rmargin 4\n",
-            r->mg.fmin_hz, r->mg.fmax_hz);
-    title(s, "Loop gain", d, extra);
-    /* keep the interesting part: 160 dB below the low-frequency gain at most */
-    double top = r->tf.dc != 0 && isfinite(r->tf.dc) ? 20.0 * log10(fabs(r->tf.dc)) : 100.0;
-    fprintf(s, "set ylabel 'magnitude (dB)'\nset xlabel ''\nset yrange [%.4g:*]\n"
-            "set key bottom left\n", fmin(-40.0, top - 160.0));
-    bode_marks(s, r);
-    fprintf(s, "plot 0 with lines ls 3 notitle, '%s' using 1:2 with lines ls 1 title 'net loop gain T'",
-            plot_path(job, "net.dat"));
-    for (int l = 0; each && r->loop_lg && l < r->nloops; l++) {
-        char name[32], t[100];
-        snprintf(name, sizeof name, "loop%d.dat", l);
-        if (!r->loop_lg[l])
-            continue;
-        snprintf(t, sizeof t, "loop %s (own gain)", d->loops[l].name);
-        fprintf(s, ", '%s' using 1:2 with lines ls %d title ", plot_path(job, name), 2 + (l % 3));
-        plot_quote(s, t);
-        fputs(" noenhanced", s);
-    }
-    fprintf(s, ", '%s' using 1:($2==0 ? 0 : 1/0) axes x1y1 with points pt 2 ps 1.6 lc rgb '%s' "
-            "title 'pole', '' using 1:($2==1 ? 0 : 1/0) with points pt 6 ps 1.6 lc rgb '%s' "
-            "title 'zero (left half-plane)', '' using 1:($2==2 ? 0 : 1/0) with points pt 9 ps 1.8 "
-            "lc rgb '%s' title 'zero (right half-plane)'\n", plot_path(job, "pz.dat"), PLOT_INK,
-            PLOT_ACCENT, PLOT_ACCENT);
-    fputs("unset title\nunset label\nunset arrow\nset xlabel 'frequency (Hz)'\n"
-          "set ylabel 'phase (degrees)'\nset key top right\n", s);
-    double ylo = 90.0 * floor((phmin - 20.0) / 90.0), yhi = 90.0 * ceil((phmax + 20.0) / 90.0);
-    fprintf(s, "set yrange [%.6g:%.6g]\nset ytics 90\n", ylo, yhi);
-    bode_marks(s, r);
-    fprintf(s, "plot -180 with lines ls 3 title '-180\xC2\xB0 (mod 360\xC2\xB0)', 180 with lines ls 3 "
-            "notitle, -540 with lines ls 3 notitle, '%s' using 1:3 with lines ls 1 title 'phase of T'",
-            plot_path(job, "net.dat"));
-    for (int l = 0; each && r->loop_lg && l < r->nloops; l++) {
-        char name[32];
-        snprintf(name, sizeof name, "loop%d.dat", l);
-        if (r->loop_lg[l])
-            fprintf(s, ", '%s' using 1:3 with lines ls %d notitle", plot_path(job, name), 2 + (l % 3));
-    }
-    fputs("\nunset multiplot\n", s);
-    return plot_finish(job, fo->keep_dir, err);
-}
-
-/* ---- pole-zero map -------------------------------------------------------- */
+/* ---- roots in the s-plane ------------------------------------------------ */
 
 /* Signed logarithmic scale so that poles six or more decades apart stay
  * readable: u = sign(v) log10(1 + |v| / 1 Hz). */
@@ -188,7 +61,7 @@ static void slog_tics(FILE *s, const char *axis, double maxabs)
     fputs(")\n", s);
 }
 
-int figure_polemap(const figure_opts *fo, const desc *d, const check_result *r, lw_error *err)
+int figure_roots(const figure_opts *fo, const desc *d, const check_result *r, lw_error *err)
 {
     plot_job *job;
     int rc = plot_begin(fo->path, fo->width, fo->height, &job, err);
@@ -201,19 +74,24 @@ int figure_polemap(const figure_opts *fo, const desc *d, const check_result *r, 
     }
     const lg_tf *tf = &r->tf;
     double maxabs = 1;
-    fputs("# u_re u_im kind(0 open-loop pole, 1 zero, 2 closed-loop pole)\n", f);
+    int rhp_zero = 0, lhp_zero = 0;
+    fputs("# u_re u_im kind(0 open-loop pole, 1 zero, 2 right-half-plane zero, "
+          "3 closed-loop pole)\n", f);
     for (int k = 0; k < tf->npoles + tf->nzeros + r->ncl; k++) {
         double complex v = k < tf->npoles ? tf->poles[k]
                            : k < tf->npoles + tf->nzeros ? tf->zeros[k - tf->npoles]
                                                          : r->cl[k - tf->npoles - tf->nzeros];
-        int kind = k < tf->npoles ? 0 : (k < tf->npoles + tf->nzeros ? 1 : 2);
+        int kind = k < tf->npoles ? 0 : (k < tf->npoles + tf->nzeros ? 1 : 3);
+        if (kind == 1 && creal(v) > 0)
+            kind = 2, rhp_zero = 1;
+        lhp_zero |= kind == 1;
         double complex h = root_hz(v);
         maxabs = fmax(maxabs, fmax(fabs(creal(h)), fabs(cimag(h))));
         fprintf(f, "%.10g %.10g %d\n", slog(creal(h)), slog(cimag(h)), kind);
     }
     FILE *s = plot_script(job);
-    style(s);
-    title(s, "Poles and zeros", d, NULL);
+    figure_style(s);
+    figure_title(s, "Roots of the loop", d, r->stable ? NULL : "the closed loop is UNSTABLE");
     /* labels of neighbouring poles are staggered in height so they stay legible */
     for (int k = 0, n = 0; k < tf->npoles; k++) {
         int o = tf->owner ? tf->owner[k] : -1;
@@ -234,115 +112,152 @@ int figure_polemap(const figure_opts *fo, const desc *d, const check_result *r, 
     slog_tics(s, "y", maxabs);
     fputs("set xlabel 'real part (Hz), signed log scale: sign(x) log10(1 + |x|/1 Hz)'\n"
           "set ylabel 'imaginary part (Hz), signed log scale'\n", s);
-    fprintf(s, "set arrow from 0, graph 0 to 0, graph 1 nohead lc rgb '%s' dt 2\n"
-            "set arrow from graph 0, first 0 to graph 1, first 0 nohead lc rgb '%s' dt 2\n",
+    /* the right half-plane, where a closed-loop pole means an unstable loop */
+    fprintf(s, "set object rect from 0, graph 0 to graph 1, graph 1 fc rgb '%s' fs solid 0.55 "
+            "noborder behind\nset label 'right half-plane' at graph 0.98, graph 0.03 right "
+            "tc rgb '%s'\n", FIG_UNSTABLE_FILL, PLOT_ACCENT);
+    fprintf(s, "set arrow from 0, graph 0 to 0, graph 1 nohead lc rgb '%s' lw 1.2\n"
+            "set arrow from graph 0, first 0 to graph 1, first 0 nohead lc rgb '%s' lw 1.2\n",
             PLOT_MUTED, PLOT_MUTED);
-    fprintf(s, "plot '%s' using 1:($3==0 ? $2 : 1/0) with points pt 2 ps 2 lw 2 lc rgb '%s' "
-            "title 'open-loop pole', '' using 1:($3==1 ? $2 : 1/0) with points pt 6 ps 2 lw 2 "
-            "lc rgb '%s' title 'zero of T', '' using 1:($3==2 ? $2 : 1/0) with points pt 5 ps 1.4 "
-            "lc rgb '%s' title 'closed-loop pole'\n", plot_path(job, "roots.dat"), PLOT_INK,
-            PLOT_ACCENT, PLOT_EXTRA);
-    return plot_finish(job, fo->keep_dir, err);
-}
-
-/* ---- margin against a value ------------------------------------------------ */
-
-int figure_margin(const figure_opts *fo, const desc *d, const char *what, const char *unit,
-                  const sweep_result *sw, design_goal g, int lin, lw_error *err)
-{
-    plot_job *job;
-    int rc = plot_begin(fo->path, fo->width, fo->height, &job, err);
-    if (rc)
-        return rc;
-    FILE *f = plot_data(job, "margin.dat", err);
-    if (!f) {
-        plot_abort(job);
-        return LW_ENUMERIC;
-    }
-    fputs("# value phase_margin_deg crossover_hz\n", f);
-    for (int k = 0; k < sw->npts; k++) {
-        const design_point *p = &sw->pts[k];
-        fprintf(f, "%.10g ", p->value);
-        if (isnan(p->pm_deg))
-            fputs("? ?\n", f);
-        else
-            fprintf(f, "%.10g %.10g\n", p->pm_deg, p->crossover_hz);
-    }
-    FILE *s = plot_script(job);
-    char extra[200], a[32];
-    snprintf(extra, sizeof extra, "varying %s", what);
-    style(s);
-    title(s, "Phase margin", d, extra);
-    fputs("set datafile missing '?'\n", s);
-    if (sw->npts > 1)
-        fprintf(s, "set xrange [%.10g:%.10g]\n", sw->pts[0].value, sw->pts[sw->npts - 1].value);
-    if (!lin)
-        fputs("set logscale x\n", s);
-    fputs("set format x '%.0s%c'\nset logscale y2\nset format y2 '%.0s%cHz'\nset ytics nomirror\n"
-          "set y2tics\n", s);
-    fputs("set xlabel ", s);
-    char xl[160];
-    snprintf(xl, sizeof xl, "%s (%s)", what,
-             !*unit ? "value" : !strcmp(unit, "\xCE\xA9") ? "ohm" : unit);
-    plot_quote(s, xl);
-    fputs(" noenhanced\nset ylabel 'phase margin (degrees)'\nset y2label 'crossover (Hz)'\n", s);
-    for (int k = 0; k < sw->ncross; k++) {
-        fprintf(s, "set arrow from %.10g, graph 0 to %.10g, graph 1 nohead lc rgb '%s' dt 3\n",
-                sw->cross[k].value, sw->cross[k].value, PLOT_ACCENT);
-        fprintf(s, "set label '%s %s' at %.10g, graph %.2f offset 0.5,0 tc rgb '%s' noenhanced\n",
-                sw->cross[k].rises ? "rises through target at" : "falls through target at",
-                si_format(sw->cross[k].value, unit, a, sizeof a), sw->cross[k].value,
-                0.08 + 0.07 * k, PLOT_ACCENT);
-    }
-    fprintf(s, "plot '%s' using 1:2 axes x1y1 with linespoints ls 1 pt 7 ps 0.6 title 'phase margin', "
-            "'' using 1:3 axes x1y2 with lines ls 2 title 'crossover', %.10g axes x1y1 with lines "
-            "ls 3 title 'target %.4g\xC2\xB0'\n", plot_path(job, "margin.dat"), g.pm_deg, g.pm_deg);
+    fputs("set key top left\n", s);
+    const char *path = plot_path(job, "roots.dat");
+    fprintf(s, "plot '%s' using 1:($3==0 ? $2 : 1/0) with points pt %d ps 2 lw 2 lc rgb '%s' "
+            "title 'pole of T (open loop)'", path, FIG_PT_POLE, PLOT_INK);
+    if (lhp_zero)
+        fprintf(s, ", '' using 1:($3==1 ? $2 : 1/0) with points pt %d ps 2 lw 2 lc rgb '%s' "
+                "title 'zero of T, left half-plane'", FIG_PT_ZERO, PLOT_ACCENT);
+    if (rhp_zero)
+        fprintf(s, ", '' using 1:($3==2 ? $2 : 1/0) with points pt %d ps 2 lw 2 lc rgb '%s' "
+                "title 'zero of T, right half-plane (adds lag)'", FIG_PT_RHP_ZERO, PLOT_ACCENT);
+    fprintf(s, ", '' using 1:($3==3 ? $2 : 1/0) with points pt %d ps 1.4 lc rgb '%s' "
+            "title 'closed-loop pole'\n", FIG_PT_CL_POLE, PLOT_EXTRA);
     return plot_finish(job, fo->keep_dir, err);
 }
 
 /* ---- Monte Carlo histogram ------------------------------------------------- */
 
-int figure_histogram(const figure_opts *fo, const desc *d, const double *pm, int n,
-                     design_goal g, lw_error *err)
+enum { HIST_BINS = 60 };
+
+/* The text beside the histogram: the yield, the --yield verdict, and the
+ * operating point (the --set values, user text: quoted). */
+static void histogram_notes(FILE *s, const mc_result *mc, const char *const *sets, int nsets,
+                            design_goal g, double yield_target, double x, const char *align)
 {
+    double y = 0.93, dy = 0.045;
+    int unstable = 0, nocross = 0;
+    for (int i = 0; i < mc->nsamples; i++) {
+        unstable += mc->valid[i] && !mc->pts[i].stable;
+        nocross += mc->valid[i] && isnan(mc->pts[i].pm_deg);
+    }
+    fprintf(s, "set label \"yield %.2f%%: %d of %d samples pass\" at graph %.3f, graph %.3f %s "
+            "boxed tc rgb '%s' front\n", 100 * mc->yield, mc->passes, mc->nsamples, x, y, align,
+            PLOT_INK);
+    y -= dy;
+    fprintf(s, "set label \"one-sided 95%% lower bound %.2f%%\" at graph %.3f, graph %.3f %s "
+            "boxed tc rgb '%s' front\n", 100 * mc->lower95, x, y, align, PLOT_INK);
+    y -= dy;
+    if (!isnan(yield_target)) {
+        fprintf(s, "set label \"yield target %.4g%%: %s\" at graph %.3f, graph %.3f %s "
+                "boxed tc rgb '%s' front\n", 100 * yield_target,
+                mc->lower95 >= yield_target ? "met" : "MISSED", x, y, align, PLOT_ACCENT);
+        y -= dy;
+    }
+    if (!isnan(g.gm_db)) {
+        fprintf(s, "set label \"pass also needs gain margin %.4g dB\" at graph %.3f, graph %.3f "
+                "%s boxed tc rgb '%s' front\n", g.gm_db, x, y, align, PLOT_INK);
+        y -= dy;
+    }
+    if (unstable || nocross) {
+        fprintf(s, "set label \"failures: %d unstable, %d without a crossover (not drawn)\" at "
+                "graph %.3f, graph %.3f %s boxed tc rgb '%s' front\n", unstable, nocross, x, y, align,
+                PLOT_ACCENT);
+        y -= dy;
+    }
+    fprintf(s, "set label \"shaded: below the %s, these samples fail\" at graph %.3f, graph %.3f %s "
+            "boxed tc rgb '%s' front\n", design_goal_word(g), x, y, align, PLOT_INK);
+    y -= dy;
+    fprintf(s, "set label \"operating point:%s\" at graph %.3f, graph %.3f %s boxed tc rgb '%s' front\n",
+            nsets ? "" : " the file's own values", x, y, align, PLOT_INK);
+    for (int k = 0; k < nsets && k < 6; k++) {
+        y -= dy;
+        char line[300];
+        snprintf(line, sizeof line, "  --set %s%s", sets[k], k == 5 && nsets > 6 ? " ..." : "");
+        fputs("set label ", s);
+        plot_quote(s, line);
+        fprintf(s, " at graph %.3f, graph %.3f %s noenhanced boxed tc rgb '%s' front\n", x, y, align,
+                PLOT_INK);
+    }
+}
+
+int figure_histogram(const figure_opts *fo, const desc *d, const mc_result *mc,
+                     const check_result *nominal, const char *const *sets, int nsets,
+                     design_goal g, double yield_target, lw_error *err)
+{
+    double lo = INFINITY, hi = -INFINITY, sum = 0;
+    int n = 0;
+    for (int i = 0; i < mc->nsamples; i++)
+        if (mc->valid[i] && !isnan(mc->pts[i].pm_deg)) {
+            lo = fmin(lo, mc->pts[i].pm_deg);
+            hi = fmax(hi, mc->pts[i].pm_deg);
+            sum += mc->pts[i].pm_deg;
+            n++;
+        }
+    double op = nominal && nominal->mg.best_cross >= 0
+                    ? nominal->mg.cross[nominal->mg.best_cross].value : NAN;
     plot_job *job;
     int rc = plot_begin(fo->path, fo->width, fo->height, &job, err);
     if (rc)
         return rc;
-    double lo = INFINITY, hi = -INFINITY;
-    for (int k = 0; k < n; k++) {
-        lo = fmin(lo, pm[k]);
-        hi = fmax(hi, pm[k]);
-    }
-    /* bins over the data; the axis also reaches the target */
-    double xlo = fmin(lo, g.pm_deg), xhi = fmax(hi, g.pm_deg), pad = 0.03 * (xhi - xlo + 1e-9);
-    int nb = 60;
-    double w = hi > lo ? (hi - lo) / nb : 1.0;
-    int counts[61] = { 0 };
-    for (int k = 0; k < n; k++) {
-        int b = (int)((pm[k] - lo) / w);
-        counts[b < 0 ? 0 : (b > nb ? nb : b)]++;
-    }
     FILE *f = plot_data(job, "hist.dat", err);
     if (!f) {
         plot_abort(job);
         return LW_ENUMERIC;
     }
-    for (int b = 0; b <= nb; b++)
+    /* bins over the data; the axis also reaches the goal and the operating point */
+    double w = n && hi > lo ? (hi - lo) / HIST_BINS : 1.0;
+    int counts[HIST_BINS + 1] = { 0 };
+    for (int i = 0; i < mc->nsamples; i++)
+        if (mc->valid[i] && !isnan(mc->pts[i].pm_deg)) {
+            int b = (int)((mc->pts[i].pm_deg - lo) / w);
+            counts[b < 0 ? 0 : (b > HIST_BINS ? HIST_BINS : b)]++;
+        }
+    for (int b = 0; n && b <= HIST_BINS; b++)
         fprintf(f, "%.10g %d\n", lo + (b + 0.5) * w, counts[b]);
+    fputs("0 0\n", f); /* never empty */
+    double xlo = fmin(n ? lo : g.pm_deg, g.pm_deg), xhi = fmax(n ? hi : g.pm_deg, g.pm_deg);
+    if (!isnan(op))
+        xlo = fmin(xlo, op), xhi = fmax(xhi, op);
+    double pad = 0.06 * (xhi - xlo) + 0.5;
+    xlo -= pad;
+    xhi += pad;
     FILE *s = plot_script(job);
     char extra[64];
-    snprintf(extra, sizeof extra, "%d samples", n);
-    style(s);
-    title(s, "Phase margin spread", d, extra);
-    fprintf(s, "set xrange [%.10g:%.10g]\n", xlo - pad, xhi + pad);
-    fprintf(s, "set xlabel 'phase margin (degrees)'\nset ylabel 'samples'\nset boxwidth %.10g\n"
-            "set style fill solid 0.55 border lc rgb '%s'\nset yrange [0:*]\n"
-            "set arrow from %.10g, graph 0 to %.10g, graph 1 nohead lc rgb '%s' lw 2 dt 2\n"
-            "set label 'target %.4g\xC2\xB0' at %.10g, graph 0.95 %s tc rgb '%s'\n",
-            w * 0.9, PLOT_INK, g.pm_deg, g.pm_deg, PLOT_ACCENT, g.pm_deg, g.pm_deg,
-            g.pm_deg > hi ? "right offset -0.5,0" : "left offset 0.5,0", PLOT_ACCENT);
-    fprintf(s, "set key top left\nplot '%s' using 1:2 with boxes lc rgb '%s' title 'samples per bin'\n",
+    snprintf(extra, sizeof extra, "%d samples", mc->nsamples);
+    figure_style(s);
+    fputs("set style textbox opaque noborder margins 1,1\n", s);
+    figure_title(s, "Phase margin spread", d, extra);
+    /* the samples below the goal fail: that side is shaded */
+    fprintf(s, "set xrange [%.10g:%.10g]\nset yrange [0:*]\nset offsets 0, 0, graph 0.45, 0\n"
+            "set xlabel 'phase margin (degrees)'\nset ylabel 'samples'\nset boxwidth %.10g\n"
+            "set style fill solid 0.55 border lc rgb '%s'\n", xlo, xhi, w * 0.9, PLOT_INK);
+    if (g.pm_deg > xlo)
+        fprintf(s, "set object rect from graph 0, graph 0 to first %.10g, graph 1 fc rgb '%s' "
+                "fs solid 0.6 noborder behind\n", g.pm_deg, FIG_UNSTABLE_FILL);
+    fprintf(s, "set arrow from %.10g, graph 0 to %.10g, graph 1 nohead lc rgb '%s' lw 2 dt 2\n"
+            "set label '%s %.4g\xC2\xB0' at %.10g, graph 0.03 %s tc rgb '%s'\n", g.pm_deg, g.pm_deg,
+            PLOT_ACCENT, design_goal_word(g), g.pm_deg, g.pm_deg,
+            g.pm_deg > 0.5 * (xlo + xhi) ? "right offset -0.5,0" : "left offset 0.5,0", PLOT_ACCENT);
+    /* the operating point: the analysis with the --set values and no spread */
+    if (!isnan(op))
+        fprintf(s, "set arrow from %.10g, graph 0 to %.10g, graph 0.72 nohead lc rgb '%s' lw 2 "
+                "front\nset label 'operating point %.1f\xC2\xB0' at %.10g, graph 0.74 center "
+                "boxed tc rgb '%s' front\n", op, op, PLOT_EXTRA, op, op, PLOT_EXTRA);
+    /* the notes go on the side away from most samples */
+    double mean = n ? sum / n : g.pm_deg;
+    int right = (mean - xlo) / (xhi - xlo) < 0.5;
+    histogram_notes(s, mc, sets, nsets, g, yield_target, right ? 0.98 : 0.02,
+                    right ? "right" : "left");
+    fprintf(s, "set key off\nplot '%s' using 1:2 with boxes lc rgb '%s' notitle\n",
             plot_path(job, "hist.dat"), PLOT_INK);
     return plot_finish(job, fo->keep_dir, err);
 }

@@ -14,7 +14,7 @@
 #include "loopwise/outfile.h"
 #include "loopwise/report.h"
 
-#define LOOPWISE_VERSION "0.1.0"
+#define LOOPWISE_VERSION "0.2.0"
 
 static const char usage_text[] =
     "usage: loopwise COMMAND FILE [options]      (FILE may be - for standard input)\n"
@@ -22,38 +22,46 @@ static const char usage_text[] =
     "commands:\n"
     "  check   declared loops and their signs, DC loop gain, crossovers, phase and gain\n"
     "          margin, open-loop poles with owner nodes, zeros, closed-loop poles, verdict\n"
-    "  bode    magnitude and phase of the loop gain over the band (table, --csv, --json)\n"
+    "  gain    magnitude and phase of the loop gain over the band (table, --csv, --json)\n"
     "  size    --tune NAME --pm DEG [--within LO..HI] [--gm DB] [--density D]\n"
     "          the smallest value of NAME that meets the target margin\n"
     "  sweep   --vary NAME --from A --to B [--points N] [--lin] [--csv PATH]\n"
     "          margins and poles as one value changes, and where the margin crosses --pm\n"
     "  load    --node N --cload LO..HI: whether N is inside the loop, the margin over\n"
-    "          the load range and the largest load that still meets the target\n"
-    "  polemap -o FILE: the s-plane picture of poles, zeros and closed-loop poles\n"
-    "  corners  the margin at every combination of the params' corner ranges\n"
-    "  montecarlo --samples N --seed S: margin distributions and yield under the params'\n"
-    "          distributions; -o draws the phase-margin histogram\n"
+    "          the added load and the largest load that still meets the target\n"
+    "  roots   -o FILE: the s-plane picture of poles, zeros and closed-loop poles\n"
+    "  corners the margin at every combination of the params' corner ranges\n"
+    "  montecarlo --samples N --seed S [--yield P]: margin distributions and yield under\n"
+    "          the params' distributions; -o draws the phase-margin histogram\n"
+    "          (corners, montecarlo: a --set pins a param; it is neither combined nor drawn)\n"
     "\n"
     "options:\n"
     "  --set NAME=EXPR   override a param, an element value, or NODE.r / NODE.c (repeatable)\n"
-    "  --pm DEG          target phase margin (default 60; when given, a miss exits with 1)\n"
+    "  --pm DEG          target phase margin; without it, 60 is the reference the text\n"
+    "                    measures against, never a reason to exit 1\n"
     "  --fmin F, --fmax F  analysis band in Hz (default: from the poles and zeros)\n"
     "  --json            machine-readable output on standard output\n"
-    "  --csv PATH        bode, sweep: also write CSV to PATH (PATH may be -)\n"
-    "  --points N        bode: frequencies (default 121); sweep: values (default 25)\n"
+    "  --csv PATH        gain, sweep: also write CSV to PATH (PATH may be -)\n"
+    "  --points N        gain: frequencies (default 121); sweep: values (default 25)\n"
     "  --lin             sweep: linear spacing instead of logarithmic\n"
     "  --within LO..HI   size: the range searched (default: value/100 .. value*100)\n"
-    "  --gm DB           size: also require this gain margin\n"
+    "  --gm DB           target gain margin (every command; a loop whose phase never\n"
+    "                    reaches -180 has an unbounded gain margin and meets it)\n"
+    "  --yield P         montecarlo: the one-sided 95% lower bound of the yield must\n"
+    "                    reach P (0.99 or 99%)\n"
     "  --density D       size: capacitance per area, e.g. 2fF/um2, to report the area\n"
-    "  -o PATH           bode, polemap, sweep, load: draw a plot (PATH ends in .png or .svg)\n"
-    "  --each            bode -o: overlay each declared loop's own gain\n"
+    "  -o PATH           gain, roots, sweep, load, montecarlo: draw a picture\n"
+    "                    (PATH ends in .png or .svg)\n"
+    "  --each            gain -o: overlay each declared loop's own gain\n"
     "  --size WxH        plot size in pixels (default 960x720)\n"
     "  --keep-script DIR leave the plot's data and gnuplot script in DIR\n"
     "  -h, --help        this help;  --version  the version\n"
     "\n"
     "Numbers take SI prefixes and units as in the file: 2.2pF, 180k, 1e3k, 40uS.\n"
-    "Exit codes: 0 done and targets met, 1 target missed or unstable, 2 bad input,\n"
-    "3 numerical failure.\n";
+    "Exit codes: 0 done, every target given met; 1 a target given (--pm, --gm,\n"
+    "--yield) is missed or the loop is unstable where the command looked (size: no\n"
+    "value meets the target; montecarlo: only --yield counts); 2 bad usage or input,\n"
+    "nothing computed; 3 numerical failure, or gnuplot missing.\n";
 
 
 
@@ -91,7 +99,7 @@ static int parse_options(int argc, char **argv, options *o)
         const char *val = k + 1 < argc ? argv[k + 1] : NULL;
         static const char *const with_value[] = { "--set", "--pm", "--fmin", "--fmax", "--csv",
             "--points", "--tune", "--within", "--vary", "--from", "--to", "--node", "--cload",
-            "--density", "--gm", "-o", "--size", "--keep-script", "--samples", "--seed" };
+            "--density", "--gm", "-o", "--size", "--keep-script", "--samples", "--seed", "--yield" };
         int takes = 0;
         for (size_t j = 0; j < sizeof with_value / sizeof *with_value; j++)
             takes |= !strcmp(a, with_value[j]);
@@ -117,7 +125,7 @@ static int parse_options(int argc, char **argv, options *o)
             double v;
             if (option_number(a, val, UNIT_NONE, &v))
                 return 2;
-            if (v < 2 || v > MAX_BODE_POINTS || v != floor(v))
+            if (v < 2 || v > MAX_GAIN_POINTS || v != floor(v))
                 return usage_error("--points takes a whole number from 2 to 100000, got '%s'", val);
             o->points = (int)v;
         } else if (!strcmp(a, "--gm")) {
@@ -163,6 +171,24 @@ static int parse_options(int argc, char **argv, options *o)
                 o->seed = (unsigned long long)v;
                 o->seed_given = 1;
             }
+        } else if (!strcmp(a, "--yield")) {
+            /* a fraction (0.99) or a percentage (99%) */
+            char num[64];
+            size_t l = strlen(val);
+            int pct = l > 0 && val[l - 1] == '%';
+            double v;
+            if (l - (size_t)pct >= sizeof num)
+                return usage_error("--yield '%s': too long", val);
+            memcpy(num, val, l - (size_t)pct);
+            num[l - (size_t)pct] = '\0';
+            if (option_number(a, num, UNIT_NONE, &v))
+                return 2;
+            v = pct ? v / 100.0 : v;
+            if (!(v > 0 && v < 1))
+                return usage_error("--yield takes a fraction between 0 and 1 (0.99) or a "
+                                   "percentage below 100%% (99%%), got '%s'", val);
+            o->yield = v;
+            o->yield_given = 1;
         } else if (!strcmp(a, "--each")) {
             o->each = 1;
         } else if (!strcmp(a, "--lin")) {
@@ -182,22 +208,32 @@ static int parse_options(int argc, char **argv, options *o)
     }
     if (!o->command)
         return usage_error("%s", "missing COMMAND");
-    static const char *const commands[] = { "check", "bode", "size", "sweep", "load", "polemap",
+    static const char *const commands[] = { "check", "gain", "size", "sweep", "load", "roots",
                                             "corners", "montecarlo" };
     int known = 0;
     for (size_t j = 0; j < sizeof commands / sizeof *commands; j++)
         known |= !strcmp(o->command, commands[j]);
+    /* the names before issue 17 are refused, not aliased: a script that
+     * still uses one should fail loudly and say what to write instead */
+    if (!strcmp(o->command, "bode"))
+        return usage_error("%s", "the command 'bode' is now called 'gain' (renamed in "
+                           "version 0.2; see the README, history of interface changes)");
+    if (!strcmp(o->command, "polemap"))
+        return usage_error("%s", "the command 'polemap' is now called 'roots' (renamed in "
+                           "version 0.2; see the README, history of interface changes)");
     if (!known)
-        return usage_error("unknown command '%s'; expected check, bode, size, sweep, load, "
-                           "polemap, corners or montecarlo", o->command);
+        return usage_error("unknown command '%s'; expected check, gain, size, sweep, load, "
+                           "roots, corners or montecarlo", o->command);
     if (!o->file)
         return usage_error("missing FILE after '%s'", o->command);
-    if (o->csv && strcmp(o->command, "bode") && strcmp(o->command, "sweep"))
-        return usage_error("--csv goes with 'bode' or 'sweep', not '%s'", o->command);
+    if (o->csv && strcmp(o->command, "gain") && strcmp(o->command, "sweep"))
+        return usage_error("--csv goes with 'gain' or 'sweep', not '%s'", o->command);
     if (o->plot && (!strcmp(o->command, "check") || !strcmp(o->command, "size") ||
                     !strcmp(o->command, "corners")))
-        return usage_error("-o draws a picture with bode, polemap, sweep, load or montecarlo, "
+        return usage_error("-o draws a picture with gain, roots, sweep, load or montecarlo, "
                            "not '%s'", o->command);
+    if (o->yield_given && strcmp(o->command, "montecarlo"))
+        return usage_error("--yield goes with 'montecarlo', not '%s'", o->command);
     if (!strcmp(o->command, "montecarlo") && o->samples < 1)
         return usage_error("%s", "montecarlo needs --samples N (1 or more) and --seed S");
     if (o->plot) {
@@ -205,10 +241,10 @@ static int parse_options(int argc, char **argv, options *o)
         if (!dot || (strcmp(dot, ".png") && strcmp(dot, ".svg")))
             return usage_error("-o '%s': the plot file must end in .png or .svg", o->plot);
     }
-    if (!strcmp(o->command, "polemap") && !o->plot)
-        return usage_error("%s", "polemap draws a picture: give -o FILE.png or FILE.svg");
-    if (o->each && strcmp(o->command, "bode"))
-        return usage_error("%s", "--each goes with 'bode -o'");
+    if (!strcmp(o->command, "roots") && !o->plot)
+        return usage_error("%s", "roots draws a picture: give -o FILE.png or FILE.svg");
+    if (o->each && strcmp(o->command, "gain"))
+        return usage_error("%s", "--each goes with 'gain -o'");
     if (o->keep_script && !o->plot)
         return usage_error("%s", "--keep-script goes with -o");
     if (!strcmp(o->command, "size") && !o->tune)
@@ -240,7 +276,7 @@ static int load(const options *o, text_file **t, desc **d, model **m, lw_error *
     return rc;
 }
 
-static int run_bode(const options *o, const desc *d, const check_result *r, lw_error *err)
+static int run_gain(const options *o, const desc *d, const check_result *r, lw_error *err)
 {
     /* the table is read far from the crossover too, where the reduced form
      * loses digits when the poles span many decades: take the LU path for
@@ -253,13 +289,13 @@ static int run_bode(const options *o, const desc *d, const check_result *r, lw_e
         int rc = outfile_open(o->csv, &of, err);
         if (rc)
             return rc;
-        report_bode(of->f, d, r, npoints, BODE_CSV);
+        report_gain(of->f, d, r, npoints, GAIN_CSV);
         if ((rc = outfile_commit(of, err)))
             return rc;
         if (!strcmp(o->csv, "-"))
             return LW_OK;
     }
-    report_bode(stdout, d, r, npoints, o->json ? BODE_JSON : BODE_TEXT);
+    report_gain(stdout, d, r, npoints, o->json ? GAIN_JSON : GAIN_TEXT);
     return LW_OK;
 }
 
@@ -302,7 +338,7 @@ int main(int argc, char **argv)
              : !strcmp(o.command, "sweep") ? cmd_sweep(&o, d, &code, &err)
              : !strcmp(o.command, "load") ? cmd_load(&o, d, &code, &err)
              : !strcmp(o.command, "corners") ? cmd_corners(&o, d, &code, &err)
-                                             : cmd_montecarlo(&o, d, t, &code, &err);
+                                             : cmd_montecarlo(&o, d, t, &r, &code, &err);
         if (rc == LW_ENUMERIC && err.msg[0] && o.plot) {
             /* the analysis printed; only the picture failed */
             lw_error_print(&err, o.file, stderr);
@@ -316,7 +352,7 @@ int main(int argc, char **argv)
         goto done;
     }
     check_warn_gm_cycles(d, stderr);
-    report_target tg = { o.pm, o.pm_given };
+    report_target tg = { o.pm, o.pm_given, o.gm, o.gm_given };
     if (design) {
         /* output written by the command */
     } else if (!strcmp(o.command, "check")) {
@@ -325,11 +361,15 @@ int main(int argc, char **argv)
         else
             report_check_text(stdout, d, m, &r, tg);
         code = report_check_status(&r, tg);
-    } else if (!strcmp(o.command, "polemap")) {
-        rc = cmd_polemap(&o, d, &r, &err);
-    } else if (!(rc = run_bode(&o, d, &r, &err)) && o.plot) {
-        figure_opts fo = { o.plot, o.width, o.height, o.keep_script };
-        rc = figure_bode(&fo, d, m, &r, o.each, &err);
+    } else if (!strcmp(o.command, "roots")) {
+        rc = cmd_roots(&o, d, &r, &err);
+        code = report_check_status(&r, tg);
+    } else {
+        if (!(rc = run_gain(&o, d, &r, &err)) && o.plot) {
+            figure_opts fo = { o.plot, o.width, o.height, o.keep_script };
+            rc = figure_bode(&fo, d, m, &r, o.each, &err);
+        }
+        code = report_check_status(&r, tg);
     }
     if (rc) {
         lw_error_print(&err, o.file, stderr);

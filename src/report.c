@@ -1,4 +1,4 @@
-/* report: the text report of 'check' and the tables of 'bode'. */
+/* report: the text report of 'check' and the tables of 'gain'. */
 #include "loopwise/report.h"
 
 #include <math.h>
@@ -19,6 +19,8 @@ int report_check_status(const check_result *r, report_target t)
     if (!r->stable)
         return 1;
     if (t.given && (r->mg.best_cross < 0 || r->mg.cross[r->mg.best_cross].value < t.pm_deg))
+        return 1;
+    if (t.gm_given && r->mg.best_phase >= 0 && r->mg.phase[r->mg.best_phase].value < t.gm_db)
         return 1;
     return 0;
 }
@@ -130,10 +132,11 @@ static void section_gain(FILE *f, const desc *d, const model *m, const check_res
                 si_format(mg->cross[k].hz, "Hz", a, sizeof a), mg->cross[k].value,
                 mg->ncross > 1 && k == mg->best_cross ? "  (smallest)" : "");
     if (mg->nphase == 0)
-        fprintf(f, "  gain margin     undefined: the phase never reaches -180\xC2\xB0 (mod 360\xC2\xB0) "
+        fprintf(f, "  gain margin     unbounded: the phase never reaches -180\xC2\xB0 (mod 360\xC2\xB0) "
                 "in the band\n");
     else
-        fprintf(f, "  gain margin     %.2f dB at %s\n", mg->phase[mg->best_phase].value,
+        fprintf(f, "  gain margin     %.2f dB, where the phase reaches -180\xC2\xB0 (%s)\n",
+                mg->phase[mg->best_phase].value,
                 si_format(mg->phase[mg->best_phase].hz, "Hz", a, sizeof a));
     fprintf(f, "  band            %s to %s\n", si_format(mg->fmin_hz, "Hz", a, sizeof a),
             si_format(mg->fmax_hz, "Hz", b, sizeof b));
@@ -218,6 +221,7 @@ static void verdict(FILE *f, const check_result *r, report_target t)
 {
     const margins *mg = &r->mg;
     double pm = mg->best_cross >= 0 ? mg->cross[mg->best_cross].value : NAN;
+    const char *word = t.given ? "target" : "reference";
     int rhp = 0;
     for (int k = 0; k < r->ncl; k++)
         rhp += creal(r->cl[k]) > 0;
@@ -229,13 +233,20 @@ static void verdict(FILE *f, const check_result *r, report_target t)
                 rhp == 1 ? "" : "s");
     else if (isnan(pm))
         fprintf(f, "Verdict: stable; no crossover, so no phase margin to compare with the "
-                "%.4g\xC2\xB0 target.\n", t.pm_deg);
+                "%.4g\xC2\xB0 %s.\n", t.pm_deg, word);
     else if (pm >= t.pm_deg)
-        fprintf(f, "Verdict: stable; phase margin %.1f\xC2\xB0 meets the %.4g\xC2\xB0 target.\n",
-                pm, t.pm_deg);
+        fprintf(f, "Verdict: stable; phase margin %.1f\xC2\xB0 meets the %.4g\xC2\xB0 %s.\n",
+                pm, t.pm_deg, word);
     else
         fprintf(f, "Verdict: stable, but the phase margin %.1f\xC2\xB0 is below the %.4g\xC2\xB0 "
-                "target.\n", pm, t.pm_deg);
+                "%s%s.\n", pm, t.pm_deg, word, t.given ? "" : " (give --pm to make it a target)");
+    if (t.gm_given && mg->best_phase < 0)
+        fprintf(f, "Gain margin target %.4g dB: met; the gain margin is unbounded (the phase "
+                "never reaches -180\xC2\xB0).\n", t.gm_db);
+    else if (t.gm_given)
+        fprintf(f, "Gain margin target %.4g dB: %s; the gain margin is %.2f dB.\n", t.gm_db,
+                mg->phase[mg->best_phase].value >= t.gm_db ? "met" : "MISSED",
+                mg->phase[mg->best_phase].value);
     if (r->stable && !isnan(pm) && pm < 0)
         fprintf(f, "Note: the closed loop is stable although the phase margin is negative: "
                 "the loop is conditionally stable; check the margin over gain changes.\n");
@@ -287,14 +298,14 @@ void report_check_text(FILE *f, const desc *d, const model *m, const check_resul
     verdict(f, r, t);
 }
 
-int report_bode(FILE *f, const desc *d, const check_result *r, int npoints, bode_format fmt)
+int report_gain(FILE *f, const desc *d, const check_result *r, int npoints, gain_format fmt)
 {
     double lo = log10(r->mg.fmin_hz), hi = log10(r->mg.fmax_hz);
     char a[32];
-    if (fmt == BODE_TEXT)
-        fprintf(f, "loopwise bode: %s\n  %-14s %12s %12s\n", d->path, "frequency", "|T| (dB)",
+    if (fmt == GAIN_TEXT)
+        fprintf(f, "loopwise gain: %s\n  %-14s %12s %12s\n", d->path, "frequency", "|T| (dB)",
                 "phase (\xC2\xB0)");
-    else if (fmt == BODE_CSV)
+    else if (fmt == GAIN_CSV)
         fputs("freq_hz,mag_db,phase_deg\n", f);
     else
         fputs("{\"points\": [", f);
@@ -302,9 +313,9 @@ int report_bode(FILE *f, const desc *d, const check_result *r, int npoints, bode
         double hz = pow(10.0, npoints > 1 ? lo + (hi - lo) * k / (npoints - 1) : lo), mag;
         double ph = margin_phase(r->lg, &r->tf, hz, &mag, NULL);
         double db = 20.0 * log10(mag);
-        if (fmt == BODE_TEXT)
+        if (fmt == GAIN_TEXT)
             fprintf(f, "  %-14s %12.3f %12.3f\n", si_format(hz, "Hz", a, sizeof a), db, ph);
-        else if (fmt == BODE_CSV)
+        else if (fmt == GAIN_CSV)
             fprintf(f, "%.17g,%.17g,%.17g\n", hz, isfinite(db) ? db : -HUGE_VAL, ph);
         else {
             fprintf(f, "%s\n  {\"hz\": ", k ? "," : "");
@@ -316,7 +327,7 @@ int report_bode(FILE *f, const desc *d, const check_result *r, int npoints, bode
             fputc('}', f);
         }
     }
-    if (fmt == BODE_JSON)
+    if (fmt == GAIN_JSON)
         fputs("]}\n", f);
     return LW_OK;
 }

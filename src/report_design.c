@@ -8,14 +8,50 @@
 
 #define TWO_PI 6.283185307179586
 
-const char *report_unit_symbol(const desc *d, desc_target t)
+void report_shell_word(FILE *f, const char *w)
 {
-    switch (desc_target_unit(d, t)) {
+    size_t n = strlen(w);
+    if (n && strspn(w, "abcdefghijklmnopqrstuvwxyzABCDEFGHIJKLMNOPQRSTUVWXYZ0123456789"
+                       "_./:=+,@%-") == n) {
+        fputs(w, f);
+        return;
+    }
+    fputc('\'', f);
+    for (; *w; w++) {
+        if (*w == '\'')
+            fputs("'\\''", f);
+        else
+            fputc(*w, f);
+    }
+    fputc('\'', f);
+}
+
+const char *report_unit_of(expr_unit u)
+{
+    switch (u) {
     case UNIT_F: return "F";
     case UNIT_OHM: return "\xCE\xA9";
     case UNIT_S: return "S";
     default: return "";
     }
+}
+
+const char *report_unit_symbol(const desc *d, desc_target t)
+{
+    return report_unit_of(desc_target_shown_unit(d, t));
+}
+
+char *report_goal_text(design_goal g, char *buf, size_t n)
+{
+    int len = snprintf(buf, n, "phase margin %s %.4g\xC2\xB0", design_goal_word(g), g.pm_deg);
+    if (!isnan(g.gm_db) && len >= 0 && (size_t)len < n)
+        snprintf(buf + len, n - (size_t)len, ", gain margin target %.4g dB", g.gm_db);
+    return buf;
+}
+
+const char *report_below_mark(design_goal g)
+{
+    return g.pm_given || !isnan(g.gm_db) ? "  < target" : "  < reference";
 }
 
 static const char *fmt_or(double v, const char *unit, char *buf, size_t n, const char *none)
@@ -61,8 +97,7 @@ static void csv_num(FILE *f, double v, const char *sep)
         fprintf(f, "%s%s", isinf(v) ? (v > 0 ? "inf" : "-inf") : "", sep);
 }
 
-/* Prints s left-aligned in width characters (not bytes: units carry µ and Ω). */
-static void pad(FILE *f, const char *s, int width)
+void report_pad(FILE *f, const char *s, int width)
 {
     int chars = 0;
     for (const unsigned char *p = (const unsigned char *)s; *p; p++)
@@ -75,8 +110,8 @@ static void pad(FILE *f, const char *s, int width)
 static void text_points(FILE *f, const sweep_result *r, const char *unit, const char *label,
                         design_goal g)
 {
-    fprintf(f, "  %-11s %-14s %-11s %-9s %-9s %-11s %-11s %s\n", label, "DC loop gain",
-            "crossover", "PM", "GM", "dominant", "second", "stable");
+    fprintf(f, "  %-11s %-14s %-11s %-13s %-12s %-11s %-11s %s\n", label, "DC loop gain",
+            "crossover", "phase margin", "gain margin", "dominant", "second", "stable");
     for (int k = 0; k < r->npts; k++) {
         const design_point *p = &r->pts[k];
         char v[32], dc[32], fc[32], pm[16], gm[16], p1[32], p2[32];
@@ -87,15 +122,15 @@ static void text_points(FILE *f, const sweep_result *r, const char *unit, const 
             snprintf(dc, sizeof dc, "%.4g", p->dc);
         fmt_or(p->crossover_hz, "Hz", fc, sizeof fc, "none");
         snprintf(pm, sizeof pm, isnan(p->pm_deg) ? "-" : "%.2f\xC2\xB0", p->pm_deg);
-        snprintf(gm, sizeof gm, isnan(p->gm_db) ? "-" : "%.2f dB", p->gm_db);
+        snprintf(gm, sizeof gm, isnan(p->gm_db) ? "unbounded" : "%.2f dB", p->gm_db);
         fmt_or(p->p1_hz, "Hz", p1, sizeof p1, "-");
         fmt_or(p->p2_hz, "Hz", p2, sizeof p2, "-");
         const char *cols[] = { v, dc, fc, pm, gm, p1, p2 };
-        const int widths[] = { 12, 15, 12, 10, 10, 12, 12 };
+        const int widths[] = { 12, 15, 12, 14, 13, 12, 12 };
         fputs("  ", f);
         for (int c = 0; c < 7; c++)
-            pad(f, cols[c], widths[c]);
-        fprintf(f, "%s%s\n", p->stable ? "yes" : "NO", design_meets(p, g) ? "" : "  < target");
+            report_pad(f, cols[c], widths[c]);
+        fprintf(f, "%s%s\n", p->stable ? "yes" : "NO", design_meets(p, g) ? "" : report_below_mark(g));
     }
 }
 
@@ -138,19 +173,27 @@ void report_sweep(FILE *f, const desc *d, const char *name, desc_target t,
         fprintf(f, "],\n \"met\": %s}\n", r->missed ? "false" : "true");
         return;
     }
-    char a[32];
-    fprintf(f, "loopwise sweep: %s  vary %s, target phase margin %.4g\xC2\xB0\n\n", d->path, name,
-            g.pm_deg);
+    char a[32], gt[160];
+    fprintf(f, "loopwise sweep: %s  vary %s, %s\n\n", d->path, name,
+            report_goal_text(g, gt, sizeof gt));
     text_points(f, r, unit, name, g);
     fputc('\n', f);
     if (r->ncross == 0)
         fprintf(f, "The phase margin does not cross %.4g\xC2\xB0 in this range: it is %s "
-                "throughout.\n", g.pm_deg, r->missed ? "below the target (or undefined)"
-                                                      : "at or above the target");
+                "throughout.\n", g.pm_deg, r->missed ? "below the goal (or undefined)"
+                                                      : "at or above the goal");
     for (int k = 0; k < r->ncross; k++)
         fprintf(f, "The margin %s through %.4g\xC2\xB0 at %s = %s.\n",
                 r->cross[k].rises ? "rises" : "falls", g.pm_deg, name,
                 si_format(r->cross[k].value, unit, a, sizeof a));
+    int worst = sweep_smallest_margin(r), unstable = 0;
+    for (int k = 0; k < r->npts; k++)
+        unstable += !r->pts[k].stable;
+    if (worst >= 0)
+        fprintf(f, "The smallest phase margin is %.2f\xC2\xB0, at %s = %s.\n",
+                r->pts[worst].pm_deg, name, si_format(r->pts[worst].value, unit, a, sizeof a));
+    if (unstable)
+        fprintf(f, "%d of %d points are unstable (marked NO).\n", unstable, r->npts);
 }
 
 static void text_cl_poles(FILE *f, const check_result *at)
@@ -175,7 +218,11 @@ void report_size(FILE *f, const desc *d, const char *name, desc_target t, const 
 {
     const char *unit = report_unit_symbol(d, t);
     const design_point *p = &r->best;
-    int is_cap = desc_target_unit(d, t) == UNIT_F;
+    /* a param that feeds only capacitances has an area; but it may also sit
+     * inside other expressions, so only an element or node field is sure to
+     * leave the DC gain alone */
+    int is_cap = desc_target_shown_unit(d, t) == UNIT_F;
+    int dc_fixed = is_cap && t.kind != TARGET_PARAM;
     if (fmt == OUT_JSON) {
         fputs("{\"tune\": ", f);
         json_string(f, name);
@@ -220,14 +267,14 @@ void report_size(FILE *f, const desc *d, const char *name, desc_target t, const 
         fprintf(f, "  phase margin    %.2f\xC2\xB0 at crossover %s\n", p->pm_deg,
                 si_format(p->crossover_hz, "Hz", a, sizeof a));
     if (isnan(p->gm_db))
-        fprintf(f, "  gain margin     undefined (the phase never reaches -180\xC2\xB0)\n");
+        fprintf(f, "  gain margin     unbounded: the phase never reaches -180\xC2\xB0\n");
     else
         fprintf(f, "  gain margin     %.2f dB\n", p->gm_db);
     if (isinf(p->dc))
-        fprintf(f, "  DC loop gain    unbounded (integrator)%s\n", is_cap ? ", unchanged by a capacitor" : "");
+        fprintf(f, "  DC loop gain    unbounded (integrator)%s\n", dc_fixed ? ", unchanged by a capacitor" : "");
     else
         fprintf(f, "  DC loop gain    %+.4g V/V%s\n", p->dc,
-                is_cap ? ", unchanged by a capacitor" : "");
+                dc_fixed ? ", unchanged by a capacitor" : "");
     if (at)
         text_cl_poles(f, at);
     if (is_cap && density > 0) {
@@ -241,6 +288,74 @@ void report_size(FILE *f, const desc *d, const char *name, desc_target t, const 
                 p->p2_node >= 0 ? d->nodes[p->p2_node].name : "", p->p2_node >= 0 ? "')" : "");
     fprintf(f, "\nVerdict: %s\n", r->met ? "the target is met." : "no value in the range meets "
             "the target; widen --within or change another value.");
+}
+
+/* What to do when a load inside the loop costs too much margin depends on
+ * what drives the node. A stage whose control node already drives other
+ * gm (matched current sources, say) can be copied once more to feed the
+ * load from outside the loop; an amplifier's own output cannot move, so it
+ * is compensated for the load (a capacitor across its driving stage, or
+ * from the node to ground, is the one to size) or isolated by a buffer. */
+static void load_remedy(FILE *f, const desc *d, int node, double c_load)
+{
+    const char *name = d->nodes[node].name;
+    int drv = -1, sib = -1, comp = -1, outside = 0;
+    for (int e = 0; e < d->nelems && !outside; e++) {
+        const desc_elem *x = &d->elems[e];
+        if (x->kind != ELEM_GM || x->b != node)
+            continue;
+        for (int k = 0; k < d->nelems && !outside; k++) {
+            const desc_elem *y = &d->elems[k];
+            if (k == e || y->kind != ELEM_GM || y->a != x->a || y->b == node)
+                continue;
+            /* a copy that already feeds a node no declared loop passes is the model */
+            int in_loop = 0;
+            for (int l = 0; l < d->nloops; l++)
+                for (int j = 0; j < d->loops[l].nnodes; j++)
+                    in_loop |= d->loops[l].nodes[j] == y->b;
+            if (sib < 0 || !in_loop) {
+                drv = e;
+                sib = k;
+                outside = !in_loop;
+            }
+        }
+        if (drv < 0)
+            drv = e;
+    }
+    if (sib >= 0 && outside) {
+        fprintf(f, "  Take the output from a matched copy of '%s' outside the loop, as '%s' "
+                "already does for '%s'.\n", d->elems[drv].name, d->elems[sib].name,
+                d->nodes[d->elems[sib].b].name);
+        return;
+    }
+    if (sib >= 0) {
+        fprintf(f, "  Take the output from a matched copy of '%s' (driven from '%s', as '%s' "
+                "is) placed outside the loop.\n", d->elems[drv].name,
+                d->nodes[d->elems[drv].a].name, d->elems[sib].name);
+        return;
+    }
+    for (int e = 0; e < d->nelems && drv >= 0 && comp < 0; e++) {
+        const desc_elem *x = &d->elems[e];
+        int in = d->elems[drv].a;
+        if (x->kind == ELEM_CAP && ((x->a == node && (x->b == in || x->b == DESC_GND)) ||
+                                    (x->b == node && x->a == in)))
+            comp = e;
+    }
+    char c[32], *w = c;
+    si_format(d->nodes[node].c + c_load, "F", c, sizeof c);
+    for (const char *q = c; *q; q++) /* "24 pF" -> "24pF", one word */
+        if (*q != ' ')
+            *w++ = *q;
+    *w = '\0';
+    if (drv >= 0)
+        fprintf(f, "  '%s' is the output of the loop's own stage '%s': it cannot leave the "
+                "loop.\n", name, d->elems[drv].name);
+    fputs("  Compensate for the load: size the compensation with it in place, e.g.\n"
+          "    loopwise size ", f);
+    report_shell_word(f, d->path);
+    fprintf(f, " --set %s.c=%s --tune %s\n"
+            "  or isolate the load from the loop with a buffer.\n", name, c,
+            comp >= 0 ? d->elems[comp].name : "NAME");
 }
 
 void report_load(FILE *f, const desc *d, const load_result *r, double lo, double hi,
@@ -277,12 +392,20 @@ void report_load(FILE *f, const desc *d, const load_result *r, double lo, double
         fputs("]}\n", f);
         return;
     }
-    fprintf(f, "loopwise load: %s  node '%s', load %s to %s, target phase margin %.4g\xC2\xB0\n\n",
-            d->path, node, si_format(lo, "F", a, sizeof a), si_format(hi, "F", b, sizeof b),
-            g.pm_deg);
+    char gt[160];
+    fprintf(f, "loopwise load: %s  node '%s', load %s to %s, %s\n\n", d->path, node,
+            si_format(lo, "F", a, sizeof a), si_format(hi, "F", b, sizeof b),
+            report_goal_text(g, gt, sizeof gt));
     if (!r->inside) {
         fprintf(f, "Node '%s' is outside the loop: a load there does not move the loop margin.\n",
                 node);
+        if (isnan(r->nominal.pm_deg))
+            fprintf(f, "The loop has no crossover (no phase margin) at any load%s.\n",
+                    r->nominal.stable ? "" : "; the closed loop is not stable: run check for its poles");
+        else
+            fprintf(f, "The loop's phase margin is %.2f\xC2\xB0 at every load (%s the %.4g\xC2\xB0 "
+                    "%s)%s.\n", r->nominal.pm_deg, design_meets(&r->nominal, g) ? "meets" : "below",
+                    g.pm_deg, design_goal_word(g), r->nominal.stable ? "" : "; the closed loop is not stable: run check for its poles");
         if (!isfinite(r->r_seen)) {
             fprintf(f, "No resistance to ground is seen at '%s': a load there integrates, it "
                     "does not settle.\n", node);
@@ -307,16 +430,22 @@ void report_load(FILE *f, const desc *d, const load_result *r, double lo, double
     fprintf(f, "Node '%s' is inside the loop: a load there changes the loop gain.\n\n", node);
     text_points(f, &r->sw, "F", "load", g);
     fputc('\n', f);
-    if (r->met)
+    int unstable = 0;
+    for (int k = 0; k < r->sw.npts; k++)
+        unstable += !r->sw.pts[k].stable;
+    if (unstable)
+        fprintf(f, "%d of %d loads leave the loop UNSTABLE (marked NO).\n", unstable, r->sw.npts);
+    if (r->met) {
         fprintf(f, "Verdict: the margin stays at or above %.4g\xC2\xB0 up to %s: the output may "
                 "stay inside the loop for this load.\n", g.pm_deg, si_format(hi, "F", a, sizeof a));
-    else if (isnan(r->max_load_f))
-        fprintf(f, "Verdict: even %s misses the %.4g\xC2\xB0 target: take the output from a "
-                "dedicated branch outside the loop (a matched copy of the driving stage).\n",
-                si_format(lo, "F", a, sizeof a), g.pm_deg);
+        return;
+    }
+    if (isnan(r->max_load_f))
+        fprintf(f, "Verdict: even %s is below the %.4g\xC2\xB0 %s.\n", si_format(lo, "F", a, sizeof a),
+                g.pm_deg, design_goal_word(g));
     else
         fprintf(f, "Verdict: the largest load meeting %.4g\xC2\xB0 is %s (below the %s asked "
-                "for): take the output from a dedicated branch outside the loop, or compensate "
-                "for the larger load.\n", g.pm_deg, si_format(r->max_load_f, "F", a, sizeof a),
+                "for).\n", g.pm_deg, si_format(r->max_load_f, "F", a, sizeof a),
                 si_format(hi, "F", b, sizeof b));
+    load_remedy(f, d, r->node, hi);
 }

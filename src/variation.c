@@ -88,12 +88,30 @@ static int rank_corners(corner_result *r, design_goal g, lw_error *err)
     return LW_OK;
 }
 
+/* A --set pins a param (SPEC section 5): its range or distribution is not
+ * used, so the reported figures are those of the operating point asked for. */
+static int combined(const desc_param *p)
+{
+    return p->spread.has_range && p->override == DESC_NO_OVERRIDE;
+}
+
+static int drawn(const desc_param *p)
+{
+    return p->spread.dist != DIST_NONE && p->override == DESC_NO_OVERRIDE;
+}
+
 int corners_run(desc *d, const check_opts *o, design_goal g, corner_result *r, lw_error *err)
 {
     memset(r, 0, sizeof *r);
-    int np = 0;
-    for (int k = 0; k < d->nparams; k++)
-        np += d->params[k].spread.has_range;
+    int np = 0, pinned = 0;
+    for (int k = 0; k < d->nparams; k++) {
+        np += combined(&d->params[k]);
+        pinned += d->params[k].spread.has_range && !combined(&d->params[k]);
+    }
+    if (np == 0 && pinned)
+        return lw_error_set(err, LW_EINPUT, "every param with a corner range is pinned by "
+                            "--set: there is nothing left to combine; use 'check' for one "
+                            "operating point");
     if (np == 0)
         return lw_error_set(err, LW_EINPUT, "no param carries a corner range; add "
                             "'corners LO..HI' to a param line, e.g. 'param temp = 300 corners "
@@ -114,7 +132,7 @@ int corners_run(desc *d, const check_opts *o, design_goal g, corner_result *r, l
     r->nparams = np;
     r->ncorners = nc;
     for (int k = 0, j = 0; k < d->nparams; k++)
-        if (d->params[k].spread.has_range)
+        if (combined(&d->params[k]))
             r->params[j++] = k;
     /* the ends are taken once: evaluating a corner re-evaluates the spreads */
     double ends[2][12];
@@ -306,9 +324,15 @@ static int summarise(mc_result *r, design_goal g, lw_error *err)
 
 static int mc_setup(const desc *d, int nsamples, mc_result *r, lw_error *err)
 {
-    int np = 0;
-    for (int k = 0; k < d->nparams; k++)
-        np += d->params[k].spread.dist != DIST_NONE;
+    int np = 0, pinned = 0;
+    for (int k = 0; k < d->nparams; k++) {
+        np += drawn(&d->params[k]);
+        pinned += d->params[k].spread.dist != DIST_NONE && !drawn(&d->params[k]);
+    }
+    if (np == 0 && pinned)
+        return lw_error_set(err, LW_EINPUT, "every param with a distribution is pinned by "
+                            "--set: there is nothing left to draw; use 'check' for one "
+                            "operating point");
     if (np == 0)
         return lw_error_set(err, LW_EINPUT, "no param carries a distribution; add 'normal "
                             "SIGMA' or 'uniform LO..HI' to a param line, e.g. 'param ib = 10u "
@@ -322,7 +346,7 @@ static int mc_setup(const desc *d, int nsamples, mc_result *r, lw_error *err)
     if (!r->params || !r->values || !r->pts || !r->valid)
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     for (int k = 0, j = 0; k < d->nparams; k++)
-        if (d->params[k].spread.dist != DIST_NONE)
+        if (drawn(&d->params[k]))
             r->params[j++] = k;
     return LW_OK;
 }

@@ -4,9 +4,9 @@
 #ifndef LOOPWISE_CLI_H
 #define LOOPWISE_CLI_H
 
-#include "loopwise/check.h"
+#include "loopwise/design.h"
 
-enum { MAX_SETS = 256, MAX_BODE_POINTS = 100000 };
+enum { MAX_SETS = 256, MAX_GAIN_POINTS = 100000 };
 
 typedef struct options {
     const char *command, *file, *csv;
@@ -21,17 +21,24 @@ typedef struct options {
     int nsets, json, points;
     double pm, fmin, fmax;
     int pm_given;
+    double yield;                     /* montecarlo --yield, as a fraction */
+    int yield_given;
 } options;
 
 /* Evaluates a numeric option with the file's number syntax; prints the
  * error and returns 2 when it is not a finite number. */
 int option_number(const char *name, const char *text, expr_unit unit, double *v);
+/* The margin goal of the command line: --pm (or the default 60 degrees as a
+ * reference), --gm when given. */
+design_goal option_goal(const options *o);
 
 /* Draws fig after the text output; a failed plot turns *code into 3. */
-int cmd_polemap(const options *o, const desc *d, const check_result *r, lw_error *err);
+int cmd_roots(const options *o, const desc *d, const check_result *r, lw_error *err);
 int cmd_corners(const options *o, desc *d, int *code, lw_error *err);
-int cmd_montecarlo(const options *o, const desc *d, const text_file *t, int *code,
-                   lw_error *err);
+/* nominal: the analysis with the --set values and no spread (the operating
+ * point the histogram marks). */
+int cmd_montecarlo(const options *o, const desc *d, const text_file *t,
+                   const check_result *nominal, int *code, lw_error *err);
 int cmd_size(const options *o, desc *d, int *code, lw_error *err);
 int cmd_sweep(const options *o, desc *d, int *code, lw_error *err);
 int cmd_load(const options *o, desc *d, int *code, lw_error *err);

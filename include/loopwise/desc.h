@@ -55,6 +55,8 @@ typedef struct desc_param {
     double fixed;      /* the value when override == DESC_FIXED */
     double value;      /* after desc_eval */
     desc_spread spread;
+    expr_unit unit;    /* the unit of the fields it feeds (UNIT_F, UNIT_OHM, UNIT_S), or
+                        * UNIT_ANY when it feeds none whole or fields of different units */
 } desc_param;
 
 typedef struct desc_node {
@@ -115,6 +117,12 @@ void desc_free(desc *d);
 /* Evaluates every value in file order, applying overrides, and checks each
  * against its allowed range. */
 int desc_eval(desc *d, lw_error *err);
+
+/* Fills every param's unit from the fields it feeds (desc_parse does). */
+void desc_units_infer(desc *d);
+/* The unit a target's value is shown with: a param's inferred unit (see
+ * desc_param.unit), otherwise as desc_target_unit. */
+expr_unit desc_target_shown_unit(const desc *d, desc_target t);
 
 /* Finds NAME (a param, an element, or NODE.r / NODE.c). */
 int desc_target_find(const desc *d, const char *name, desc_target *t, lw_error *err);

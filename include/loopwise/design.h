@@ -26,13 +26,24 @@ typedef struct design_point {
     int stable;
 } design_point;
 
+/* The margin a command measures against. pm_deg is always set: it is --pm,
+ * or the default 60 degrees, which the text marks but which is never a
+ * reason to exit 1 (SPEC section 5); pm_given says which. gm_db is --gm. */
 typedef struct design_goal {
     double pm_deg;
     double gm_db;           /* NAN: no gain-margin requirement */
+    int pm_given;           /* 1 when --pm was on the command line */
 } design_goal;
 
-/* 1 when the point is stable and meets the goal. */
+/* 1 when the point is stable and meets the goal. A gain margin that is
+ * undefined because the phase never reaches -180 + 360 m is unbounded and
+ * meets any gm_db. */
 int design_meets(const design_point *p, design_goal g);
+/* 1 when the point makes a command exit 1 (SPEC section 5): it is unstable,
+ * or misses a target given on the command line (--pm, --gm). */
+int design_fails(const design_point *p, design_goal g);
+/* "target" when --pm was given, "reference" for the default. */
+const char *design_goal_word(design_goal g);
 
 /* Fills a design point from a finished analysis. */
 void design_point_from(const check_result *r, double value, design_point *pt);
@@ -57,11 +68,19 @@ typedef struct sweep_result {
     design_crossing *cross;
     int ncross;
     int missed;             /* some point misses the goal */
+    int failed;             /* some point fails the exit-code rule (design_fails) */
 } sweep_result;
 
 int sweep_run(desc *d, desc_target t, double from, double to, int npts, int lin,
               design_goal g, const check_opts *o, sweep_result *r, lw_error *err);
+/* The same over values v from..to, each evaluated as v + offset (a load
+ * added to a node's own capacitance); the points and crossings carry v. */
+int sweep_run_offset(desc *d, desc_target t, double from, double to, double offset, int npts,
+                     int lin, design_goal g, const check_opts *o, sweep_result *r, lw_error *err);
 void sweep_result_free(sweep_result *r);
+/* The point with the smallest phase margin (the first of equals; points
+ * without a crossover left out), -1 when none has one. */
+int sweep_smallest_margin(const sweep_result *r);
 
 typedef struct size_result {
     int met;
@@ -82,6 +101,8 @@ typedef struct load_result {
     int met;                /* the whole range meets the goal */
     double r_seen;          /* resistance seen at the node (outside), inf when none */
     double c_node;          /* the node's own capacitance to ground */
+    design_point nominal;   /* the margins without a load (outside: at every load) */
+    int failed;             /* some load fails the exit-code rule (design_fails) */
 } load_result;
 
 int load_run(desc *d, int node, double lo, double hi, int npts, design_goal g, const check_opts *o,

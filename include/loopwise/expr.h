@@ -47,6 +47,10 @@ int expr_compile(expr_pool *p, const char *text, expr_unit unit, const expr_name
 int expr_eval(const expr_pool *p, int handle, const double *params, double *value,
               lw_error *err);
 
+/* The param an expression stands for whole: P or -P gives P's index; any
+ * other expression (a number, a product, a function) gives -1. */
+int expr_sole_param(const expr_pool *p, int handle);
+
 /* Calls fn for every param index the expression refers to. */
 void expr_params(const expr_pool *p, int handle, void (*fn)(void *, int), void *ctx);
 

@@ -1,4 +1,6 @@
-/* figures: the pictures: Bode plot, pole-zero map, margin against a value.
+/* figures: the pictures: the Bode picture of the loop gain (figures_bode.c),
+ * the roots in the s-plane and the Monte Carlo histogram (figures.c), and
+ * the margin against a swept value or a load (figures_margin.c).
  * Each writes its data and gnuplot script into a plot job (plot.h) and runs
  * it; the result is LW_ENUMERIC (exit 3) when gnuplot is missing or fails. */
 #ifndef LOOPWISE_FIGURES_H
@@ -6,6 +8,7 @@
 
 #include "loopwise/design.h"
 #include "loopwise/plot.h"
+#include "loopwise/variation.h"
 
 typedef struct figure_opts {
     const char *path;        /* .png or .svg */
@@ -13,16 +16,37 @@ typedef struct figure_opts {
     const char *keep_dir;    /* --keep-script DIR, or NULL */
 } figure_opts;
 
+/* One symbol per meaning, in every picture (gnuplot point types): a zero in
+ * the right half-plane adds phase lag like a pole, so it never looks like a
+ * left-half-plane zero. */
+#define FIG_PT_POLE     2    /* x: a pole of T (open loop) */
+#define FIG_PT_ZERO     6    /* open circle: a zero of T in the left half-plane */
+#define FIG_PT_RHP_ZERO 8    /* open triangle: a zero of T in the right half-plane */
+#define FIG_PT_CL_POLE  5    /* filled square: a closed-loop pole */
+#define FIG_UNSTABLE_FILL "#f3d9c6" /* shading of what is unstable */
+
 /* each: overlay every declared loop's own gain (needs check_opts.keep_loops). */
 int figure_bode(const figure_opts *fo, const desc *d, const model *m, const check_result *r,
                 int each, lw_error *err);
-int figure_polemap(const figure_opts *fo, const desc *d, const check_result *r, lw_error *err);
+int figure_roots(const figure_opts *fo, const desc *d, const check_result *r, lw_error *err);
 /* Phase margin and crossover against the varied value (sweep and load). */
 int figure_margin(const figure_opts *fo, const desc *d, const char *what, const char *unit,
                   const sweep_result *s, design_goal g, int lin, lw_error *err);
+/* A node outside the loop: the loop's margin, the same at every load, and
+ * the node's own first-order settling time against the load. */
+int figure_load_outside(const figure_opts *fo, const desc *d, const load_result *r, double lo,
+                        double hi, design_goal g, lw_error *err);
 
-/* Histogram of the phase margin over Monte Carlo samples, with the target. */
-int figure_histogram(const figure_opts *fo, const desc *d, const double *pm, int n,
-                     design_goal g, lw_error *err);
+/* Histogram of the phase margin over Monte Carlo samples, with the goal,
+ * the yield and the operating point (nominal: the analysis with the --set
+ * values and no spread); yield_target is --yield as a fraction, or NAN. */
+int figure_histogram(const figure_opts *fo, const desc *d, const mc_result *mc,
+                     const check_result *nominal, const char *const *sets, int nsets,
+                     design_goal g, double yield_target, lw_error *err);
+
+/* Shared by the picture files: the project's look (palette, grid, line
+ * styles 1-4) and a title naming the file. */
+void figure_style(FILE *s);
+void figure_title(FILE *s, const char *what, const desc *d, const char *extra);
 
 #endif

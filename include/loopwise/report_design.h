@@ -15,6 +15,18 @@ void report_point_fields(FILE *f, const design_point *p);
 
 /* The unit symbol a target's value is shown with ("F", "Ω", "S" or ""). */
 const char *report_unit_symbol(const desc *d, desc_target t);
+const char *report_unit_of(expr_unit u);
+/* "phase margin target 45°" or "phase margin reference 60°", and the gain
+ * margin target when one is given; returns buf. */
+char *report_goal_text(design_goal g, char *buf, size_t n);
+/* The mark of a table row below the goal: "  < target" or "  < reference". */
+const char *report_below_mark(design_goal g);
+/* Writes w as one word for a POSIX shell: as it is when it holds no
+ * character a shell treats specially, otherwise in single quotes (a quote
+ * inside as '\'' ), so that a printed command line can be pasted. */
+void report_shell_word(FILE *f, const char *w);
+/* Prints s left-aligned in width characters (not bytes: units carry µ and Ω). */
+void report_pad(FILE *f, const char *s, int width);
 
 void report_sweep(FILE *f, const desc *d, const char *name, desc_target t,
                   const sweep_result *r, design_goal g, out_format fmt);

@@ -1,7 +1,7 @@
 /* fuzz_check: a libFuzzer target over the whole 'check' path, as src/main.c
  * runs it:
  *   text_from_buffer -> desc_parse -> (desc_set) -> desc_eval -> model_new
- *   -> check_run -> design_node_table -> report_check_text/json, report_bode
+ *   -> check_run -> design_node_table -> report_check_text/json, report_gain
  * with every report written to /dev/null, and input errors printed (caret
  * and all) to /dev/null too.
  *
@@ -118,13 +118,13 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
         goto done;
     }
     check_warn_gm_cycles(d, devnull);
-    report_target tg = { 60.0, (int)(size & 1) };
+    report_target tg = { .pm_deg = 60.0, .given = (int)(size & 1) };
     report_check_text(devnull, d, m, &r, tg);
     report_check_json(devnull, d, m, &r);
     (void)report_check_status(&r, tg);
-    report_bode(devnull, d, &r, FUZZ_BODE_POINTS, BODE_TEXT);
-    report_bode(devnull, d, &r, FUZZ_BODE_POINTS, BODE_CSV);
-    report_bode(devnull, d, &r, FUZZ_BODE_POINTS, BODE_JSON);
+    report_gain(devnull, d, &r, FUZZ_BODE_POINTS, GAIN_TEXT);
+    report_gain(devnull, d, &r, FUZZ_BODE_POINTS, GAIN_CSV);
+    report_gain(devnull, d, &r, FUZZ_BODE_POINTS, GAIN_JSON);
     fflush(devnull);
 done:
     check_result_free(&r);

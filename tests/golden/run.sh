@@ -8,7 +8,7 @@ LW=${1:-./loopwise}
 
 for f in tests/bad/*.loop; do
     exp=$(cat "${f%.loop}.err")
-    "$LW" bode "$f" --csv "$tmp/out.csv" >"$tmp/stdout" 2>"$tmp/stderr"
+    "$LW" gain "$f" --csv "$tmp/out.csv" >"$tmp/stdout" 2>"$tmp/stderr"
     rc=$?
     got=$(head -n 1 "$tmp/stderr")
     if [ "$rc" != 2 ]; then bad "$f: exit $rc, expected 2"
@@ -21,7 +21,7 @@ done
 
 # A failed run leaves an existing output file untouched.
 echo "keep me" >"$tmp/keep.csv"
-"$LW" bode tests/bad/unknown_node.loop --csv "$tmp/keep.csv" >/dev/null 2>&1
+"$LW" gain tests/bad/unknown_node.loop --csv "$tmp/keep.csv" >/dev/null 2>&1
 [ "$(cat "$tmp/keep.csv")" = "keep me" ] && ok || bad "existing CSV was touched by a failed run"
 
 for c in cases/*.loop; do
@@ -57,15 +57,15 @@ PYEOF
     grep -qi nan "$tmp/text" && bad "$c: NaN in the text report" || ok
 done
 
-# Standard input, --set, and bode CSV written whole.
+# Standard input, --set, and gain CSV written whole.
 "$LW" check - --json <cases/twostage.loop >"$tmp/stdin.json" 2>/dev/null &&
     "$LW" check cases/twostage.loop --json >"$tmp/file.json" 2>/dev/null &&
     cmp -s "$tmp/stdin.json" "$tmp/file.json" && ok || bad "reading from standard input"
 "$LW" check cases/twostage.loop --set 'cc=2*1.2p' --json >"$tmp/set.json" 2>/dev/null &&
     ! cmp -s "$tmp/set.json" "$tmp/file.json" && ok || bad "--set has no effect"
-"$LW" bode cases/twostage.loop --csv "$tmp/b.csv" --points 50 >/dev/null 2>&1 &&
+"$LW" gain cases/twostage.loop --csv "$tmp/b.csv" --points 50 >/dev/null 2>&1 &&
     [ "$(wc -l <"$tmp/b.csv")" = 51 ] && head -n 1 "$tmp/b.csv" | grep -q '^freq_hz,mag_db,phase_deg$' &&
-    ok || bad "bode --csv"
+    ok || bad "gain --csv"
 "$LW" check cases/twostage.loop --set nosuch=1 >"$tmp/o" 2>"$tmp/e"
 [ $? = 2 ] && [ ! -s "$tmp/o" ] && grep -q "unknown param or element 'nosuch'" "$tmp/e" && ok ||
     bad "--set of an unknown name"
@@ -73,6 +73,10 @@ done
 [ $? = 1 ] && ok || bad "--pm above the margin must exit 1"
 "$LW" frobnicate cases/twostage.loop >/dev/null 2>&1
 [ $? = 2 ] && ok || bad "unknown command must exit 2"
+# The names before version 0.2 are refused (no aliases) with the new name.
+refuse "the command 'bode' is now called 'gain'" bode cases/twostage.loop
+refuse "the command 'polemap' is now called 'roots'" polemap cases/twostage.loop -o "$tmp/r.png"
+[ ! -e "$tmp/r.png" ] && ok || bad "polemap (renamed) wrote a picture"
 "$LW" --help | grep -q "usage: loopwise" && ok || bad "--help"
 
 # Design commands refuse bad requests with exit 2, a clear message and no output.
@@ -97,14 +101,16 @@ refuse "expected capacitance per area" size $R --tune ccomp --density 2fF
 "$LW" size $R --tune ccomp --pm 60 >/dev/null 2>&1; [ $? = 0 ] && ok || bad "size: reachable target must exit 0"
 "$LW" size $R --tune ccomp --pm 89 --within 1p..10p >/dev/null 2>&1; [ $? = 1 ] && ok || bad "size: unreachable target must exit 1"
 "$LW" sweep $R --vary rser --from 540 --to 54k --pm 60 >/dev/null 2>&1; [ $? = 1 ] && ok || bad "sweep: missed --pm must exit 1"
-"$LW" sweep $R --vary rser --from 540 --to 54k --csv "$tmp/s.csv" --json >"$tmp/s.json" 2>/dev/null &&
-    [ "$(wc -l <"$tmp/s.csv")" = 26 ] && $PY -c "import json,sys; d=json.load(open(sys.argv[1])); assert len(d['points'])==25 and d['crossings'][0]['direction']=='falls'" "$tmp/s.json" &&
+# (the points from about 25k on are unstable: exit 1 by SPEC section 5)
+"$LW" sweep $R --vary rser --from 540 --to 54k --csv "$tmp/s.csv" --json >"$tmp/s.json" 2>/dev/null
+[ $? = 1 ] && [ "$(wc -l <"$tmp/s.csv")" = 26 ] && $PY -c "import json,sys; d=json.load(open(sys.argv[1])); assert len(d['points'])==25 and d['crossings'][0]['direction']=='falls'" "$tmp/s.json" &&
     ok || bad "sweep CSV and JSON"
 "$LW" load $R --node vref --cload 1p..1n --json >"$tmp/l.json" 2>/dev/null &&
     $PY - "$tmp/l.json" <<'PYEOF' && ok || bad "load outside the loop: settling"
 import json, math, sys
 d = json.load(open(sys.argv[1]))
-assert d["inside_loop"] is False and d["met"] is True
+# met: the loop's own margin, the same at every load, against the reference
+assert d["inside_loop"] is False and d["met"] is False
 # first-order settling t = R C ln(1/error) (from memory); the tap is r=120k, c=1p
 for p in d["settling"]:
     tau = 120e3 * (1e-12 + p["load_f"])
@@ -113,7 +119,7 @@ for p in d["settling"]:
 PYEOF
 
 # Plots: gnuplot runs for real.
-"$LW" bode $R -o "$tmp/b.png" --size 640x480 >/dev/null 2>"$tmp/e" && $PY - "$tmp/b.png" <<'PYEOF' && ok || bad "bode PNG: $(cat "$tmp/e")"
+"$LW" gain $R -o "$tmp/b.png" --size 640x480 >/dev/null 2>"$tmp/e" && $PY - "$tmp/b.png" <<'PYEOF' && ok || bad "gain PNG: $(cat "$tmp/e")"
 import struct, sys
 b = open(sys.argv[1], "rb").read()
 assert b[:8] == b"\x89PNG\r\n\x1a\n", "PNG signature"
@@ -121,15 +127,15 @@ assert b[12:16] == b"IHDR"
 w, h = struct.unpack(">II", b[16:24])
 assert (w, h) == (640, 480), (w, h)
 PYEOF
-for cmd in "polemap $R" "bode $R --each" "sweep $R --vary rser --from 540 --to 54k --points 9" "load $R --node brb --cload 0.1p..10p --points 9"; do
+for cmd in "roots $R" "gain $R --each" "sweep $R --vary rser --from 540 --to 54k --points 9" "load $R --node brb --cload 0.1p..10p --points 9"; do
     rm -f "$tmp/p.svg"
     "$LW" $cmd -o "$tmp/p.svg" >/dev/null 2>"$tmp/e"
     [ $? -le 1 ] && $PY -c "import sys, xml.etree.ElementTree as E; r=E.parse(sys.argv[1]).getroot(); assert r.tag.endswith('svg'), r.tag" "$tmp/p.svg" &&
         ok || bad "$cmd -o SVG: $(cat "$tmp/e")"
 done
-"$LW" bode $R -o "$tmp/k.png" --keep-script "$tmp/keep" >/dev/null 2>&1 &&
+"$LW" gain $R -o "$tmp/k.png" --keep-script "$tmp/keep" >/dev/null 2>&1 &&
     [ -s "$tmp/keep/plot.gp" ] && [ -s "$tmp/keep/net.dat" ] && ok || bad "--keep-script"
-"$LW" bode $R -o "$tmp/x.pdf" >"$tmp/o" 2>"$tmp/e"
+"$LW" gain $R -o "$tmp/x.pdf" >"$tmp/o" 2>"$tmp/e"
 [ $? = 2 ] && [ ! -s "$tmp/o" ] && grep -q "must end in .png or .svg" "$tmp/e" && ok || bad "-o with a wrong extension"
 
 # A hostile file name (quotes and a gnuplot command) must not run anything.
@@ -137,15 +143,15 @@ mkdir -p "$tmp/evil"
 # single quotes in sh keep the backquotes literal: the shell runs nothing here
 evil="$tmp/evil/"'a'"'"'; system("touch PWNED"); print "`touch PWNED2`" '"'"'x.loop'
 cp $R "$evil"
-( cd "$tmp/evil" && "$OLDPWD/$LW" bode "$evil" -o "$evil.png" >/dev/null 2>&1 &&
-  "$OLDPWD/$LW" polemap "$evil" -o "$evil.svg" >/dev/null 2>&1 )
+( cd "$tmp/evil" && "$OLDPWD/$LW" gain "$evil" -o "$evil.png" >/dev/null 2>&1 &&
+  "$OLDPWD/$LW" roots "$evil" -o "$evil.svg" >/dev/null 2>&1 )
 if [ -e "$tmp/evil/PWNED" ] || [ -e "$tmp/evil/PWNED2" ] || [ -e PWNED ] || [ -e PWNED2 ]; then
     bad "a file name ran a command through gnuplot"
 elif [ ! -s "$evil.png" ] || [ ! -s "$evil.svg" ]; then bad "hostile file name: no plot"
 else ok; fi
 
 # gnuplot missing: exit 3, the package named, the analysis still printed, no image.
-PATH=/nonexistent "$(pwd)/$LW" bode $R -o "$tmp/none.png" >"$tmp/o" 2>"$tmp/e"
+PATH=/nonexistent "$(pwd)/$LW" gain $R -o "$tmp/none.png" >"$tmp/o" 2>"$tmp/e"
 rc=$?
 [ "$rc" = 3 ] && grep -q "gnuplot-nox" "$tmp/e" && [ -s "$tmp/o" ] && [ ! -e "$tmp/none.png" ] &&
     ok || bad "gnuplot absent: exit $rc, $(cat "$tmp/e")"
@@ -211,7 +217,7 @@ chain="$tmp/chain.loop"
 } >"$chain"
 for sig in TERM INT; do
     for mode in new existing; do
-        for job in sweep bode; do
+        for job in sweep gain; do
             d="$tmp/atomic"
             rm -rf "$d" && mkdir -p "$d"
             [ "$mode" = existing ] && echo "keep me" >"$d/out.csv"
@@ -221,12 +227,12 @@ for sig in TERM INT; do
                      --points 5000 --csv "$d/out.csv")
             else
                 # 100000 rows of CSV: stopped while the temporary is being written
-                st=$(interrupt $sig writing "$d" "$LW" bode $R --points 100000 --csv "$d/out.csv")
+                st=$(interrupt $sig writing "$d" "$LW" gain $R --points 100000 --csv "$d/out.csv")
             fi
             what="$job stopped by SIG$sig ($mode output file)"
             temps=$(cd "$d" && ls -A | grep '^\.loopwise-')
             case $st in stopped*) ;; *) bad "$what: not stopped in time ($st)"; continue ;; esac
-            if [ "$job" = bode ] && [ "$st" != "stopped writing" ]; then
+            if [ "$job" = gain ] && [ "$st" != "stopped writing" ]; then
                 bad "$what: stopped before the temporary file was seen"
             elif [ "$mode" = existing ] && [ "$(cat "$d/out.csv")" != "keep me" ]; then
                 bad "$what: the existing file was changed"
@@ -244,8 +250,8 @@ STRICT_IGNORED_SIGNAL=${STRICT_IGNORED_SIGNAL:-1}
 for sig in HUP INT; do
     d="$tmp/atomic"
     rm -rf "$d" && mkdir -p "$d"
-    st=$(interrupt IGN:$sig writing "$d" "$LW" bode $R --points 100000 --csv "$d/out.csv")
-    what="bode with SIG$sig ignored from the start, sent SIG$sig while writing"
+    st=$(interrupt IGN:$sig writing "$d" "$LW" gain $R --points 100000 --csv "$d/out.csv")
+    what="gain with SIG$sig ignored from the start, sent SIG$sig while writing"
     if [ "$st" = "finished writing" ] && [ "$(wc -l <"$d/out.csv")" = 100001 ]; then ok
     elif [ "$STRICT_IGNORED_SIGNAL" = 1 ]; then bad "$what: $st"
     else echo "KNOWN: $what: $st, not finished (outfile.c overrides SIG_IGN)"; ok; fi
@@ -255,19 +261,19 @@ done
 d="$tmp/links"
 rm -rf "$d" && mkdir -p "$d"
 echo old >"$d/real.csv" && chmod 600 "$d/real.csv" && ln -s real.csv "$d/link.csv"
-"$LW" bode $R --csv "$d/link.csv" --points 5 >/dev/null 2>&1
+"$LW" gain $R --csv "$d/link.csv" --points 5 >/dev/null 2>&1
 [ -L "$d/link.csv" ] && [ "$(wc -l <"$d/real.csv")" = 6 ] &&
     [ "$(stat -c %a "$d/real.csv")" = 600 ] && ok || bad "--csv through a symbolic link / file mode"
 # A device is written in place, never replaced.
-"$LW" bode $R --csv /dev/null --points 5 >/dev/null 2>&1 && [ -c /dev/null ] && ok ||
+"$LW" gain $R --csv /dev/null --points 5 >/dev/null 2>&1 && [ -c /dev/null ] && ok ||
     bad "--csv /dev/null"
 # A failed write (the target is a directory) removes its temporary too.
 d="$tmp/atomic"
 rm -rf "$d" && mkdir -p "$d/out.csv"
-"$LW" bode $R --csv "$d/out.csv" >"$tmp/o" 2>"$tmp/e"
+"$LW" gain $R --csv "$d/out.csv" >"$tmp/o" 2>"$tmp/e"
 rc=$?
 [ "$rc" = 2 ] && [ ! -s "$tmp/o" ] && [ -d "$d/out.csv" ] && [ -z "$(cd "$d" && ls -A | grep '^\.loopwise-')" ] &&
-    ok || bad "bode --csv onto a directory: exit $rc, $(ls -A "$d")"
+    ok || bad "gain --csv onto a directory: exit $rc, $(ls -A "$d")"
 rm -rf "$d"
 
 echo "golden: $pass passed, $fail failed"

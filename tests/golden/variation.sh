@@ -36,7 +36,9 @@ assert d["phase_margin_deg"]["min"] == d["worst"]["phase_margin_deg"]
 PYEOF
 "$LW" corners $R --json >"$tmp/c.json" 2>/dev/null
 rc=$?
-$PY - "$LW" "$tmp/c.json" <<'PYEOF' && [ "$rc" = 1 ] && ok || bad "corners reproduce line / exit code $rc"
+# every corner is stable and no target is given: exit 0 (SPEC section 5),
+# though every margin is below the 60-degree reference
+$PY - "$LW" "$tmp/c.json" <<'PYEOF' && [ "$rc" = 0 ] && ok || bad "corners reproduce line / exit code $rc"
 import json, shlex, subprocess, sys
 d = json.load(open(sys.argv[2]))
 assert len(d["corners"]) == 8

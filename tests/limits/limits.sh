@@ -61,7 +61,7 @@ rc=$?
     bad "limits: 4096 nodes not accepted by the parser: exit $rc, $(head -n 1 "$tmp/e")"
 refused nodes "nodes_over.loop:8193:1: too many nodes (limit 4096)" --set rm4093=-1k
 
-# A sweep takes up to 10,000 points, a Bode table up to 100,000.
+# A sweep takes up to 10,000 points, a gain table up to 100,000.
 cat >"$lim/tiny.loop" <<'LOOPEOF'
 node a r=10k c=1p
 node b r=10k c=1p
@@ -78,13 +78,13 @@ rc=$?
 "$LW" sweep "$lim/tiny.loop" --vary rv --from 1k --to 1M --points 10001 >"$tmp/o" 2>"$tmp/e"
 [ $? = 2 ] && [ ! -s "$tmp/o" ] && grep -qF "a sweep takes at most 10000 points" "$tmp/e" && ok ||
     bad "limits: sweep of 10001 points: $(head -n 1 "$tmp/e")"
-"$LW" bode "$lim/tiny.loop" --points 100000 --csv "$tmp/lim.csv" >/dev/null 2>"$tmp/e"
+"$LW" gain "$lim/tiny.loop" --points 100000 --csv "$tmp/lim.csv" >/dev/null 2>"$tmp/e"
 rc=$?
 [ "$rc" = 0 ] && [ "$(wc -l <"$tmp/lim.csv")" = 100001 ] && ok ||
-    bad "limits: bode of 100000 points: exit $rc, $(head -n 1 "$tmp/e")"
-"$LW" bode "$lim/tiny.loop" --points 100001 >"$tmp/o" 2>"$tmp/e"
+    bad "limits: gain of 100000 points: exit $rc, $(head -n 1 "$tmp/e")"
+"$LW" gain "$lim/tiny.loop" --points 100001 >"$tmp/o" 2>"$tmp/e"
 [ $? = 2 ] && [ ! -s "$tmp/o" ] && grep -qF "from 2 to 100000" "$tmp/e" && ok ||
-    bad "limits: bode of 100001 points: $(head -n 1 "$tmp/e")"
+    bad "limits: gain of 100001 points: $(head -n 1 "$tmp/e")"
 
 # corners combines up to 12 ranged params (4096 corners); montecarlo takes up
 # to 10,000,000 samples (only the refusal is run: that many take minutes).

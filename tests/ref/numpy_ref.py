@@ -1765,7 +1765,7 @@ def compare_file(path, exe, tally, extreme=False, family=False):
 
 
 def compare_run(path, exe, tally, net, ref, L, tol, verbose=False):
-    """Runs check --json and bode --csv; every comparison goes to `tally`
+    """Runs check --json and gain --csv; every comparison goes to `tally`
     (a FileTally).  Returns the check JSON (None when it did not parse)."""
     base = L.strip()
     try:
@@ -1927,11 +1927,15 @@ def compare_bode(path, exe, tally, ref, L, tol):
     tmpd = tempfile.mkdtemp(prefix="loopwise_ref_")
     csv = os.path.join(tmpd, "bode.csv")
     try:
-        proc = subprocess.run([exe, "bode", path, "--csv", csv,
+        proc = subprocess.run([exe, "gain", path, "--csv", csv,
                                "--points", "60"],
                               capture_output=True, timeout=120)
-        if not tally.check(proc.returncode == 0 and os.path.exists(csv),
-                           L + "bode run",
+        # SPEC section 5: 'gain' exits 1 on an unstable loop, as check does
+        want_rc = 0 if ref.stable else 1
+        tally.check(proc.returncode == want_rc, L + "gain exit code",
+                    "expected %d, got %d" % (want_rc, proc.returncode))
+        if not tally.check(proc.returncode in (0, 1) and os.path.exists(csv),
+                           L + "gain run",
                            "exit %d; %s" % (proc.returncode,
                                             proc.stderr.decode(
                                                 errors="replace")[:300]),
@@ -1944,7 +1948,7 @@ def compare_bode(path, exe, tally, ref, L, tol):
             os.remove(csv)
         os.rmdir(tmpd)
     if not tally.check(lines and lines[0] == "freq_hz,mag_db,phase_deg",
-                       L + "bode header", repr(lines[0] if lines else None),
+                       L + "gain header", repr(lines[0] if lines else None),
                        numeric=False):
         return
     rows = []
@@ -1953,15 +1957,15 @@ def compare_bode(path, exe, tally, ref, L, tol):
             f, m, p = (float(x) for x in ln.split(","))
             rows.append((f, m, p))
     except ValueError:
-        tally.check(False, L + "bode rows", "unparsable row %r" % ln,
+        tally.check(False, L + "gain rows", "unparsable row %r" % ln,
                     numeric=False)
         return
-    tally.check(len(rows) == 60, L + "bode points", "got %d rows" % len(rows),
+    tally.check(len(rows) == 60, L + "gain points", "got %d rows" % len(rows),
                 numeric=False)
     if not rows:
         return
     tally.check(relerr(rows[0][0], ref.fmin) <= 1e-6 and
-                relerr(rows[-1][0], ref.fmax) <= 1e-6, L + "bode band",
+                relerr(rows[-1][0], ref.fmax) <= 1e-6, L + "gain band",
                 "ref %.9g..%.9g Hz, csv %.9g..%.9g Hz"
                 % (ref.fmin, ref.fmax, rows[0][0], rows[-1][0]))
     fq = [r[0] for r in rows]
@@ -1983,11 +1987,11 @@ def compare_bode(path, exe, tally, ref, L, tol):
             badm.append("%.6g Hz: ref %.9f dB, csv %.9f" % (fr, rm, m))
         if ep > tol["bode_phase"]:
             badp.append("%.6g Hz: ref %.6f deg, csv %.6f" % (fr, rp, p))
-    tally.check(not badm, L + "bode magnitude",
+    tally.check(not badm, L + "gain magnitude",
                 ("max abs err %.2e dB" % wm) if not badm else
                 "%d rows off, max %.2e dB; first: %s" % (len(badm), wm,
                                                          badm[0]))
-    tally.check(not badp, L + "bode phase (unwrapped)",
+    tally.check(not badp, L + "gain phase (unwrapped)",
                 ("max abs err %.2e deg" % wp) if not badp else
                 "%d rows off, max %.2e deg; first: %s" % (len(badp), wp,
                                                           badp[0]))

@@ -541,6 +541,51 @@ static void test_set_errors(void **state)
     desc_free(d);
 }
 
+/* Issue 17, fault 8: a param's unit is the unit of the fields it is the
+ * whole value of (by the definition of each field: node r and res in ohm,
+ * node c and cap in farad, gm in siemens); a param that only sits inside a
+ * larger expression, or feeds fields of different units, has none. */
+static void test_param_units_from_fields(void **state)
+{
+    (void)state;
+    desc *d = must_parse_eval("param cl = 4p\n"          /* node c: F */
+                              "param cm = 1p\n"          /* cap: F */
+                              "param cm2 = cm\n"         /* a param that is exactly cm */
+                              "param g2 = 1.8m\n"        /* -g2 in a gm: S */
+                              "param ro = 60k\n"         /* node r and a res: ohm */
+                              "param k = 2\n"            /* only inside a product: none */
+                              "param both = 1k\n"        /* a res and a gm: mixed, none */
+                              "param unused = 3\n"
+                              "node a r=ro c=cl\n"
+                              "node b r=1M c=80f\n"
+                              "gm g1 a -> b 100u\n"
+                              "gm g2e b -> a -g2\n"
+                              "gm g3 a -> b both\n"
+                              "cap cc b a cm2\n"
+                              "res r1 a gnd ro\n"
+                              "res r2 b gnd both\n"
+                              "res r3 a b k*ro\n"
+                              "loop main negative a b\n"
+                              "break g1\n");
+    static const struct { const char *name; expr_unit unit; } want[] = {
+        { "cl", UNIT_F }, { "cm", UNIT_F }, { "cm2", UNIT_F }, { "g2", UNIT_S },
+        { "ro", UNIT_OHM }, { "k", UNIT_ANY }, { "both", UNIT_ANY }, { "unused", UNIT_ANY },
+    };
+    for (size_t j = 0; j < sizeof want / sizeof *want; j++) {
+        desc_target t;
+        lw_error err;
+        assert_int_equal(desc_target_find(d, want[j].name, &t, &err), LW_OK);
+        if (desc_target_shown_unit(d, t) != want[j].unit) {
+            print_error("param %s: unit %d, expected %d\n", want[j].name,
+                        desc_target_shown_unit(d, t), want[j].unit);
+            fail();
+        }
+        /* what the command line accepts for a param is unchanged: any unit */
+        assert_int_equal(desc_target_unit(d, t), UNIT_ANY);
+    }
+    desc_free(d);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -563,6 +608,7 @@ int main(void)
         cmocka_unit_test(test_set_param_reevaluates_dependents),
         cmocka_unit_test(test_set_element_and_node_fields),
         cmocka_unit_test(test_set_errors),
+        cmocka_unit_test(test_param_units_from_fields),
     };
     return cmocka_run_group_tests_name("desc", tests, NULL, NULL);
 }

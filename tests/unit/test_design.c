@@ -59,7 +59,7 @@ static void size_two_pole_exact(void **state)
     const double R1 = 100e3, A = 1e-3 * 100e3 * 10e-3 * 10e3, p2 = 1.0 / (10e3 * 1e-12);
     const double pms[] = { 45, 60, 75 };
     for (int k = 0; k < 3; k++) {
-        design_goal g = { pms[k], NAN };
+        design_goal g = { pms[k], NAN, 1 };
         size_result r;
         lw_error err;
         assert_int_equal(size_run(d, t, 1e-13, 1e-8, g, &o, &r, &err), 0);
@@ -90,7 +90,7 @@ static void sweep_crossing_closed_form(void **state)
     desc *d = load_text(moving_pole);
     desc_target t = target(d, "r2");
     check_opts o = { .want_owner = 1 };
-    design_goal g = { 60, NAN };
+    design_goal g = { 60, NAN, 1 };
     sweep_result r;
     lw_error err;
     assert_int_equal(sweep_run(d, t, 1e3, 1e6, 25, 0, g, &o, &r, &err), 0);
@@ -133,7 +133,7 @@ static void miller_rule_of_thumb(void **state)
     desc *d = load_text(miller);
     desc_target t = target(d, "cc");
     check_opts o = { .want_owner = 1 };
-    design_goal g = { 60, NAN };
+    design_goal g = { 60, NAN, 1 };
     size_result r;
     lw_error err;
     assert_int_equal(size_run(d, t, 1e-14, 1e-10, g, &o, &r, &err), 0);
@@ -152,7 +152,7 @@ static void size_unreachable(void **state)
     desc *d = load_text(two_pole_text);
     desc_target t = target(d, "cdom");
     check_opts o = { .want_owner = 1 };
-    design_goal g = { 89.9, NAN };
+    design_goal g = { 89.9, NAN, 1 };
     size_result r;
     lw_error err;
     assert_int_equal(size_run(d, t, 1e-13, 1e-11, g, &o, &r, &err), 0);
@@ -180,7 +180,7 @@ static void load_outside(void **state)
     (void)state;
     desc *d = load_text(tap);
     check_opts o = { .want_owner = 1 };
-    design_goal g = { 60, NAN };
+    design_goal g = { 60, NAN, 1 };
     load_result r;
     lw_error err;
     assert_int_equal(load_run(d, desc_find_node(d, "o"), 1e-12, 1e-9, 25, g, &o, &r, &err), 0);
@@ -195,6 +195,32 @@ static void load_outside(void **state)
     desc_free(d);
 }
 
+/* SPEC section 5 (issue 17): the goal a point meets, and when a point makes
+ * a command exit 1. The rules are the SPEC's own; no numbers are computed. */
+static void goal_rules(void **state)
+{
+    (void)state;
+    design_point ok = { .pm_deg = 65, .gm_db = 12, .stable = 1 };
+    design_point low = { .pm_deg = 40, .gm_db = 12, .stable = 1 };
+    design_point unbounded = { .pm_deg = 65, .gm_db = NAN, .stable = 1 };
+    design_point unstable = { .pm_deg = 65, .gm_db = 12, .stable = 0 };
+    design_goal reference = { 60, NAN, 0 }, target = { 60, NAN, 1 }, gm = { 60, 10, 0 };
+    design_goal gm_high = { 60, 20, 0 };
+    assert_true(design_meets(&ok, reference));
+    assert_false(design_meets(&low, reference));
+    /* the default 60 degrees is a reference: missing it never fails */
+    assert_false(design_fails(&low, reference));
+    assert_true(design_fails(&low, target));
+    assert_true(design_fails(&unstable, reference));
+    /* a phase that never reaches -180 degrees: unbounded, meets any --gm */
+    assert_true(design_meets(&unbounded, gm_high));
+    assert_false(design_fails(&unbounded, gm_high));
+    assert_true(design_goal_distance(&unbounded, gm_high) > 0);
+    assert_true(design_meets(&ok, gm));
+    assert_false(design_meets(&ok, gm_high));
+    assert_true(design_fails(&ok, gm_high));
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -203,6 +229,7 @@ int main(void)
         cmocka_unit_test(miller_rule_of_thumb),
         cmocka_unit_test(size_unreachable),
         cmocka_unit_test(load_outside),
+        cmocka_unit_test(goal_rules),
     };
     return cmocka_run_group_tests_name("design", tests, NULL, NULL);
 }

@@ -92,7 +92,7 @@ static void yield_normal_cdf(void **state)
     const double want = 1 - gsl_cdf_ugaussian_P((cstar - 30e-12) / 6e-12);
     text_file *t = text_of(two_pole_text);
     check_opts o = { 0 };
-    design_goal g = { pm, NAN };
+    design_goal g = { pm, NAN, 1 };
     mc_result r;
     lw_error err;
     const int n = 20000;
@@ -113,7 +113,7 @@ static void deterministic(void **state)
     (void)state;
     text_file *t = text_of(two_pole_text);
     check_opts o = { 0 };
-    design_goal g = { 60, NAN };
+    design_goal g = { 60, NAN, 1 };
     mc_result a, b, c;
     lw_error err;
     assert_int_equal(montecarlo_run(t, "t", NULL, 0, 500, 7, g, &o, NULL, &a, &err), 0);
@@ -137,7 +137,7 @@ static void corners_two_pole(void **state)
                         "node a r=100k c=cdom\nnode b r=r2 c=1p\n"
                         "gm g1 a -> b 1m\ngm g2 b -> a -10m\nloop l negative a b\nbreak g1\n");
     check_opts o = { 0 };
-    design_goal g = { 60, NAN };
+    design_goal g = { 60, NAN, 1 };
     corner_result r;
     lw_error err;
     assert_int_equal(corners_run(d, &o, g, &r, &err), 0);
