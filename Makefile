@@ -36,7 +36,7 @@ LIB_OBJ := $(LIB_SRC:src/%.c=$(BUILD)/%.o)
 TEST_SRC := $(wildcard tests/unit/test_*.c)
 TEST_BIN := $(TEST_SRC:tests/unit/%.c=$(BUILD)/tests/%)
 
-.PHONY: all check demo bench install clean deps unit golden reference fuzz fuzz-run \
+.PHONY: all check demo bench install clean deps unit golden reference binom fuzz fuzz-run \
         sanitize sanitize-run memcheck
 
 # The package check runs first; a second make then sees pkg-config's answers.
@@ -82,8 +82,17 @@ reference: loopwise
 	@LOOPWISE=./loopwise $(PYTHON) tests/ref/numpy_ref.py
 	@LOOPWISE=./loopwise $(PYTHON) tests/ref/family.py
 
+# Clopper-Pearson bounds over the whole grid against scipy and the definition.
+$(BUILD)/tests/binom_grid: tests/binom/grid.c $(BUILD)/libloopwise.a | $(BUILD)
+	@mkdir -p $(BUILD)/tests
+	@echo "  CC      $<"
+	$(Q)$(CC) $(ALL_CFLAGS) -o $@ $< $(BUILD)/libloopwise.a $(LDLIBS)
+
+binom: $(BUILD)/tests/binom_grid
+	@$(PYTHON) tests/binom/check.py ./$(BUILD)/tests/binom_grid
+
 check: all
-	@$(MAKE) --no-print-directory unit golden reference
+	@$(MAKE) --no-print-directory unit golden reference binom
 
 # The main job on the reference core: its report, the compensation for 60
 # degrees, the series resistor over two decades, and the output tap's load.
@@ -189,4 +198,4 @@ memcheck: all
 bench: all
 	@sh bench/run.sh
 
--include $(LIB_OBJ:.o=.d) $(BUILD)/main.d $(TEST_BIN:=.d)
+-include $(LIB_OBJ:.o=.d) $(BUILD)/main.d $(TEST_BIN:=.d) $(BUILD)/tests/binom_grid.d

@@ -1,7 +1,8 @@
 /* variation: corners and Monte Carlo on top of check. */
 #include "loopwise/variation.h"
 
-#include <gsl/gsl_cdf.h>
+#include "loopwise/binom.h"
+
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_randist.h>
 #include <gsl/gsl_rng.h>
@@ -227,10 +228,11 @@ static const gsl_rng_type sm64_type = { "splitmix64", 0xffffffffUL, 0, sizeof(sm
 
 void mc_clopper_pearson(int x, int n, double alpha, double *lo, double *hi, double *lower1)
 {
-    /* Clopper and Pearson (1934): the bounds are beta quantiles. */
-    *lo = x == 0 ? 0.0 : gsl_cdf_beta_Pinv(alpha / 2, x, n - x + 1);
-    *hi = x == n ? 1.0 : gsl_cdf_beta_Pinv(1 - alpha / 2, x + 1, n - x);
-    *lower1 = x == 0 ? 0.0 : gsl_cdf_beta_Pinv(alpha, x, n - x + 1);
+    /* Clopper and Pearson (1934): binomial tails of alpha/2 on each side,
+     * and of alpha on the lower side alone (binom.c). */
+    *lo = binom_lower_bound(x, n, alpha / 2);
+    *hi = binom_upper_bound(x, n, alpha / 2);
+    *lower1 = binom_lower_bound(x, n, alpha);
 }
 
 static int load_copy(const text_file *t, const char *path, const char *const *sets, int nsets,
