@@ -36,7 +36,7 @@ LIB_OBJ := $(LIB_SRC:src/%.c=$(BUILD)/%.o)
 TEST_SRC := $(wildcard tests/unit/test_*.c)
 TEST_BIN := $(TEST_SRC:tests/unit/%.c=$(BUILD)/tests/%)
 
-.PHONY: all check demo bench install clean deps unit golden reference binom fuzz fuzz-run \
+.PHONY: all check demo bench install clean deps unit golden reference binom bytes fuzz fuzz-run \
         sanitize sanitize-run memcheck
 
 # The package check runs first; a second make then sees pkg-config's answers.
@@ -76,23 +76,34 @@ golden: $(LW_BIN)
 	@sh tests/golden/variation.sh ./$(LW_BIN)
 	@sh tests/golden/large.sh ./$(LW_BIN)
 	@sh tests/golden/rules.sh ./$(LW_BIN)
+	@sh tests/golden/bytes.sh ./$(LW_BIN)
 
 reference: loopwise
 	@$(PYTHON) tests/ref/numpy_ref.py --selftest
 	@LOOPWISE=./loopwise $(PYTHON) tests/ref/numpy_ref.py
 	@LOOPWISE=./loopwise $(PYTHON) tests/ref/family.py
 
-# Clopper-Pearson bounds over the whole grid against scipy and the definition.
+# Small drivers print what a library function gives over a whole grid; a
+# Python script compares it with an outside reference: the Clopper-Pearson
+# bounds with scipy and the definition, the reader's byte rules with
+# Python's UTF-8 decoder.
+DRIVER_CC = $(Q)mkdir -p $(BUILD)/tests && echo "  CC      $<" && \
+            $(CC) $(ALL_CFLAGS) -o $@ $< $(BUILD)/libloopwise.a $(LDLIBS)
+
 $(BUILD)/tests/binom_grid: tests/binom/grid.c $(BUILD)/libloopwise.a | $(BUILD)
-	@mkdir -p $(BUILD)/tests
-	@echo "  CC      $<"
-	$(Q)$(CC) $(ALL_CFLAGS) -o $@ $< $(BUILD)/libloopwise.a $(LDLIBS)
+	$(DRIVER_CC)
+
+$(BUILD)/tests/text_bytes: tests/text/bytes.c $(BUILD)/libloopwise.a | $(BUILD)
+	$(DRIVER_CC)
 
 binom: $(BUILD)/tests/binom_grid
 	@$(PYTHON) tests/binom/check.py ./$(BUILD)/tests/binom_grid
 
+bytes: $(BUILD)/tests/text_bytes
+	@$(PYTHON) tests/text/check.py ./$(BUILD)/tests/text_bytes
+
 check: all
-	@$(MAKE) --no-print-directory unit golden reference binom
+	@$(MAKE) --no-print-directory unit golden reference binom bytes
 
 # The main job on the reference core: its report, the compensation for 60
 # degrees, the series resistor over two decades, and the output tap's load.
@@ -198,4 +209,4 @@ memcheck: all
 bench: all
 	@sh bench/run.sh
 
--include $(LIB_OBJ:.o=.d) $(BUILD)/main.d $(TEST_BIN:=.d) $(BUILD)/tests/binom_grid.d
+-include $(LIB_OBJ:.o=.d) $(BUILD)/main.d $(TEST_BIN:=.d) $(BUILD)/tests/binom_grid.d $(BUILD)/tests/text_bytes.d

@@ -92,6 +92,28 @@ int option_number(const char *name, const char *text, expr_unit unit, double *v)
     return 0;
 }
 
+/* Every argument must be text by the file's rules (text_find_bad_byte):
+ * arguments reach messages, reproduce lines and plot scripts. */
+static int check_arguments(int argc, char **argv)
+{
+    for (int k = 1; k < argc; k++) {
+        char what[160];
+        int kind;
+        long off = text_find_bad_byte(argv[k], strlen(argv[k]), "the end of the argument", &kind,
+                                      what, sizeof what);
+        if (off < 0)
+            continue;
+        fprintf(stderr, "loopwise: argument %d", k);
+        if (k > 1 && argv[k - 1][0] == '-')
+            fprintf(stderr, " (after %s)", argv[k - 1]);
+        fprintf(stderr, ", character %d: %s; expected UTF-8 text with no control character "
+                "but tab\nrun 'loopwise --help' for the commands and options\n",
+                text_col(argv[k], (int)off), what);
+        return 2;
+    }
+    return 0;
+}
+
 static int parse_options(int argc, char **argv, options *o)
 {
     for (int k = 1; k < argc; k++) {
@@ -312,7 +334,9 @@ int main(int argc, char **argv)
         }
     }
     options o = { .pm = 60.0, .width = 960, .height = 720 };
-    int code = parse_options(argc, argv, &o);
+    int code = check_arguments(argc, argv);
+    if (!code)
+        code = parse_options(argc, argv, &o);
     if (code)
         return code;
     gsl_set_error_handler_off();

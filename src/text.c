@@ -22,7 +22,7 @@ void text_error_source(lw_error *err, const char *raw)
 
 static int is_space(char c)
 {
-    return c == ' ' || c == '\t' || c == '\f' || c == '\v';
+    return c == ' ' || c == '\t';
 }
 
 void text_free(text_file *t)
@@ -75,18 +75,130 @@ static int split_line(text_line *ln, char **arena, lw_error *err)
     return LW_OK;
 }
 
-/* Rejects bytes that cannot be text: NUL and other control characters. */
-static int check_bytes(const char *line, int number, lw_error *err)
+/* Names of the C0 control characters, by code (ISO 6429). */
+static const char *const c0_name[32] = {
+    "NUL", "SOH", "STX", "ETX", "EOT", "ENQ", "ACK", "BEL", "BS", "HT", "LF",
+    "VT", "FF", "CR", "SO", "SI", "DLE", "DC1", "DC2", "DC3", "DC4", "NAK",
+    "SYN", "ETB", "CAN", "EM", "SUB", "ESC", "FS", "GS", "RS", "US"
+};
+
+/* Appends " 0xNN" for each of the n bytes at s. */
+static void put_bytes(char *what, size_t size, const unsigned char *s, int n)
 {
-    for (int k = 0; line[k]; k++) {
-        unsigned char c = (unsigned char)line[k];
-        if (c < 0x20 && c != '\t' && c != '\f' && c != '\v') {
-            text_error_source(err, "");
-            return lw_error_at(err, number, text_col(line, k),
-                               "control byte 0x%02x in the text; expected a UTF-8 text file", c);
-        }
+    size_t used = strlen(what);
+    for (int k = 0; k < n && used < size; k++)
+        used += (size_t)snprintf(what + used, size - used, " 0x%02X", s[k]);
+}
+
+/* One UTF-8 sequence at s (len bytes left), by Unicode 15.0, section 3.9,
+ * table 3-7 (well-formed byte sequences): the lead byte fixes the length,
+ * every other byte is 10xxxxxx, and the code point must need that length
+ * (no overlong form), lie outside the surrogates D800..DFFF and not pass
+ * 10FFFF. Returns the sequence's length, or 0 with what[] saying why not. */
+static int utf8_sequence(const unsigned char *s, size_t len, const char *cut, char *what,
+                         size_t size, unsigned *cp)
+{
+    unsigned c = s[0];
+    int need = c < 0x80 ? 1 : c < 0xC0 ? 0 : c < 0xE0 ? 2 : c < 0xF0 ? 3 : c < 0xF8 ? 4 : -1;
+    if (need == 1) {
+        *cp = c;
+        return 1;
     }
-    return LW_OK;
+    snprintf(what, size, "invalid UTF-8 sequence");
+    if (need <= 0) {
+        put_bytes(what, size, s, 1);
+        size_t used = strlen(what);
+        snprintf(what + used, size - used, need == 0 ? " (a continuation byte with no lead "
+                 "byte before it)" : " (a byte that never occurs in UTF-8)");
+        return 0;
+    }
+    int got = 1;
+    while (got < need && (size_t)got < len && (s[got] & 0xC0) == 0x80)
+        got++;
+    put_bytes(what, size, s, got);
+    size_t used = strlen(what);
+    if (got < need) {
+        if ((size_t)got == len)
+            snprintf(what + used, size - used, " (truncated: %d bytes expected, %d before %s)",
+                     need, got, cut);
+        else
+            snprintf(what + used, size - used, " (truncated: %d bytes expected, %d before "
+                     "0x%02X)", need, got, s[got]);
+        return 0;
+    }
+    static const unsigned lead_bits[5] = { 0, 0, 0x1F, 0x0F, 0x07 };
+    static const unsigned shortest[5] = { 0, 0, 0x80, 0x800, 0x10000 };
+    unsigned v = c & lead_bits[need];
+    for (int k = 1; k < need; k++)
+        v = v << 6 | (s[k] & 0x3Fu);
+    if (v < shortest[need])
+        snprintf(what + used, size - used, " (an overlong encoding of U+%04X)", v);
+    else if (v >= 0xD800 && v <= 0xDFFF)
+        snprintf(what + used, size - used, " (the UTF-16 surrogate U+%04X, not a character)", v);
+    else if (v > 0x10FFFF)
+        snprintf(what + used, size - used, " (U+%X, beyond the last code point U+10FFFF)", v);
+    else {
+        *cp = v;
+        return need;
+    }
+    return 0;
+}
+
+long text_find_bad_byte(const char *text, size_t len, const char *cut, int *kind, char *what,
+                        size_t size)
+{
+    const unsigned char *s = (const unsigned char *)text;
+    for (size_t k = 0; k < len;) {
+        unsigned cp = 0;
+        int n = utf8_sequence(s + k, len - k, cut, what, size, &cp);
+        if (n == 0) {
+            *kind = TEXT_BAD_UTF8;
+            return (long)k;
+        }
+        if (cp == 0 || (cp < 0x20 && cp != '\t') || cp == 0x7F) {
+            if (cp == 0)
+                snprintf(what, size, "NUL byte");
+            else
+                snprintf(what, size, "control character 0x%02X (%s)", cp,
+                         cp == 0x7F ? "DEL" : c0_name[cp]);
+            *kind = TEXT_BAD_CONTROL;
+            return (long)k;
+        }
+        if (cp >= 0x80 && cp <= 0x9F) {
+            snprintf(what, size, "control character U+%04X (bytes 0x%02X 0x%02X)", cp, s[k],
+                     s[k + 1]);
+            *kind = TEXT_BAD_CONTROL;
+            return (long)k;
+        }
+        k += (size_t)n;
+    }
+    return -1;
+}
+
+/* Refuses a line holding a byte that is not text (text_find_bad_byte),
+ * pointing at it; the caret line shows the good text before it. */
+static int check_bytes(const char *line, size_t len, int number, int last, lw_error *err)
+{
+    char what[160];
+    int kind;
+    long off = text_find_bad_byte(line, len, last ? "the end of the file" : "the end of the line",
+                                  &kind, what, sizeof what);
+    if (off < 0)
+        return LW_OK;
+    size_t keep = (size_t)off < LW_SRC_MAX - 1 ? (size_t)off : LW_SRC_MAX - 1;
+    while (keep > 0 && ((unsigned char)line[keep] & 0xC0) == 0x80)
+        keep--; /* cut at a character boundary */
+    memcpy(err->src, line, keep);
+    err->src[keep] = '\0';
+    int col = 1;
+    for (long k = 0; k < off; k++)
+        col += ((unsigned char)line[k] & 0xC0) != 0x80;
+    if (line[off] == '\r')
+        return lw_error_at(err, number, col, "carriage return not followed by a line feed; "
+                           "expected LF or CRLF line ends");
+    return lw_error_at(err, number, col, "%s; expected %s", what,
+                       kind == TEXT_BAD_UTF8 ? "UTF-8 text (save the file as UTF-8)"
+                                             : "text with no control character but tab");
 }
 
 int text_from_buffer(const char *buf, size_t len, text_file **out, lw_error *err)
@@ -117,11 +229,14 @@ int text_from_buffer(const char *buf, size_t len, text_file **out, lw_error *err
         while (end < len && store[end] != '\n')
             end++;
         number++;
+        int last = end == len;
         size_t next = end + 1;
-        if (end > pos && store[end - 1] == '\r')
-            end--;
-        store[end] = '\0';
+        if (!last && end > pos && store[end - 1] == '\r')
+            end--; /* CRLF; a carriage return anywhere else is refused below */
         pos = next;
+        if ((rc = check_bytes(line, end - (size_t)(line - store), number, last, err)) != LW_OK)
+            break;
+        store[end] = '\0';
         if (number > TEXT_MAX_LINES) {
             rc = lw_error_at(err, number, 1, "too many lines (limit %d)", TEXT_MAX_LINES);
             break;
@@ -132,8 +247,6 @@ int text_from_buffer(const char *buf, size_t len, text_file **out, lw_error *err
                              "line longer than %d bytes", TEXT_MAX_LINE);
             break;
         }
-        if ((rc = check_bytes(line, number, err)) != LW_OK)
-            break;
         char *hash = strchr(line, '#');
         if (hash)
             *hash = '\0';

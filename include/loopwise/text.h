@@ -1,5 +1,9 @@
 /* text: a .loop file as lines of white-space separated tokens with positions.
  *
+ * Every byte is checked before anything is split: the file must be UTF-8
+ * text whose only control characters are tab and the line ends (LF, or CRLF);
+ * the first byte that is not is refused with its line and column.
+ *
  * Ownership: text_read/text_from_buffer allocate a text_file that owns every
  * line and token string; text_free releases it (NULL is accepted). Token
  * pointers stay valid until text_free. */
@@ -42,6 +46,21 @@ int text_read(const char *path, text_file **out, lw_error *err);
 /* Splits an in-memory buffer (used by tests and the fuzzer). */
 int text_from_buffer(const char *buf, size_t len, text_file **out, lw_error *err);
 void text_free(text_file *t);
+
+/* What kind of byte text_find_bad_byte found. */
+enum { TEXT_BAD_CONTROL = 1, TEXT_BAD_UTF8 = 2 };
+
+/* The first byte of text[0..len) that text may not hold: NUL, a control
+ * character other than tab (C0, DEL, and C1 as U+0080..U+009F), or
+ * malformed UTF-8 (overlong, a surrogate, beyond U+10FFFF, truncated, a
+ * continuation byte without its lead byte, a byte never used in UTF-8).
+ * Returns its byte offset, with *kind and what[size] saying what it is
+ * ("NUL byte", "invalid UTF-8 sequence 0xC0 0xAF (an overlong encoding of
+ * U+002F)"); cut names what ends the text, for a truncated sequence ("the
+ * end of the line"). Returns -1 when every byte is good. A line's end (LF,
+ * or CR before LF) is not part of text. */
+long text_find_bad_byte(const char *text, size_t len, const char *cut, int *kind, char *what,
+                        size_t size);
 
 /* Column (1-based, in characters) of byte offset off within line raw. */
 int text_col(const char *raw, int off);
