@@ -313,11 +313,26 @@ int report_gain(FILE *f, const desc *d, const check_result *r, int npoints, gain
         double hz = pow(10.0, npoints > 1 ? lo + (hi - lo) * k / (npoints - 1) : lo), mag;
         double ph = margin_phase(r->lg, &r->tf, hz, &mag, NULL);
         double db = 20.0 * log10(mag);
-        if (fmt == GAIN_TEXT)
-            fprintf(f, "  %-14s %12.3f %12.3f\n", si_format(hz, "Hz", a, sizeof a), db, ph);
-        else if (fmt == GAIN_CSV)
-            fprintf(f, "%.17g,%.17g,%.17g\n", hz, isfinite(db) ? db : -HUGE_VAL, ph);
-        else {
+        if (fmt == GAIN_TEXT) {
+            /* |T| = 0 has no level in dB, nor T a phase: said in words */
+            fprintf(f, "  %-14s", si_format(hz, "Hz", a, sizeof a));
+            if (isfinite(db))
+                fprintf(f, " %12.3f", db);
+            else
+                fprintf(f, " %12s", "T = 0");
+            if (isfinite(ph))
+                fprintf(f, " %12.3f\n", ph);
+            else
+                fprintf(f, " %12s\n", "undefined");
+        } else if (fmt == GAIN_CSV) {
+            fprintf(f, "%.17g,", hz); /* undefined: an empty field, as JSON's null */
+            if (isfinite(db))
+                fprintf(f, "%.17g", db);
+            fputc(',', f);
+            if (isfinite(ph))
+                fprintf(f, "%.17g", ph);
+            fputc('\n', f);
+        } else {
             fprintf(f, "%s\n  {\"hz\": ", k ? "," : "");
             json_number(f, hz);
             fputs(", \"mag_db\": ", f);

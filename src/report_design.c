@@ -89,12 +89,13 @@ static void json_point(FILE *f, const design_point *p)
     fputc('}', f);
 }
 
+/* An undefined or unbounded value is an empty field, as JSON's null. */
 static void csv_num(FILE *f, double v, const char *sep)
 {
     if (isfinite(v))
         fprintf(f, "%.17g%s", v, sep);
     else
-        fprintf(f, "%s%s", isinf(v) ? (v > 0 ? "inf" : "-inf") : "", sep);
+        fputs(sep, f);
 }
 
 void report_pad(FILE *f, const char *s, int width)

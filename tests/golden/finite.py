@@ -1,0 +1,190 @@
+#!/usr/bin/python3
+"""No output of any command ever holds a non-finite number (issue 14).
+
+    /usr/bin/python3 tests/golden/finite.py ./loopwise
+
+Runs every command, as text, as JSON and as CSV where it writes CSV, over
+every demo case (cases/), every reference network (tests/ref/nets, extreme,
+large), the small limit cases of tests/limits/gen.py, and a few networks
+made here to reach the undefined figures (a loop that never crosses 0 dB,
+Monte Carlo of one sample, of samples that all fail). Fails when standard
+output, a CSV file or the warnings of a run that succeeded hold a token
+`nan`, `inf`, `infinity` (any case, any sign) standing alone: undefined
+figures are said in words (text) or null (JSON). Words that merely contain
+the letters ("information", "infinite") are prose and pass. Refusals (exit
+2) may quote what the user wrote (`r=inf` is the format's own constant), so
+only their standard output, which must be empty, is checked.
+
+The commands and their arguments are listed once, in COMMANDS below.
+"""
+import concurrent.futures
+import os
+import re
+import subprocess
+import sys
+import tempfile
+
+LW = os.path.abspath(sys.argv[1] if len(sys.argv) > 1 else "./loopwise")
+PY = "/usr/bin/python3"
+
+# Every command with the arguments it needs; {cap}, {res}, {node} name an
+# element or node of the file, {png} is a picture in the scratch directory.
+# A command whose names the file lacks is skipped for that file.
+COMMANDS = {
+    "check": [[]],
+    "bode": [["--points", "40"], ["--points", "40", "--csv", "-"]],
+    "size": [["--tune", "{cap}"], ["--tune", "{res}", "--pm", "45", "--gm", "10"]],
+    "sweep": [["--vary", "{cap}", "--from", "1f", "--to", "1n", "--points", "6"],
+              ["--vary", "{res}", "--from", "1", "--to", "10M", "--points", "6", "--csv", "-"]],
+    "load": [["--node", "{node}", "--cload", "1f..10n", "--points", "6"]],
+    "polemap": [["-o", "{png}"]],
+    "corners": [[]],
+    "montecarlo": [["--samples", "40", "--seed", "3"], ["--samples", "1", "--seed", "1"]],
+}
+
+# A token that is a non-finite number as C, Python or JavaScript print it.
+BAD = re.compile(r"(?<![A-Za-z0-9_])[-+]?(nan|inf|infinity)(?![A-Za-z0-9_])", re.I)
+
+SPECIAL = {
+    # T(0) = 0.5: the loop gain never reaches 0 dB, so there is no crossover
+    # and no phase margin anywhere; a spread on it makes every Monte Carlo
+    # sample and corner fail with empty statistics.
+    "no_crossover": """param g = 0.5m corners -10%..+10% normal 5%
+node a r=10k c=1p
+node b r=100 c=1p
+gm ga a -> b -g
+gm gb b -> a 1m
+cap cx a b 0.1p
+res rx b gnd 1M
+loop main negative a b
+""",
+    # An integrator in the loop: T(0) is unbounded.
+    "integrator": """param c0 = 1p corners 0.5p..2p normal 10%
+node a r=inf c=c0
+node b r=10k c=1p
+gm ga a -> b -1m
+gm gb b -> a 1m
+cap cx a b 0.1p
+res rx b gnd 1M
+loop main negative a b
+""",
+    # A zero at s = 0 (AC coupling): T(0) = 0.
+    "ac_coupled": """param cc = 10p corners -20%..+20% uniform 5p..20p
+node a r=10k c=1p
+node m r=10k c=1p
+node b r=10k c=1p
+gm ga a -> m -1m
+cap cx m b cc
+gm gb b -> a 1m
+res rx b gnd 1M
+loop main negative a m b
+""",
+}
+
+
+def files(scratch):
+    out = sorted("cases/" + f for f in os.listdir("cases") if f.endswith(".loop"))
+    for d in ("tests/ref/nets", "tests/ref/extreme", "tests/ref/large"):
+        out += sorted(os.path.join(d, f) for f in os.listdir(d) if f.endswith(".loop"))
+    lim = os.path.join(scratch, "limits")
+    subprocess.run([PY, "tests/limits/gen.py", lim], check=True)
+    # the small ones at their limit (the 4096-node and 8 MiB files take long)
+    for name in ("tokens", "name", "loops", "nesting", "corners", "line_bytes"):
+        out.append(os.path.join(lim, name + "_at.loop"))
+    for name, text in SPECIAL.items():
+        path = os.path.join(scratch, name + ".loop")
+        with open(path, "w") as f:
+            f.write(text)
+        out.append(path)
+    return out
+
+
+def names(path):
+    """The first cap, res and node of the file, for the commands' arguments."""
+    got = {}
+    with open(path, encoding="utf-8") as f:
+        for line in f:
+            t = line.split("#")[0].split()
+            if len(t) >= 2 and t[0] in ("cap", "res", "node") and t[0] not in got:
+                got[t[0]] = t[1]
+    return got
+
+
+def with_spread(path, scratch):
+    """The file with its first cap or res (else its first gm) scaled by a
+    factor with corners and a distribution, so that corners and montecarlo have something to
+    vary; a file that has spreads of its own is left as it is."""
+    with open(path, encoding="utf-8") as f:
+        lines = f.read().split("\n")
+    toks = [line.split("#")[0].split() for line in lines]
+    if any(w in ("corners", "normal", "uniform") for t in toks for w in t):
+        return path
+    at = [i for i, t in enumerate(toks) if len(t) >= 5 and t[0] in ("cap", "res")]
+    at += [i for i, t in enumerate(toks) if len(t) >= 6 and t[0] == "gm"]
+    if not at:
+        return path
+    i = at[0]
+    head = 4 if toks[i][0] != "gm" else 5
+    # a factor on the value: a percentage of a negative nominal would invert the range
+    lines[i] = " ".join(toks[i][:head] + ["lw_spread*(%s)" % " ".join(toks[i][head:])])
+    lines.insert(i, "param lw_spread = 1 corners -30%..+30% normal 10%")
+    out = os.path.join(scratch, "spread_" + os.path.basename(path))
+    with open(out, "w") as f:
+        f.write("\n".join(lines))
+    return out
+
+
+def runs(scratch):
+    for path in files(scratch):
+        n = names(path)
+        for cmd, variants in COMMANDS.items():
+            target = with_spread(path, scratch) if cmd in ("corners", "montecarlo") else path
+            for args in variants:
+                try:
+                    a = [x.format(cap=n["cap"], res=n["res"], node=n["node"],
+                                  png=os.path.join(scratch, "p%d.png" % os.getpid()))
+                         if "{" in x else x for x in args]
+                except KeyError:
+                    continue
+                if "chain128" in path and cmd in ("corners", "montecarlo", "sweep", "size", "load"):
+                    continue  # 128 nodes: one analysis is slow; check, bode, polemap suffice
+                for json in ([], ["--json"]):
+                    if json and "--csv" in a:
+                        continue
+                    yield [LW, cmd, target] + a + json
+
+
+def one(argv):
+    p = subprocess.run(argv, capture_output=True, text=True, errors="replace", timeout=300)
+    where = []
+    if p.returncode not in (0, 1, 2):
+        where.append("exit %d" % p.returncode)
+    if p.returncode == 2 and p.stdout:
+        where.append("stdout after a refusal")
+    for name, text in (("stdout", p.stdout), ("stderr", p.stderr if p.returncode < 2 else "")):
+        for m in BAD.finditer(text):
+            line = text[:m.start()].count("\n")
+            where.append("%s line %d: %r" % (name, line + 1, text.split("\n")[line][:120]))
+            break
+    return argv, p.returncode, where
+
+
+def main():
+    with tempfile.TemporaryDirectory() as scratch:
+        jobs = list(runs(scratch))
+        failed = 0
+        codes = {}
+        with concurrent.futures.ThreadPoolExecutor(max_workers=2) as ex:
+            for argv, rc, where in ex.map(one, jobs):
+                codes[rc] = codes.get(rc, 0) + 1
+                if where:
+                    failed += 1
+                    print("FAIL", " ".join(argv[1:]).replace(scratch, "TMP"), "->", "; ".join(where))
+    print("finite: %d runs (exit codes %s), %d with a non-finite token" %
+          (len(jobs), ", ".join("%d: %d" % kv for kv in sorted(codes.items())), failed))
+    print("%d passed, %d failed" % (len(jobs) - failed, failed))
+    return 1 if failed else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
