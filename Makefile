@@ -130,7 +130,8 @@ clean:
 
 # ---- hardening: fuzzing, sanitizers, memcheck ------------------------------
 
-# libFuzzer over parsing and the whole 'check' path (tests/fuzz/fuzz_check.c),
+# libFuzzer over the argument checks, option parsing and every command that
+# draws no picture, on a fuzzed file (tests/fuzz/fuzz_check.c),
 # the library built with clang and sanitizers into build/fuzz. New inputs go
 # to build/fuzz/corpus, crashes to build/fuzz/crash-*; the committed seeds in
 # tests/fuzz/corpus and tests/fuzz/regress are only read. FUZZ_ARGS adds
@@ -152,9 +153,10 @@ build/fuzz/%.o: src/%.c
 	@echo "  CC      $< (fuzz)"
 	$(Q)clang $(FUZZ_CFLAGS) -c -o $@ $<
 
-build/fuzz/fuzz_check: tests/fuzz/fuzz_check.c $(FUZZ_OBJ)
+# The target includes src/main.c itself (its option parser is static).
+build/fuzz/fuzz_check: tests/fuzz/fuzz_check.c src/main.c $(FUZZ_OBJ)
 	@echo "  LD      $@"
-	$(Q)clang $(FUZZ_CFLAGS) -fsanitize=fuzzer -o $@ $^ $(FUZZ_LDLIBS)
+	$(Q)clang $(FUZZ_CFLAGS) -fsanitize=fuzzer -o $@ $< $(FUZZ_OBJ) $(FUZZ_LDLIBS)
 
 fuzz-run: build/fuzz/fuzz_check
 	@mkdir -p build/fuzz/corpus

@@ -1,135 +1,204 @@
-/* fuzz_check: a libFuzzer target over the whole 'check' path, as src/main.c
- * runs it:
- *   text_from_buffer -> desc_parse -> (desc_set) -> desc_eval -> model_new
- *   -> check_run -> design_node_table -> report_check_text/json, report_gain
- * with every report written to /dev/null, and input errors printed (caret
- * and all) to /dev/null too.
+/* fuzz_check: a libFuzzer target over the whole program as a user runs it:
+ * the argument checks and option parsing of src/main.c (included below, its
+ * main renamed), then every command's own option checks and analysis, with
+ * the input as the .loop file:
+ *   arguments -> text (every byte checked) -> desc -> (--set) -> desc_eval
+ *   -> model -> check -> the command (check, the gain table, size, sweep,
+ *   load, corners, montecarlo) -> text, JSON and CSV reports
+ * Standard output and the messages go to /dev/null.
  *
- * The input is a .loop file. Comment lines the parser ignores may carry
- * extra requests for the target, so the fuzzer can reach the options too:
- *   #!set NAME=EXPR      a --set override (up to 4)
- *   #!band FMIN FMAX     --fmin / --fmax as lone numbers
+ * Comment lines the parser ignores carry the command line, so the fuzzer
+ * mutates the options together with the file:
+ *   #!cmd WORD        the command (default: check; --json when the input's
+ *                     size is odd)
+ *   #!arg TEXT        one more argument after FILE, the rest of the line as
+ *                     it is (any bytes, so the argument checks are reached)
+ *   #!set NAME=EXPR   the same as '#!arg --set' '#!arg NAME=EXPR'
+ *   #!band FMIN FMAX  '--fmin FMIN --fmax FMAX'
+ *
+ * What the harness refuses to run (after the options were parsed, so their
+ * parsing is still fuzzed): pictures (-o starts gnuplot), files other than
+ * the input, CSV other than standard output or /dev/null, more than
+ * FUZZ_MAX_POINTS points or samples, and the design commands on more than
+ * FUZZ_DESIGN_NODES nodes or FUZZ_MAX_CORNER_PARAMS ranged params (each
+ * runs up to thousands of analyses). Inputs with more than FUZZ_MAX_NODES
+ * node lines are only parsed (analysis is cubic in the nodes).
  *
  * Built by 'make fuzz' with clang -fsanitize=fuzzer,address,undefined. */
-#include <gsl/gsl_errno.h>
 #include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
-#include "loopwise/design.h"
-#include "loopwise/report.h"
-#include "loopwise/text.h"
+/* The program itself: its static option parser becomes callable here. */
+int loopwise_main(int argc, char **argv);
+#define main loopwise_main
+#include "../../src/main.c"
+#undef main
 
 enum {
     FUZZ_MAX_INPUT = 64 << 10,  /* bigger inputs are not interesting, only slow */
-    FUZZ_MAX_NODES = 64,        /* analysis is cubic in the nodes: keep it quick */
-    FUZZ_TABLE_NODES = 12,      /* the node table runs two analyses per node */
-    FUZZ_MAX_SETS = 4,
-    FUZZ_BODE_POINTS = 16
+    FUZZ_MAX_NODES = 64,
+    FUZZ_DESIGN_NODES = 16,
+    FUZZ_MAX_CORNER_PARAMS = 6, /* 64 corners */
+    FUZZ_MAX_POINTS = 64,
+    FUZZ_MAX_ARGS = 48
 };
 
 static FILE *devnull;
+static char path[64];
 
 int LLVMFuzzerInitialize(int *argc, char ***argv);
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size);
 
+static void remove_input(void)
+{
+    unlink(path);
+}
+
+/* The program reads its FILE by name: each input is written to a file of
+ * this process's own, removed at exit. */
 int LLVMFuzzerInitialize(int *argc, char ***argv)
 {
     (void)argc;
     (void)argv;
     gsl_set_error_handler_off();
     devnull = fopen("/dev/null", "w");
-    if (!devnull)
+    snprintf(path, sizeof path, "/tmp/loopwise-fuzz-%ld.loop", (long)getpid());
+    if (!devnull || atexit(remove_input))
         abort();
     return 0;
 }
 
-/* Collects the '#!' requests; sets[] point into the copy buf. */
-static int directives(char *buf, const char **sets, check_opts *co)
+/* Counts the lines whose first word is w. */
+static int count_lines(const char *buf, const char *w)
 {
-    int nsets = 0;
-    for (char *line = buf; line && *line;) {
+    int n = 0;
+    size_t len = strlen(w);
+    for (const char *line = buf; line; line = strchr(line, '\n'), line = line ? line + 1 : NULL) {
+        while (*line == ' ' || *line == '\t')
+            line++;
+        n += !strncmp(line, w, len) && (line[len] == ' ' || line[len] == '\t');
+    }
+    return n;
+}
+
+/* Builds argv from the '#!' lines of buf (a NUL-terminated copy, cut into
+ * lines in place). Returns argc. */
+static int arguments(char *buf, char **argv)
+{
+    static char loopwise[] = "loopwise", check[] = "check", set[] = "--set", fmin[] = "--fmin",
+                fmax[] = "--fmax";
+    int argc = 3;
+    argv[0] = loopwise;
+    argv[1] = check;
+    argv[2] = path;
+    for (char *line = buf; line && *line && argc < FUZZ_MAX_ARGS - 4;) {
         char *nl = strchr(line, '\n');
         if (nl)
             *nl = '\0';
-        char *cr = strchr(line, '\r');
-        if (cr)
-            *cr = '\0';
-        if (!strncmp(line, "#!set ", 6) && nsets < FUZZ_MAX_SETS) {
-            sets[nsets++] = line + 6;
+        if (!strncmp(line, "#!cmd ", 6)) {
+            argv[1] = line + 6;
+        } else if (!strncmp(line, "#!arg ", 6)) {
+            argv[argc++] = line + 6;
+        } else if (!strncmp(line, "#!set ", 6)) {
+            argv[argc++] = set;
+            argv[argc++] = line + 6;
         } else if (!strncmp(line, "#!band ", 7)) {
-            char *a = line + 7, *b = strchr(a, ' ');
-            lw_error e;
-            double lo, hi;
+            char *b = strchr(line + 7, ' ');
             if (b) {
                 *b++ = '\0';
-                if (expr_number(a, UNIT_HZ, &lo, &e) == LW_OK &&
-                    expr_number(b, UNIT_HZ, &hi, &e) == LW_OK && lo > 0 && hi > 0) {
-                    co->fmin_hz = lo;
-                    co->fmax_hz = hi;
-                }
+                argv[argc++] = fmin;
+                argv[argc++] = line + 7;
+                argv[argc++] = fmax;
+                argv[argc++] = b;
             }
         }
         line = nl ? nl + 1 : NULL;
     }
-    return nsets;
+    argv[argc] = NULL;
+    return argc;
+}
+
+/* Whether the parsed options ask for something the harness does not run. */
+static int too_much(const options *o, const char *buf)
+{
+    if (!o->file || strcmp(o->file, path) || o->plot || o->keep_script)
+        return 1;
+    if (o->csv && strcmp(o->csv, "-") && strcmp(o->csv, "/dev/null"))
+        return 1;
+    if (o->points > FUZZ_MAX_POINTS || o->samples > FUZZ_MAX_POINTS)
+        return 1;
+    int design = !strcmp(o->command, "size") || !strcmp(o->command, "sweep") ||
+                 !strcmp(o->command, "load") || !strcmp(o->command, "corners") ||
+                 !strcmp(o->command, "montecarlo");
+    if (design && count_lines(buf, "node") > FUZZ_DESIGN_NODES)
+        return 1;
+    int ranged = 0;
+    for (const char *p = buf; (p = strstr(p, "corners")); p += 7)
+        ranged++;
+    return design && ranged > FUZZ_MAX_CORNER_PARAMS;
+}
+
+/* Parses only (inputs too big to analyse). */
+static void parse_only(const uint8_t *data, size_t size)
+{
+    lw_error err;
+    text_file *t = NULL;
+    desc *d = NULL;
+    lw_error_clear(&err);
+    int rc = text_from_buffer((const char *)data, size, &t, &err);
+    if (!rc)
+        rc = desc_parse(t, "fuzz.loop", &d, &err);
+    if (!rc)
+        rc = desc_eval(d, &err);
+    if (rc)
+        lw_error_print(&err, "fuzz.loop", devnull);
+    desc_free(d);
+    text_free(t);
 }
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
 {
     if (size > FUZZ_MAX_INPUT)
-        return -1;  /* not added to the corpus */
-    char *buf = malloc(size + 1);
-    if (!buf)
-        return 0;
+        return -1; /* not added to the corpus */
+    char *buf = malloc(size + 1), *lines = malloc(size + 1);
+    char *argv[FUZZ_MAX_ARGS + 1];
+    if (!buf || !lines)
+        goto done;
     memcpy(buf, data, size);
     buf[size] = '\0';
-    const char *sets[FUZZ_MAX_SETS];
-    check_opts co = { 0, 0, 1, 1, 0 };
-    int nsets = directives(buf, sets, &co);
-
-    lw_error err;
-    lw_error_clear(&err);
-    text_file *t = NULL;
-    desc *d = NULL;
-    model *m = NULL;
-    check_result r;
-    memset(&r, 0, sizeof r);
-
-    int rc = text_from_buffer((const char *)data, size, &t, &err);
-    if (!rc)
-        rc = desc_parse(t, "fuzz.loop", &d, &err);
-    text_free(t);
-    for (int k = 0; !rc && k < nsets; k++)
-        rc = desc_set(d, sets[k], &err);
-    if (!rc)
-        rc = desc_eval(d, &err);
-    if (!rc && d->nnodes > FUZZ_MAX_NODES)
-        goto done;
-    if (!rc)
-        rc = model_new(d, &m, &err);
-    if (!rc)
-        rc = check_run(d, m, &co, &r, &err);
-    if (!rc && d->nnodes <= FUZZ_TABLE_NODES)
-        rc = design_node_table(d, &co, &r, &err);
-    if (rc) {
-        lw_error_print(&err, "fuzz.loop", devnull);
+    memcpy(lines, buf, size + 1);
+    if (count_lines(buf, "node") > FUZZ_MAX_NODES) {
+        parse_only(data, size);
         goto done;
     }
-    check_warn_gm_cycles(d, devnull);
-    report_target tg = { .pm_deg = 60.0, .given = (int)(size & 1) };
-    report_check_text(devnull, d, m, &r, tg);
-    report_check_json(devnull, d, m, &r);
-    (void)report_check_status(&r, tg);
-    report_gain(devnull, d, &r, FUZZ_BODE_POINTS, GAIN_TEXT);
-    report_gain(devnull, d, &r, FUZZ_BODE_POINTS, GAIN_CSV);
-    report_gain(devnull, d, &r, FUZZ_BODE_POINTS, GAIN_JSON);
+    int argc = arguments(lines, argv);
+    if (argc == 3 && !strcmp(argv[1], "check") && (size & 1)) {
+        static char json[] = "--json";
+        argv[argc++] = json;
+        argv[argc] = NULL;
+    }
+    FILE *out = fopen(path, "wb");
+    if (!out)
+        abort();
+    if (fwrite(data, 1, size, out) != size || fclose(out))
+        abort();
+    /* stdout and stderr are variables in glibc: pointed at /dev/null while
+     * the program runs (the sanitizers write to the descriptor directly) */
+    FILE *so = stdout, *se = stderr;
+    stdout = devnull;
+    stderr = devnull;
+    options o = { .pm = 60.0, .width = 960, .height = 720 };
+    if (check_arguments(argc, argv) == 0 && parse_options(argc, argv, &o) == 0 &&
+        !too_much(&o, buf))
+        (void)loopwise_main(argc, argv);
     fflush(devnull);
+    stdout = so;
+    stderr = se;
 done:
-    check_result_free(&r);
-    model_free(m);
-    desc_free(d);
+    free(lines);
     free(buf);
     return 0;
 }
