@@ -26,9 +26,9 @@ enum { ROOT_MAX_ITER = 400 };
 
 /* I_t(a, b). GSL's continued fraction stops after 512 terms and reports
  * GSL_EMAXITER close to the mean when a and b are in the millions; the value
- * it still gives is good to about 1e-7 there (its own error estimate), which
- * is only used to steer the search: two standard deviations out, where the
- * bounds lie, the fraction converges. */
+ * it still gives is good to a few parts in 10^7 there (its own error
+ * estimate), which only steers the search: two standard deviations out,
+ * where the bounds lie, the fraction converges. */
 static double ibeta(double a, double b, double t, double *err)
 {
     gsl_sf_result r;
@@ -109,7 +109,8 @@ static double beta_root(double a, double b, double level, double t)
 
 /* The t with I_t(a, b) = p, given p and q = 1 - p separately so that neither
  * loses digits: in t when the root is below one half, else as 1 - u with
- * I_u(b, a) = q. */
+ * I_u(b, a) = q (A&S 26.5.2: I_t(a, b) = 1 - I_(1-t)(b, a)). GSL's error
+ * handler is switched off meanwhile (the program switches it off at start). */
 static double beta_quantile(double a, double b, double p, double q)
 {
     gsl_error_handler_t *old = gsl_set_error_handler_off();

@@ -42,6 +42,11 @@ COMMANDS = {
     "montecarlo": [["--samples", "40", "--seed", "3"], ["--samples", "1", "--seed", "1"]],
 }
 
+# Files that take a second or more an analysis (128 nodes, 65,536 elements or
+# params, 8 MiB, 200,000 lines) get only the reports of one analysis.
+HEAVY = ("chain128", "file_size_at", "lines_at", "elements_at", "params_at")
+ONE_ANALYSIS = ("check", "bode")
+
 # A token that is a non-finite number as C, Python or JavaScript print it.
 BAD = re.compile(r"(?<![A-Za-z0-9_])[-+]?(nan|inf|infinity)(?![A-Za-z0-9_])", re.I)
 
@@ -88,8 +93,9 @@ def files(scratch):
         out += sorted(os.path.join(d, f) for f in os.listdir(d) if f.endswith(".loop"))
     lim = os.path.join(scratch, "limits")
     subprocess.run([PY, "tests/limits/gen.py", lim], check=True)
-    # the small ones at their limit (the 4096-node and 8 MiB files take long)
-    for name in ("tokens", "name", "loops", "nesting", "corners", "line_bytes"):
+    # every file at its limit but the 4096-node one (minutes an analysis)
+    for name in ("tokens", "name", "loops", "nesting", "corners", "line_bytes", "file_size",
+                 "lines", "elements", "params"):
         out.append(os.path.join(lim, name + "_at.loop"))
     for name, text in SPECIAL.items():
         path = os.path.join(scratch, name + ".loop")
@@ -146,8 +152,8 @@ def runs(scratch):
                          if "{" in x else x for x in args]
                 except KeyError:
                     continue
-                if "chain128" in path and cmd in ("corners", "montecarlo", "sweep", "size", "load"):
-                    continue  # 128 nodes: one analysis is slow; check, bode, polemap suffice
+                if any(h in path for h in HEAVY) and cmd not in ONE_ANALYSIS:
+                    continue  # seconds an analysis: the commands that run one suffice
                 for json in ([], ["--json"]):
                     if json and "--csv" in a:
                         continue
