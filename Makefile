@@ -140,7 +140,7 @@ FUZZ_SECONDS ?= 60
 FUZZ_ARGS ?=
 SAN_FLAGS := -fsanitize=address,undefined -fno-sanitize-recover=all -fno-omit-frame-pointer
 FUZZ_CFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L $(WARN) -O1 -g $(SAN_FLAGS) \
-               -fsanitize=fuzzer-no-link -Iinclude $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
+               -fsanitize=fuzzer-no-link -Iinclude -MMD -MP $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
 FUZZ_LDLIBS := $(shell pkg-config --libs $(PKGS) 2>/dev/null) -lm
 FUZZ_OBJ := $(LIB_SRC:src/%.c=build/fuzz/%.o)
 
@@ -212,4 +212,5 @@ memcheck: all
 bench: all
 	@sh bench/run.sh
 
+-include $(FUZZ_OBJ:.o=.d) build/fuzz/fuzz_check.d
 -include $(LIB_OBJ:.o=.d) $(BUILD)/main.d $(TEST_BIN:=.d) $(BUILD)/tests/binom_grid.d $(BUILD)/tests/text_bytes.d
