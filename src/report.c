@@ -314,12 +314,12 @@ int report_gain(FILE *f, const desc *d, const check_result *r, int npoints, gain
         double ph = margin_phase(r->lg, &r->tf, hz, &mag, NULL);
         double db = 20.0 * log10(mag);
         if (fmt == GAIN_TEXT) {
-            /* |T| = 0 has no level in dB, nor T a phase: said in words */
+            /* T = 0 or a pole on the axis has no level in dB: said in words */
             fprintf(f, "  %-14s", si_format(hz, "Hz", a, sizeof a));
             if (isfinite(db))
                 fprintf(f, " %12.3f", db);
             else
-                fprintf(f, " %12s", "T = 0");
+                fprintf(f, " %12s", db < 0 ? "T = 0" : db > 0 ? "unbounded" : "undefined");
             if (isfinite(ph))
                 fprintf(f, " %12.3f\n", ph);
             else
