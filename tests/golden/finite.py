@@ -15,7 +15,8 @@ the letters ("information", "infinite") are prose and pass. Refusals (exit
 2) may quote what the user wrote (`r=inf` is the format's own constant), so
 only their standard output, which must be empty, is checked.
 
-The commands and their arguments are listed once, in COMMANDS below.
+The commands and their arguments are listed once, in COMMANDS below; a
+command that `loopwise --help` lists and COMMANDS lacks fails the test.
 """
 import concurrent.futures
 import os
@@ -32,20 +33,21 @@ PY = "/usr/bin/python3"
 # A command whose names the file lacks is skipped for that file.
 COMMANDS = {
     "check": [[]],
-    "bode": [["--points", "40"], ["--points", "40", "--csv", "-"]],
+    "gain": [["--points", "40"], ["--points", "40", "--csv", "-"]],
     "size": [["--tune", "{cap}"], ["--tune", "{res}", "--pm", "45", "--gm", "10"]],
     "sweep": [["--vary", "{cap}", "--from", "1f", "--to", "1n", "--points", "6"],
               ["--vary", "{res}", "--from", "1", "--to", "10M", "--points", "6", "--csv", "-"]],
     "load": [["--node", "{node}", "--cload", "1f..10n", "--points", "6"]],
-    "polemap": [["-o", "{png}"]],
-    "corners": [[]],
-    "montecarlo": [["--samples", "40", "--seed", "3"], ["--samples", "1", "--seed", "1"]],
+    "roots": [["-o", "{png}"]],
+    "corners": [["--gm", "6"]],
+    "montecarlo": [["--samples", "40", "--seed", "3", "--yield", "90%"],
+                   ["--samples", "1", "--seed", "1", "--gm", "6"]],
 }
 
 # Files that take a second or more an analysis (128 nodes, 65,536 elements or
 # params, 8 MiB, 200,000 lines) get only the reports of one analysis.
 HEAVY = ("chain128", "file_size_at", "lines_at", "elements_at", "params_at")
-ONE_ANALYSIS = ("check", "bode")
+ONE_ANALYSIS = ("check", "gain")
 
 # A token that is a non-finite number as C, Python or JavaScript print it.
 BAD = re.compile(r"(?<![A-Za-z0-9_])[-+]?(nan|inf|infinity)(?![A-Za-z0-9_])", re.I)
@@ -175,7 +177,21 @@ def one(argv):
     return argv, p.returncode, where
 
 
+def help_commands():
+    """The commands `loopwise --help` lists, so that a new one cannot be
+    missed here."""
+    text = subprocess.run([LW, "--help"], capture_output=True, text=True).stdout
+    block = text.split("commands:\n", 1)[1].split("\n\n", 1)[0]
+    return [line.split()[0] for line in block.split("\n")
+            if re.match(r"  [a-z]", line) and not line.startswith("   ")]
+
+
 def main():
+    missing = [c for c in help_commands() if c not in COMMANDS]
+    if missing:
+        print("FAIL commands of --help not in COMMANDS: %s" % ", ".join(missing))
+        print("0 passed, 1 failed")
+        return 1
     with tempfile.TemporaryDirectory() as scratch:
         jobs = list(runs(scratch))
         failed = 0
