@@ -124,7 +124,9 @@ static int check_floating(const desc *d, lw_error *err)
 static int eval_bound(desc *d, const desc_bound *b, double nominal, double *v, lw_error *err)
 {
     if (b->is_pct) {
-        *v = nominal * (1.0 + b->pct / 100.0);
+        /* a percentage is of the nominal's size, so -10% is the lower end
+         * for a negative nominal too (a gain of -1m spreads to -1.1m..-0.9m) */
+        *v = nominal + fabs(nominal) * b->pct / 100.0;
         return LW_OK;
     }
     int rc = expr_eval(d->pool, b->expr, d->pvals, v, err);

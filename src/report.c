@@ -156,7 +156,10 @@ static void section_poles(FILE *f, const desc *d, const check_result *r)
             continue;
         int o = tf->owner ? tf->owner[k] : -1;
         double q = quality(tf->poles[k]);
-        snprintf(a, sizeof a, isnan(q) ? "" : "%.3g", q);
+        if (isnan(q))
+            a[0] = '\0';
+        else
+            snprintf(a, sizeof a, "%.3g", q);
         if (o >= 0 && isfinite(r->estimate_hz[o]))
             si_format(r->estimate_hz[o], "Hz", e, sizeof e);
         else
@@ -185,7 +188,10 @@ static void section_roots(FILE *f, const char *title, const double complex *v, i
         if (pair_first(v, n, k))
             continue;
         double q = quality(v[k]);
-        snprintf(a, sizeof a, isnan(q) ? "" : "Q %.3g", q);
+        if (isnan(q))
+            a[0] = '\0';
+        else
+            snprintf(a, sizeof a, "Q %.3g", q);
         const char *note = "";
         if (right_half(v[k], 1e-12 * scale))
             note = zeros ? "  right half-plane zero: adds phase lag" : "  RIGHT HALF-PLANE";

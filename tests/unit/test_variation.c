@@ -156,6 +156,24 @@ static void corners_two_pole(void **state)
     desc_free(d);
 }
 
+/* A percentage spread is of the nominal's size: for a negative nominal
+ * -10%..+10% spans nominal - 10% |nominal| to nominal + 10% |nominal|
+ * (an inverting stage's gm of -1m spreads to -1.1m..-0.9m), not an
+ * inverted range. */
+static void percent_of_negative_nominal(void **state)
+{
+    (void)state;
+    desc *d = load_text("param g = -1m corners -10%..+10% uniform -20%..+20%\n"
+                        "node a r=100k c=30p\nnode b r=10k c=1p\n"
+                        "gm g1 a -> b g\ngm g2 b -> a 10m\nloop l negative a b\nbreak g1\n");
+    const desc_spread *sp = &d->params[0].spread;
+    assert_rel(sp->lo_v, -1.1e-3, 1e-12);
+    assert_rel(sp->hi_v, -0.9e-3, 1e-12);
+    assert_rel(sp->a_v, -1.2e-3, 1e-12);
+    assert_rel(sp->b_v, -0.8e-3, 1e-12);
+    desc_free(d);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -164,6 +182,7 @@ int main(void)
         cmocka_unit_test(yield_normal_cdf),
         cmocka_unit_test(deterministic),
         cmocka_unit_test(corners_two_pole),
+        cmocka_unit_test(percent_of_negative_nominal),
     };
     return cmocka_run_group_tests_name("variation", tests, NULL, NULL);
 }
