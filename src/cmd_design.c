@@ -266,3 +266,28 @@ int cmd_roots(const options *o, const desc *d, const check_result *r, lw_error *
                "in %s\n", d->path, r->tf.npoles, r->tf.nzeros, r->ncl, o->plot);
     return rc;
 }
+
+int cmd_polar(const options *o, const desc *d, const model *m, const check_result *r,
+              lw_error *err)
+{
+    /* the curve is read far from the crossover too, where the reduced form
+     * loses digits when the poles span many decades: as gain does, the LU
+     * path for networks small enough that it costs nothing to notice */
+    if (d->nnodes <= 64)
+        lgain_use_full(r->lg, 1);
+    figure_opts fo = fig(o);
+    int rc = figure_polar(&fo, d, m, r, err);
+    if (rc)
+        return rc;
+    const nyquist *q = &r->nq;
+    if (r->have_nyquist && q->decided)
+        printf("loopwise polar: %s: %d clockwise encirclement%s of -1, %d open-loop pole%s in "
+               "the right half-plane: %d closed-loop pole%s there; drawn in %s\n", d->path,
+               q->encirclements, abs(q->encirclements) == 1 ? "" : "s", q->open_loop_rhp,
+               q->open_loop_rhp == 1 ? "" : "s", q->closed_loop_rhp,
+               q->closed_loop_rhp == 1 ? "" : "s", o->plot);
+    else
+        printf("loopwise polar: %s: the Nyquist count is undecided (1 + T passes through 0 on "
+               "the imaginary axis); drawn in %s\n", d->path, o->plot);
+    return LW_OK;
+}

@@ -6,6 +6,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "loopwise/layout.h"
 #include "loopwise/units.h"
 
 #define TWO_PI 6.283185307179586
@@ -23,13 +24,37 @@ void figure_style(FILE *s)
             PLOT_INK, PLOT_INK, PLOT_ACCENT, PLOT_MUTED, PLOT_EXTRA);
 }
 
+void figure_frame_init(const figure_opts *fo, layout_frame *f)
+{
+    memset(f, 0, sizeof *f);
+    f->width = fo->width;
+    f->height = fo->height;
+    /* plot_begin's fonts: Sans 11 in SVG, Sans 10 in PNG */
+    const char *dot = strrchr(fo->path, '.');
+    f->font_px = dot && !strcmp(dot, ".svg") ? 11.0 : 10.0;
+}
+
+static void title_text(char *buf, size_t n, const char *what, const desc *d, const char *extra)
+{
+    snprintf(buf, n, "%s: %s%s%s", what, d->path, extra ? ", " : "", extra ? extra : "");
+}
+
 void figure_title(FILE *s, const char *what, const desc *d, const char *extra)
 {
     char buf[600];
-    snprintf(buf, sizeof buf, "%s: %s%s%s", what, d->path, extra ? ", " : "", extra ? extra : "");
+    title_text(buf, sizeof buf, what, d, extra);
     fputs("set title ", s);
     plot_quote(s, buf);
     fputs(" noenhanced\n", s);
+}
+
+void figure_title_canvas(FILE *s, const char *what, const desc *d, const char *extra)
+{
+    char buf[600];
+    title_text(buf, sizeof buf, what, d, extra);
+    fputs("unset title\nset label ", s);
+    plot_quote(s, buf);
+    fputs(" at screen 0.5, screen 0.965 center noenhanced front\n", s);
 }
 
 static double complex root_hz(double complex v)

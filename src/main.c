@@ -30,6 +30,8 @@ static const char usage_text[] =
     "  load    --node N --cload LO..HI: whether N is inside the loop, the margin over\n"
     "          the added load and the largest load that still meets the target\n"
     "  roots   -o FILE: the s-plane picture of poles, zeros and closed-loop poles\n"
+    "  polar   -o FILE: T(j2\xCF\x80" "f) in the complex plane for f from -inf to +inf, with -1,\n"
+    "          the unit circle, the crossings and the Nyquist count\n"
     "  corners the margin at every combination of the params' corner ranges\n"
     "  montecarlo --samples N --seed S [--yield P]: margin distributions and yield under\n"
     "          the params' distributions; -o draws the phase-margin histogram\n"
@@ -50,7 +52,7 @@ static const char usage_text[] =
     "  --yield P         montecarlo: the one-sided 95% lower bound of the yield must\n"
     "                    reach P (0.99 or 99%)\n"
     "  --density D       size: capacitance per area, e.g. 2fF/um2, to report the area\n"
-    "  -o PATH           gain, roots, sweep, load, montecarlo: draw a picture\n"
+    "  -o PATH           gain, roots, polar, sweep, load, montecarlo: draw a picture\n"
     "                    (PATH ends in .png or .svg)\n"
     "  --each            gain -o: overlay each declared loop's own gain\n"
     "  --size WxH        plot size in pixels (default 960x720)\n"
@@ -231,7 +233,7 @@ static int parse_options(int argc, char **argv, options *o)
     if (!o->command)
         return usage_error("%s", "missing COMMAND");
     static const char *const commands[] = { "check", "gain", "size", "sweep", "load", "roots",
-                                            "corners", "montecarlo" };
+                                            "polar", "corners", "montecarlo" };
     int known = 0;
     for (size_t j = 0; j < sizeof commands / sizeof *commands; j++)
         known |= !strcmp(o->command, commands[j]);
@@ -245,15 +247,15 @@ static int parse_options(int argc, char **argv, options *o)
                            "version 0.2; see the README, history of interface changes)");
     if (!known)
         return usage_error("unknown command '%s'; expected check, gain, size, sweep, load, "
-                           "roots, corners or montecarlo", o->command);
+                           "roots, polar, corners or montecarlo", o->command);
     if (!o->file)
         return usage_error("missing FILE after '%s'", o->command);
     if (o->csv && strcmp(o->command, "gain") && strcmp(o->command, "sweep"))
         return usage_error("--csv goes with 'gain' or 'sweep', not '%s'", o->command);
     if (o->plot && (!strcmp(o->command, "check") || !strcmp(o->command, "size") ||
                     !strcmp(o->command, "corners")))
-        return usage_error("-o draws a picture with gain, roots, sweep, load or montecarlo, "
-                           "not '%s'", o->command);
+        return usage_error("-o draws a picture with gain, roots, polar, sweep, load or "
+                           "montecarlo, not '%s'", o->command);
     if (o->yield_given && strcmp(o->command, "montecarlo"))
         return usage_error("--yield goes with 'montecarlo', not '%s'", o->command);
     if (!strcmp(o->command, "montecarlo") && o->samples < 1)
@@ -263,8 +265,13 @@ static int parse_options(int argc, char **argv, options *o)
         if (!dot || (strcmp(dot, ".png") && strcmp(dot, ".svg")))
             return usage_error("-o '%s': the plot file must end in .png or .svg", o->plot);
     }
-    if (!strcmp(o->command, "roots") && !o->plot)
-        return usage_error("%s", "roots draws a picture: give -o FILE.png or FILE.svg");
+    int picture = !strcmp(o->command, "roots") || !strcmp(o->command, "polar");
+    if (picture && !o->plot)
+        return usage_error("%s draws a picture: give -o FILE.png or FILE.svg", o->command);
+    if (picture && o->json)
+        return usage_error("--json goes with the commands that report numbers, not '%s' "
+                           "(check --json gives the poles, the margins and the Nyquist count)",
+                           o->command);
     if (o->each && strcmp(o->command, "gain"))
         return usage_error("%s", "--each goes with 'gain -o'");
     if (o->keep_script && !o->plot)
@@ -349,7 +356,7 @@ int main(int argc, char **argv)
     text_file *t = NULL;
     int rc = load(&o, &t, &d, &m, &err);
     check_opts co = { o.fmin, o.fmax, 1, 1, o.each, 0 };
-    co.want_nyquist = !strcmp(o.command, "check");
+    co.want_nyquist = !strcmp(o.command, "check") || !strcmp(o.command, "polar");
     int design = !strcmp(o.command, "size") || !strcmp(o.command, "sweep") ||
                  !strcmp(o.command, "load") || !strcmp(o.command, "corners") ||
                  !strcmp(o.command, "montecarlo");
@@ -387,6 +394,9 @@ int main(int argc, char **argv)
         code = report_check_status(&r, tg);
     } else if (!strcmp(o.command, "roots")) {
         rc = cmd_roots(&o, d, &r, &err);
+        code = report_check_status(&r, tg);
+    } else if (!strcmp(o.command, "polar")) {
+        rc = cmd_polar(&o, d, m, &r, &err);
         code = report_check_status(&r, tg);
     } else {
         if (!(rc = run_gain(&o, d, &r, &err)) && o.plot) {

@@ -1,12 +1,14 @@
 /* figures: the pictures: the Bode picture of the loop gain (figures_bode.c),
- * the roots in the s-plane and the Monte Carlo histogram (figures.c), and
- * the margin against a swept value or a load (figures_margin.c).
+ * the roots in the s-plane and the Monte Carlo histogram (figures.c), the
+ * margin against a swept value or a load (figures_margin.c), and the polar
+ * plot (figures_polar.c).
  * Each writes its data and gnuplot script into a plot job (plot.h) and runs
  * it; the result is LW_ENUMERIC (exit 3) when gnuplot is missing or fails. */
 #ifndef LOOPWISE_FIGURES_H
 #define LOOPWISE_FIGURES_H
 
 #include "loopwise/design.h"
+#include "loopwise/layout.h"
 #include "loopwise/plot.h"
 #include "loopwise/variation.h"
 
@@ -23,12 +25,19 @@ typedef struct figure_opts {
 #define FIG_PT_ZERO     6    /* open circle: a zero of T in the left half-plane */
 #define FIG_PT_RHP_ZERO 8    /* open triangle: a zero of T in the right half-plane */
 #define FIG_PT_CL_POLE  5    /* filled square: a closed-loop pole */
+/* Points of the loop gain's curve (the polar plot): */
+#define FIG_PT_CROSSOVER      7    /* filled circle: |T| = 1 */
+#define FIG_PT_PHASE_CROSSING 13   /* filled diamond: the phase at -180° + 360°·m */
 #define FIG_UNSTABLE_FILL "#f3d9c6" /* shading of what is unstable */
 
 /* each: overlay every declared loop's own gain (needs check_opts.keep_loops). */
 int figure_bode(const figure_opts *fo, const desc *d, const model *m, const check_result *r,
                 int each, lw_error *err);
 int figure_roots(const figure_opts *fo, const desc *d, const check_result *r, lw_error *err);
+/* The polar plot of T (figures_polar.c); r needs the Nyquist count
+ * (check_opts.want_nyquist) for the count written on it. */
+int figure_polar(const figure_opts *fo, const desc *d, const model *m, const check_result *r,
+                 lw_error *err);
 /* Phase margin and crossover against the varied value (sweep and load). */
 int figure_margin(const figure_opts *fo, const desc *d, const char *what, const char *unit,
                   const sweep_result *s, design_goal g, int lin, lw_error *err);
@@ -47,6 +56,12 @@ int figure_histogram(const figure_opts *fo, const desc *d, const mc_result *mc,
 /* Shared by the picture files: the project's look (palette, grid, line
  * styles 1-4) and a title naming the file. */
 void figure_style(FILE *s);
+/* The image size and font of fo in a layout frame (layout.h); the plot area
+ * and ranges are the caller's. */
+void figure_frame_init(const figure_opts *fo, layout_frame *f);
 void figure_title(FILE *s, const char *what, const desc *d, const char *extra);
+/* The same title centred on the whole picture, for a plot area that leaves
+ * room for notes beside it. */
+void figure_title_canvas(FILE *s, const char *what, const desc *d, const char *extra);
 
 #endif
