@@ -291,7 +291,7 @@ static void crossing_labels(FILE *s, layout *l, const check_result *r, double rh
         fprintf(s, "set label \"%s\" at %.10g, %.10g left font ',9' tc rgb '%s' %sfront\n", t,
                 lb.x, lb.y, PLOT_INK, lb.opaque ? "boxed " : "");
         if (lb.leader)
-            fprintf(s, "set arrow from %.10g, %.10g to %.10g, %.10g nohead lw 0.8 lc rgb '%s' back\n",
+            fprintf(s, "set arrow from %.10g, %.10g to %.10g, %.10g nohead lw 1 lc rgb '%s' back\n",
                     creal(p), cimag(p), lb.lx, lb.ly, PLOT_MUTED);
     }
 }
@@ -414,7 +414,7 @@ static int polar_script(FILE *s, plot_job *job, const figure_opts *fo, const des
         fprintf(s, "set label '-1' at %.10g, %.10g left tc rgb '%s' %sfront\n", lb.x, lb.y,
                 PLOT_ACCENT, lb.opaque ? "boxed " : "");
         if (lb.leader)
-            fprintf(s, "set arrow from -1, 0 to %.10g, %.10g nohead lw 0.8 lc rgb '%s' back\n",
+            fprintf(s, "set arrow from -1, 0 to %.10g, %.10g nohead lw 1 lc rgb '%s' back\n",
                     lb.lx, lb.ly, PLOT_MUTED);
     }
     crossing_labels(s, l, r, g->rho);

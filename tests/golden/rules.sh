@@ -36,6 +36,10 @@ done
 exits 0 "roots: stable, no target" roots $RING -o "$tmp/r.png"
 exits 1 "roots: unstable loop" roots $RING --set a=2.5 -o "$tmp/r.png"
 exits 1 "roots: --pm 40 missed" roots $RING --pm 40 -o "$tmp/r.png"
+exits 0 "polar: stable, no target" polar $RING -o "$tmp/p.png"
+exits 1 "polar: unstable loop" polar $RING --set a=2.5 -o "$tmp/p.png"
+exits 1 "polar: --pm 40 missed" polar $RING --pm 40 -o "$tmp/p.png"
+exits 0 "polar: --gm 7 met (7.50 dB)" polar $RING --gm 7 -o "$tmp/p.png"
 
 # sweep: a from 1.2 to 1.5 stays stable (1.5^3 < 8), margins 79.4 down to
 # 35.4 deg; up to 2.5 it passes a = 2, where the ring becomes unstable.
@@ -174,6 +178,48 @@ for d in sys.argv[1:]:
     assert re.search(r"\$3==2 \? \$2 : 1/0\) with points pt 8 ", gp), d
     assert gp.count("pt 8 ") == gp.count("$3==2") + ("1/0 with points pt 8" in gp), d
 PYEOF
+# polar: the drawn points are T(j2 pi f) = a^3/(1 + jf/fp)^3 of the ring (closed
+# form, fp = 1/(2 pi 10k 1p)) on the radius |T| up to 1, 1 + 20 log10|T|/40 beyond;
+# the crossover on the unit circle at fp sqrt(a^2 - 1), the phase crossing at
+# fp tan 60 deg where T = -a^3/8, and the Nyquist count of SPEC section 7 on it:
+# none for a = 1.5, two clockwise turns for a = 2.5 (Routh-Hurwitz: a^3 > 8).
+for a in 1.5 2.5; do
+    rm -rf "$tmp/kp"
+    "$LW" polar $RING --set a=$a -o "$tmp/p.png" --keep-script "$tmp/kp" >/dev/null 2>&1
+    $PY - "$tmp/kp" $a <<'PYEOF' && ok || bad "polar picture of the ring, a = $a"
+import cmath, math, sys
+d, a = sys.argv[1], float(sys.argv[2])
+fp = 1 / (2 * math.pi * 10e3 * 1e-12)
+T = lambda f: a ** 3 / (1 + 1j * f / fp) ** 3
+rho = lambda m: m if m <= 1 else 1 + 20 * math.log10(m) / 40
+rows = [l.split() for l in open(d + "/polar.dat") if l.strip() and not l.startswith("#")]
+assert len(rows) > 100, len(rows)
+for f, re_, im, x, y in (map(float, r) for r in rows):
+    t = T(f)
+    assert abs(complex(re_, im) - t) <= 1e-8 * abs(t), (f, re_, im, t)
+    p = rho(abs(t)) * cmath.exp(1j * cmath.phase(t))
+    assert abs(complex(x, y) - p) <= 1e-8 * max(abs(p), 1e-3), (f, x, y, p)
+fs = [float(r[0]) for r in rows]
+assert fs == sorted(fs) and fs[0] < fp / 100 and fs[-1] > fp * 100
+marks = [l.split() for l in open(d + "/marks.dat") if not l.startswith("#")]
+cross = [m for m in marks if m[2] == "0"]
+phase = [m for m in marks if m[2] == "1"]
+assert len(cross) == 1 and len(phase) == 1 and ["-1", "0", "2"] in [m[:3] for m in marks], marks
+fc, f180 = fp * math.sqrt(a * a - 1), fp * math.sqrt(3)
+assert abs(float(cross[0][3]) - fc) < 1e-6 * fc and abs(float(phase[0][3]) - f180) < 1e-6 * f180
+pc = cmath.exp(1j * cmath.phase(T(fc)))   # on the unit circle
+assert abs(complex(float(cross[0][0]), float(cross[0][1])) - pc) < 1e-6
+assert abs(float(phase[0][0]) + rho(a ** 3 / 8)) < 1e-6 and abs(float(phase[0][1])) < 1e-6
+gp = open(d + "/plot.gp").read()
+want = ["N = 0 clockwise encirclements of -1", "Z = N + P = 0 closed-loop poles there", "stable"] \
+    if a < 2 else ["N = 2 clockwise encirclements of -1", "Z = N + P = 2 closed-loop poles there",
+                   "UNSTABLE"]
+want += ["P = 0 poles of T in the right half-plane", "1 + dB/40", "|T| = 1 at %.3g MHz" % (fc / 1e6)]
+missing = [w for w in want if w not in gp]
+assert not missing, missing
+PYEOF
+done
+
 # sweep: the goal line inside the frame, unstable points shaded, the
 # smallest margin marked, more than three tick labels over two decades.
 "$LW" sweep $R --vary rser --from 540 --to 54k -o "$tmp/s.png" --keep-script "$tmp/ks" >/dev/null 2>&1

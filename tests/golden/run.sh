@@ -76,6 +76,18 @@ done
 # The names before version 0.2 are refused (no aliases) with the new name.
 refuse "the command 'bode' is now called 'gain'" bode cases/twostage.loop
 refuse "the command 'polemap' is now called 'roots'" polemap cases/twostage.loop -o "$tmp/r.png"
+# The pictures that only draw: -o is needed, --json, --csv and --each are refused, and a
+# bad file or option leaves no picture behind.
+refuse "polar draws a picture: give -o FILE.png or FILE.svg" polar cases/twostage.loop
+refuse "roots draws a picture: give -o FILE.png or FILE.svg" roots cases/twostage.loop
+refuse "-o 'p.pdf': the plot file must end in .png or .svg" polar cases/twostage.loop -o p.pdf
+refuse "--json goes with the commands that report numbers, not 'polar'" polar cases/twostage.loop -o "$tmp/p.png" --json
+refuse "--json goes with the commands that report numbers, not 'roots'" roots cases/twostage.loop -o "$tmp/p.png" --json
+refuse "--csv goes with 'gain' or 'sweep', not 'polar'" polar cases/twostage.loop -o "$tmp/p.png" --csv "$tmp/p.csv"
+refuse "--each goes with 'gain -o'" polar cases/twostage.loop -o "$tmp/p.png" --each
+refuse "unknown node 'c' (did you mean 'a'?)" polar tests/bad/unknown_node.loop -o "$tmp/p.png"
+refuse "unknown param or element 'nosuch'" polar cases/twostage.loop --set nosuch=1 -o "$tmp/p.png"
+[ ! -e "$tmp/p.png" ] && [ ! -e "$tmp/p.csv" ] && ok || bad "a refused polar wrote a file"
 [ ! -e "$tmp/r.png" ] && ok || bad "polemap (renamed) wrote a picture"
 "$LW" --help | grep -q "usage: loopwise" && ok || bad "--help"
 
@@ -127,7 +139,7 @@ assert b[12:16] == b"IHDR"
 w, h = struct.unpack(">II", b[16:24])
 assert (w, h) == (640, 480), (w, h)
 PYEOF
-for cmd in "roots $R" "gain $R --each" "sweep $R --vary rser --from 540 --to 54k --points 9" "load $R --node brb --cload 0.1p..10p --points 9"; do
+for cmd in "roots $R" "polar $R" "gain $R --each" "sweep $R --vary rser --from 540 --to 54k --points 9" "load $R --node brb --cload 0.1p..10p --points 9"; do
     rm -f "$tmp/p.svg"
     "$LW" $cmd -o "$tmp/p.svg" >/dev/null 2>"$tmp/e"
     [ $? -le 1 ] && $PY -c "import sys, xml.etree.ElementTree as E; r=E.parse(sys.argv[1]).getroot(); assert r.tag.endswith('svg'), r.tag" "$tmp/p.svg" &&
@@ -144,10 +156,11 @@ mkdir -p "$tmp/evil"
 evil="$tmp/evil/"'a'"'"'; system("touch PWNED"); print "`touch PWNED2`" '"'"'x.loop'
 cp $R "$evil"
 ( cd "$tmp/evil" && "$OLDPWD/$LW" gain "$evil" -o "$evil.png" >/dev/null 2>&1 &&
-  "$OLDPWD/$LW" roots "$evil" -o "$evil.svg" >/dev/null 2>&1 )
+  "$OLDPWD/$LW" roots "$evil" -o "$evil.svg" >/dev/null 2>&1 &&
+  "$OLDPWD/$LW" polar "$evil" -o "$evil.polar.svg" >/dev/null 2>&1 )
 if [ -e "$tmp/evil/PWNED" ] || [ -e "$tmp/evil/PWNED2" ] || [ -e PWNED ] || [ -e PWNED2 ]; then
     bad "a file name ran a command through gnuplot"
-elif [ ! -s "$evil.png" ] || [ ! -s "$evil.svg" ]; then bad "hostile file name: no plot"
+elif [ ! -s "$evil.png" ] || [ ! -s "$evil.svg" ] || [ ! -s "$evil.polar.svg" ]; then bad "hostile file name: no plot"
 else ok; fi
 
 # gnuplot missing: exit 3, the package named, the analysis still printed, no image.
@@ -155,6 +168,12 @@ PATH=/nonexistent "$(pwd)/$LW" gain $R -o "$tmp/none.png" >"$tmp/o" 2>"$tmp/e"
 rc=$?
 [ "$rc" = 3 ] && grep -q "gnuplot-nox" "$tmp/e" && [ -s "$tmp/o" ] && [ ! -e "$tmp/none.png" ] &&
     ok || bad "gnuplot absent: exit $rc, $(cat "$tmp/e")"
+for c in polar roots; do
+    PATH=/nonexistent "$(pwd)/$LW" $c $R -o "$tmp/none.png" >"$tmp/o" 2>"$tmp/e"
+    rc=$?
+    [ "$rc" = 3 ] && grep -q "gnuplot-nox" "$tmp/e" && [ ! -e "$tmp/none.png" ] &&
+        ok || bad "$c, gnuplot absent: exit $rc, $(cat "$tmp/e")"
+done
 
 # Fuzzer regressions: inputs that once crashed the fuzz target (tests/fuzz/)
 # must now give an answer or a refusal (exit 0, 1 or 2), never a crash.
