@@ -257,10 +257,11 @@ int cmd_load(const options *o, desc *d, int *code, lw_error *err)
     return rc;
 }
 
-int cmd_roots(const options *o, const desc *d, const check_result *r, lw_error *err)
+int cmd_roots(const options *o, const desc *d, const model *m, const check_result *r,
+              lw_error *err)
 {
     figure_opts fo = fig(o);
-    int rc = figure_roots(&fo, d, r, err);
+    int rc = figure_roots(&fo, d, m, r, err);
     if (!rc)
         printf("loopwise roots: %s: %d open-loop poles, %d zeros, %d closed-loop poles drawn "
                "in %s\n", d->path, r->tf.npoles, r->tf.nzeros, r->ncl, o->plot);

@@ -1,5 +1,5 @@
-/* figures: the project's look, the roots of the loop in the s-plane, and the
- * Monte Carlo histogram of the phase margin. */
+/* figures: the project's look and the Monte Carlo histogram of the phase
+ * margin. */
 #include "loopwise/figures.h"
 
 #include <math.h>
@@ -9,7 +9,6 @@
 #include "loopwise/layout.h"
 #include "loopwise/units.h"
 
-#define TWO_PI 6.283185307179586
 
 /* Common look: the project's palette, light grid, no enhanced-text surprises
  * in user strings (they are quoted and marked noenhanced). */
@@ -55,108 +54,6 @@ void figure_title_canvas(FILE *s, const char *what, const desc *d, const char *e
     fputs("unset title\nset label ", s);
     plot_quote(s, buf);
     fputs(" at screen 0.5, screen 0.965 center noenhanced front\n", s);
-}
-
-static double complex root_hz(double complex v)
-{
-    return v / TWO_PI;
-}
-
-/* ---- roots in the s-plane ------------------------------------------------ */
-
-/* Signed logarithmic scale so that poles six or more decades apart stay
- * readable: u = sign(v) log10(1 + |v| / 1 Hz). */
-static double slog(double v)
-{
-    return copysign(log10(1.0 + fabs(v)), v);
-}
-
-static void slog_tics(FILE *s, const char *axis, double maxabs)
-{
-    int top = (int)ceil(log10(fmax(maxabs, 10.0)));
-    char a[32];
-    fprintf(s, "set %stics (", axis);
-    fputs("'0' 0", s);
-    int step = top > 8 ? 2 : 1;
-    for (int k = step; k <= top; k += step) {
-        double v = pow(10.0, k);
-        fprintf(s, ", '%s' %.10g, '-%s' %.10g", si_format(v, "", a, sizeof a), slog(v),
-                si_format(v, "", a, sizeof a), slog(-v));
-    }
-    fputs(")\n", s);
-}
-
-int figure_roots(const figure_opts *fo, const desc *d, const check_result *r, lw_error *err)
-{
-    plot_job *job;
-    int rc = plot_begin(fo->path, fo->width, fo->height, &job, err);
-    if (rc)
-        return rc;
-    FILE *f = plot_data(job, "roots.dat", err);
-    if (!f) {
-        plot_abort(job);
-        return LW_ENUMERIC;
-    }
-    const lg_tf *tf = &r->tf;
-    double maxabs = 1;
-    int rhp_zero = 0, lhp_zero = 0;
-    fputs("# u_re u_im kind(0 open-loop pole, 1 zero, 2 right-half-plane zero, "
-          "3 closed-loop pole)\n", f);
-    for (int k = 0; k < tf->npoles + tf->nzeros + r->ncl; k++) {
-        double complex v = k < tf->npoles ? tf->poles[k]
-                           : k < tf->npoles + tf->nzeros ? tf->zeros[k - tf->npoles]
-                                                         : r->cl[k - tf->npoles - tf->nzeros];
-        int kind = k < tf->npoles ? 0 : (k < tf->npoles + tf->nzeros ? 1 : 3);
-        if (kind == 1 && creal(v) > 0)
-            kind = 2, rhp_zero = 1;
-        lhp_zero |= kind == 1;
-        double complex h = root_hz(v);
-        maxabs = fmax(maxabs, fmax(fabs(creal(h)), fabs(cimag(h))));
-        fprintf(f, "%.10g %.10g %d\n", slog(creal(h)), slog(cimag(h)), kind);
-    }
-    FILE *s = plot_script(job);
-    figure_style(s);
-    figure_title(s, "Roots of the loop", d, r->stable ? NULL : "the closed loop is UNSTABLE");
-    /* labels of neighbouring poles are staggered in height so they stay legible */
-    for (int k = 0, n = 0; k < tf->npoles; k++) {
-        int o = tf->owner ? tf->owner[k] : -1;
-        if (o < 0 || cimag(tf->poles[k]) < 0)
-            continue;
-        double complex h = root_hz(tf->poles[k]);
-        fprintf(s, "set label ");
-        plot_quote(s, d->nodes[o].name);
-        fprintf(s, " at %.10g, %.10g offset -1,%.1f tc rgb '%s' noenhanced\n", slog(creal(h)),
-                slog(cimag(h)), n % 2 ? -1.2 - 1.1 * (n % 4 == 3) : 1.0 + 1.1 * (n % 4 == 2),
-                PLOT_INK);
-        n++;
-    }
-    double lim = slog(maxabs) * 1.08 + 0.3;
-    fprintf(s, "set xrange [%.6g:%.6g]\nset yrange [%.6g:%.6g]\nset size ratio -1\n", -lim, lim,
-            -lim, lim);
-    slog_tics(s, "x", maxabs);
-    slog_tics(s, "y", maxabs);
-    fputs("set xlabel 'real part (Hz), signed log scale: sign(x) log10(1 + |x|/1 Hz)'\n"
-          "set ylabel 'imaginary part (Hz), signed log scale'\n", s);
-    /* the right half-plane, where a closed-loop pole means an unstable loop */
-    fprintf(s, "set object rect from 0, graph 0 to graph 1, graph 1 fc rgb '%s' fs solid 0.55 "
-            "noborder behind\nset label 'right half-plane' at graph 0.98, graph 0.03 right "
-            "tc rgb '%s'\n", FIG_UNSTABLE_FILL, PLOT_ACCENT);
-    fprintf(s, "set arrow from 0, graph 0 to 0, graph 1 nohead lc rgb '%s' lw 1.2\n"
-            "set arrow from graph 0, first 0 to graph 1, first 0 nohead lc rgb '%s' lw 1.2\n",
-            PLOT_MUTED, PLOT_MUTED);
-    fputs("set key top left\n", s);
-    const char *path = plot_path(job, "roots.dat");
-    fprintf(s, "plot '%s' using 1:($3==0 ? $2 : 1/0) with points pt %d ps 2 lw 2 lc rgb '%s' "
-            "title 'pole of T (open loop)'", path, FIG_PT_POLE, PLOT_INK);
-    if (lhp_zero)
-        fprintf(s, ", '' using 1:($3==1 ? $2 : 1/0) with points pt %d ps 2 lw 2 lc rgb '%s' "
-                "title 'zero of T, left half-plane'", FIG_PT_ZERO, PLOT_ACCENT);
-    if (rhp_zero)
-        fprintf(s, ", '' using 1:($3==2 ? $2 : 1/0) with points pt %d ps 2 lw 2 lc rgb '%s' "
-                "title 'zero of T, right half-plane (adds lag)'", FIG_PT_RHP_ZERO, PLOT_ACCENT);
-    fprintf(s, ", '' using 1:($3==3 ? $2 : 1/0) with points pt %d ps 1.4 lc rgb '%s' "
-            "title 'closed-loop pole'\n", FIG_PT_CL_POLE, PLOT_EXTRA);
-    return plot_finish(job, fo->keep_dir, err);
 }
 
 /* ---- Monte Carlo histogram ------------------------------------------------- */

@@ -393,7 +393,7 @@ int main(int argc, char **argv)
             report_check_text(stdout, d, m, &r, tg);
         code = report_check_status(&r, tg);
     } else if (!strcmp(o.command, "roots")) {
-        rc = cmd_roots(&o, d, &r, &err);
+        rc = cmd_roots(&o, d, m, &r, &err);
         code = report_check_status(&r, tg);
     } else if (!strcmp(o.command, "polar")) {
         rc = cmd_polar(&o, d, m, &r, &err);

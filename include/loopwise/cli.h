@@ -33,7 +33,8 @@ int option_number(const char *name, const char *text, expr_unit unit, double *v)
 design_goal option_goal(const options *o);
 
 /* Draws fig after the text output; a failed plot turns *code into 3. */
-int cmd_roots(const options *o, const desc *d, const check_result *r, lw_error *err);
+int cmd_roots(const options *o, const desc *d, const model *m, const check_result *r,
+              lw_error *err);
 /* r with the Nyquist count (check_opts.want_nyquist). */
 int cmd_polar(const options *o, const desc *d, const model *m, const check_result *r,
               lw_error *err);

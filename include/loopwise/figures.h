@@ -33,7 +33,10 @@ typedef struct figure_opts {
 /* each: overlay every declared loop's own gain (needs check_opts.keep_loops). */
 int figure_bode(const figure_opts *fo, const desc *d, const model *m, const check_result *r,
                 int each, lw_error *err);
-int figure_roots(const figure_opts *fo, const desc *d, const check_result *r, lw_error *err);
+/* The roots in the s-plane (figures_roots.c), with the path of each
+ * closed-loop pole from its open-loop pole (locus.h, on the model m). */
+int figure_roots(const figure_opts *fo, const desc *d, const model *m, const check_result *r,
+                 lw_error *err);
 /* The polar plot of T (figures_polar.c); r needs the Nyquist count
  * (check_opts.want_nyquist) for the count written on it. */
 int figure_polar(const figure_opts *fo, const desc *d, const model *m, const check_result *r,
