@@ -178,6 +178,49 @@ for d in sys.argv[1:]:
     assert re.search(r"\$3==2 \? \$2 : 1/0\) with points pt 8 ", gp), d
     assert gp.count("pt 8 ") == gp.count("$3==2") + ("1/0 with points pt 8" in gp), d
 PYEOF
+# roots: the ring's roots in closed form, p = 1/(10k 1p): the open-loop poles
+# all at -p (the tap's too), the closed-loop poles of (1 + s/p)^3 + a^3 = 0 at
+# -p(1 + a) and p(-1 + a e^(+-j pi/3)) (and the tap's -p), a pair of Q = |s|/(2|re s|) = 2.65 for
+# a = 1.5. Drawn at log10(|s|/2pi/f0) e^(j arg s) with f0 half a decade below
+# the smallest root; the frame holds them with under a decade of room, the
+# right half-plane (empty) as a strip; the rays of constant Q at
+# 180 - acos(1/(2Q)) degrees.
+rm -rf "$tmp/kq"
+"$LW" roots $RING -o "$tmp/q.png" --keep-script "$tmp/kq" >/dev/null 2>&1
+$PY - "$tmp/kq" <<'PYEOF' && ok || bad "roots picture of the ring against its closed forms"
+import cmath, math, re, sys
+d, a = sys.argv[1], 1.5
+p = 1 / (10e3 * 1e-12)
+f0 = p / (2 * math.pi) / 10 ** 0.5
+at = lambda s: math.log10(abs(s) / (2 * math.pi) / f0) * cmath.exp(1j * cmath.phase(s))
+rows = [l.split() for l in open(d + "/roots.dat") if l.strip() and not l.startswith("#")]
+rows = [(float(r[0]), float(r[1]), int(r[2])) for r in rows if r[1] != "NaN"]
+want = [(-p + 0j, 0)] * 4 + [(-p + 0j, 3), (-p * (1 + a) + 0j, 3),
+                              (p * (-1 + a * cmath.exp(1j * math.pi / 3)), 3)]  # -p: the tap
+assert len(rows) == len(want), rows      # the lower member of the pair is not drawn
+for s, kind in want:
+    w = at(s)
+    assert any(k == kind and abs(complex(x, y) - w) < 1e-6 for x, y, k in rows), (s, kind, rows)
+gp = open(d + "/plot.gp").read()
+x0, x1 = map(float, re.search(r"set xrange \[(\S+):(\S+)\]", gp).groups())
+y0, y1 = map(float, re.search(r"set yrange \[(\S+):(\S+)\]", gp).groups())
+xs, ys = [r[0] for r in rows], [r[1] for r in rows]
+assert x0 < min(xs) and max(xs) < 0 < x1 <= 0.1 * (x1 - x0), (x0, x1, xs)
+assert y0 < 0 <= min(ys) and max(ys) < y1, (y0, y1, ys)
+assert min(xs) - x0 < 1 and x1 < 0.5, (x0, x1)  # under a decade of room; a strip of the right side
+assert "right half-plane: empty" in gp and "Q 2.65" in gp, "labels"
+grid = open(d + "/grid.dat").read().split("\n\n")
+rays = [[tuple(map(float, l.split()[:2])) for l in g.strip().split("\n")] for g in grid
+        if g.strip() and g.strip().split("\n")[-1].endswith(" 1")]
+angles = sorted(round(math.degrees(math.atan2(r[-1][1], r[-1][0])), 4) for r in rays)
+expect = sorted(round(180 - math.degrees(math.acos(1 / (2 * q))), 4) for q in (0.707, 1, 2, 5))
+assert angles == expect, (angles, expect)
+PYEOF
+# the numbers on the plot are check's: four poles, the key names their nodes
+grep -q '"1" at screen' "$tmp/kq/plot.gp" && grep -q '"4" at screen' "$tmp/kq/plot.gp" &&
+    grep -q "'tap' at screen" "$tmp/kq/plot.gp" && ! grep -q '"5" at screen' "$tmp/kq/plot.gp" &&
+    ok || bad "roots: the key of the numbered poles"
+
 # polar: the drawn points are T(j2 pi f) = a^3/(1 + jf/fp)^3 of the ring (closed
 # form, fp = 1/(2 pi 10k 1p)) on the radius |T| up to 1, 1 + 20 log10|T|/40 beyond;
 # the crossover on the unit circle at fp sqrt(a^2 - 1), the phase crossing at
