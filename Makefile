@@ -107,7 +107,8 @@ check: all
 	@$(MAKE) --no-print-directory unit golden reference binom bytes
 
 # The main job on the reference core: its report, the compensation for 60
-# degrees, the series resistor over two decades, and the output tap's load.
+# degrees, the series resistor over two decades, and the output tap's load;
+# the pictures of its loop gain, roots, polar plot, sweep, load and spread.
 demo: all
 	./loopwise check cases/refcore.loop; test $$? -le 1
 	./loopwise size cases/refcore.loop --tune ccomp --pm 60 --density 2fF/um2
@@ -115,6 +116,7 @@ demo: all
 	./loopwise load cases/refcore.loop --node vref --cload 1p..1n
 	./loopwise gain cases/refcore.loop --each -o plots/refcore-gain.png >/dev/null
 	./loopwise roots cases/refcore.loop -o plots/refcore-roots.png
+	./loopwise polar cases/refcore.loop -o plots/refcore-polar.png
 	./loopwise sweep cases/refcore.loop --vary rser --from 540 --to 54k -o plots/refcore-sweep-rser.png >/dev/null; test $$? -le 1
 	./loopwise load cases/refcore.loop --node brb --cload 0.1p..10p -o plots/refcore-load-brb.png >/dev/null; test $$? -le 1
 	./loopwise corners cases/refcore.loop; test $$? -le 1

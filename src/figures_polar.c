@@ -235,7 +235,7 @@ static void notes(FILE *s, const check_result *r, const drawing *g, double x, do
     y -= 0.5 * dy;
     /* the crossings and their margins, two columns */
     const margins *mg = &r->mg;
-    note(s, x, &y, dy, width, PLOT_INK, mg->ncross + mg->nphase ? "where the curve crosses:"
+    note(s, x, &y, dy, width, PLOT_INK, mg->ncross + mg->nphase ? "Where the curve crosses:"
          : "no crossing: the curve never meets the unit circle or the negative real axis");
     for (int k = 0; k < mg->ncross + mg->nphase; k++) {
         int cross = k < mg->ncross, i = cross ? k : k - mg->ncross;
@@ -243,17 +243,18 @@ static void notes(FILE *s, const check_result *r, const drawing *g, double x, do
             continue;
         const margin_point *pt = cross ? &mg->cross[i] : &mg->phase[i];
         if (cross) {
-            snprintf(t, sizeof t, "  |T| = 1 at %s", si_format(pt->hz, "Hz", a, sizeof a));
+            snprintf(t, sizeof t, "|T| = 1 at %s", si_format(pt->hz, "Hz", a, sizeof a));
         } else {
             double mag, ph = margin_phase(r->lg, &r->tf, pt->hz, &mag, NULL);
-            snprintf(t, sizeof t, "  %.0f\xC2\xB0 at %s", -180.0 + 360.0 * round((ph + 180.0) / 360.0),
+            snprintf(t, sizeof t, "%.0f\xC2\xB0 at %s", -180.0 + 360.0 * round((ph + 180.0) / 360.0),
                      si_format(pt->hz, "Hz", a, sizeof a));
         }
         fprintf(s, "set label \"%s\" at screen %.4f, screen %.4f left font ',9' tc rgb '%s' "
                 "front\n", t, x, y, PLOT_INK);
-        fprintf(s, cross ? "set label \"PM %.1f\xC2\xB0\" at screen 0.985, screen %.4f right "
-                "font ',9' tc rgb '%s' front\n" : "set label \"GM %.2f dB\" at screen 0.985, "
-                "screen %.4f right font ',9' tc rgb '%s' front\n", pt->value, y, PLOT_INK);
+        fprintf(s, cross ? "set label \"phase margin %.1f\xC2\xB0\" at screen 0.985, screen %.4f "
+                "right font ',9' tc rgb '%s' front\n" : "set label \"gain margin %.2f dB\" at "
+                "screen 0.985, screen %.4f right font ',9' tc rgb '%s' front\n", pt->value, y,
+                PLOT_INK);
         y -= dy;
     }
     if (mg->ncross > MAX_MARKS || mg->nphase > MAX_MARKS)
@@ -296,9 +297,27 @@ static void crossing_labels(FILE *s, layout *l, const check_result *r, double rh
     }
 }
 
+/* 1 when the drawn point (x, y) or its mirror image is within 20 pixels of
+ * one of the marks (mark[k], on the f > 0 side). */
+static int near_mark(const layout_frame *fr, double x, double y, const double complex *mark,
+                     int nmark)
+{
+    double px, py, qx, qy, ny;
+    layout_px(fr, x, y, &px, &py);
+    layout_px(fr, x, -y, &px, &ny);
+    for (int k = 0; k < nmark; k++) {
+        layout_px(fr, creal(mark[k]), cimag(mark[k]), &qx, &qy);
+        if (hypot(px - qx, py - qy) < 20 || hypot(px - qx, ny - qy) < 20)
+            return 1;
+    }
+    return 0;
+}
+
 /* Arrows along rising frequency at a fifth, a half and four fifths of the
- * f > 0 curve's drawn length, and the mirror's the other way. */
-static void arrows(FILE *s, const layout_frame *fr, const drawing *g)
+ * f > 0 curve's drawn length (moved on past a mark they would cover), and
+ * the mirror's the other way. */
+static void arrows(FILE *s, const layout_frame *fr, const drawing *g, const double complex *mark,
+                   int nmark)
 {
     double total = 0, *len = malloc(sizeof *len * (size_t)(g->n + 1));
     if (!len)
@@ -319,6 +338,8 @@ static void arrows(FILE *s, const layout_frame *fr, const drawing *g)
         double want = total * (m == 1 ? 0.2 : m == 2 ? 0.5 : 0.8);
         int i = 0;
         while (i + 1 < g->n && len[i] < want)
+            i++;
+        while (i + 1 < g->n && (isnan(g->x[i]) || near_mark(fr, g->x[i], g->y[i], mark, nmark)))
             i++;
         int j = i;
         while (j + 1 < g->n && !isnan(g->x[j + 1]) && len[j] - len[i] < 10)
@@ -433,7 +454,17 @@ static int polar_script(FILE *s, plot_job *job, const figure_opts *fo, const des
             }
         }
     }
-    arrows(s, &fr, g);
+    double complex mark[2 * MAX_MARKS + 1];
+    int nmark = 0;
+    mark[nmark++] = -1;
+    for (int k = 0; k < mg->ncross + mg->nphase; k++) {
+        int cross = k < mg->ncross, i = cross ? k : k - mg->ncross;
+        if (i < MAX_MARKS)
+            mark[nmark++] = polar_map(lgain_eval(r->lg, I * 2 * PI_ * (cross ? mg->cross[i].hz
+                                                                              : mg->phase[i].hz)),
+                                      g->rho);
+    }
+    arrows(s, &fr, g, mark, nmark);
     layout_free(l);
 
     /* beside the plot: the key, then the count and the margins */

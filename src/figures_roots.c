@@ -136,7 +136,7 @@ static int write_roots(plot_job *job, const rootset *rs, int *kinds, lw_error *e
                 creal(rs->s[k]) / TWO_PI, cimag(rs->s[k]) / TWO_PI);
         *kinds |= 1 << rs->kind[k];
     }
-    fputs("0 NaN 9 0 0\n", f); /* never empty; never drawn */
+    fputs("0 0 9 0 0\n", f); /* never empty; kind 9 is never drawn */
     return LW_OK;
 }
 
@@ -397,8 +397,6 @@ static int write_paths(plot_job *job, const model *m, double f0, int *why, lw_er
         fputs("\n", f);
         *why = 0;
     }
-    if (*why)
-        fputs("0 NaN 0\n", f);
     locus_free(&L);
     return LW_OK;
 }

@@ -39,10 +39,14 @@ COMMANDS = {
               ["--vary", "{res}", "--from", "1", "--to", "10M", "--points", "6", "--csv", "-"]],
     "load": [["--node", "{node}", "--cload", "1f..10n", "--points", "6"]],
     "roots": [["-o", "{png}"]],
+    "polar": [["-o", "{png}"]],
     "corners": [["--gm", "6"]],
     "montecarlo": [["--samples", "40", "--seed", "3", "--yield", "90%"],
                    ["--samples", "1", "--seed", "1", "--gm", "6"]],
 }
+
+# The commands that only draw refuse --json (exit 2): not run with it.
+PICTURES = ("roots", "polar")
 
 # Files that take a second or more an analysis (128 nodes, 65,536 elements or
 # params, 8 MiB, 200,000 lines) get only the reports of one analysis.
@@ -157,7 +161,7 @@ def runs(scratch):
                 if any(h in path for h in HEAVY) and cmd not in ONE_ANALYSIS:
                     continue  # seconds an analysis: the commands that run one suffice
                 for json in ([], ["--json"]):
-                    if json and "--csv" in a:
+                    if json and ("--csv" in a or cmd in PICTURES):
                         continue
                     yield [LW, cmd, target] + a + json
 

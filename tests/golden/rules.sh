@@ -194,7 +194,7 @@ p = 1 / (10e3 * 1e-12)
 f0 = p / (2 * math.pi) / 10 ** 0.5
 at = lambda s: math.log10(abs(s) / (2 * math.pi) / f0) * cmath.exp(1j * cmath.phase(s))
 rows = [l.split() for l in open(d + "/roots.dat") if l.strip() and not l.startswith("#")]
-rows = [(float(r[0]), float(r[1]), int(r[2])) for r in rows if r[1] != "NaN"]
+rows = [(float(r[0]), float(r[1]), int(r[2])) for r in rows if r[2] != "9"]
 want = [(-p + 0j, 0)] * 4 + [(-p + 0j, 3), (-p * (1 + a) + 0j, 3),
                               (p * (-1 + a * cmath.exp(1j * math.pi / 3)), 3)]  # -p: the tap
 assert len(rows) == len(want), rows      # the lower member of the pair is not drawn
