@@ -189,7 +189,9 @@ sanitize-run: $(LW_BIN) $(TEST_BIN)
 	    else echo "sanitize: no sanitizer reports"; fi; exit $$failed
 
 # valgrind memcheck of the normal binary: check on every case, and the design
-# and variation commands and gain on the reference core (no plots). Zero errors and zero
+# and variation commands and gain on the reference core (no plots), and the roots
+# and polar pictures (their layout, paths and sampling; gnuplot itself is not
+# traced). Zero errors and zero
 # definite or indirect leaks, whatever loopwise's own exit code (0 or 1); the
 # OpenMP runtime's thread stacks are only "possibly lost" and not counted.
 VG := valgrind -q --error-exitcode=97 --leak-check=full --show-leak-kinds=definite,indirect \
@@ -202,7 +204,8 @@ memcheck: all
 	        "size $(MC) --tune ccomp --pm 60 --density 2fF/um2" \
 	        "sweep $(MC) --vary rser --from 540 --to 54k --points 13" \
 	        "load $(MC) --node vref --cload 1p..1n" "load $(MC) --node brb --cload 0.1p..10p" \
-	        "gain $(MC) --points 50" "corners $(MC)" "montecarlo $(MC) --samples 200 --seed 1"; do \
+	        "gain $(MC) --points 50" "corners $(MC)" "montecarlo $(MC) --samples 200 --seed 1" \
+	        "roots $(MC) -o build/memcheck.png" "polar $(MC) -o build/memcheck.png"; do \
 	    $(VG) ./loopwise $$run >/dev/null 2>&1; rc=$$?; \
 	    if [ $$rc -le 1 ] && [ ! -s build/memcheck.log ]; then echo "  MEMCHECK ok      $$run"; \
 	        pass=$$((pass + 1)); \
