@@ -38,6 +38,42 @@ static void title_text(char *buf, size_t n, const char *what, const desc *d, con
     snprintf(buf, n, "%s: %s%s%s", what, d->path, extra ? ", " : "", extra ? extra : "");
 }
 
+double figure_notes_left(const figure_opts *fo, double widest)
+{
+    double w = fmin(0.5 * fo->width, fmax(330.0, 0.34 * fo->width)) / fo->width;
+    return fmin(widest, 0.985 - w);
+}
+
+int figure_note(FILE *s, double x, double *y, double dy, int width, const char *color,
+                const char *text)
+{
+    char line[256];
+    const char *p = text;
+    int lines = 0;
+    if (width < 8)
+        width = 8;
+    for (int first = 1; *p; first = 0, lines++) {
+        int room = first ? width : width - 2, len = (int)strlen(p), take = len;
+        if (len > room) {
+            take = room;
+            while (take > 0 && p[take] != ' ')
+                take--;
+            if (take == 0) /* one long word: cut it, not inside a UTF-8 character */
+                for (take = room; take > 1 && ((unsigned char)p[take] & 0xC0) == 0x80; take--)
+                    ;
+        }
+        snprintf(line, sizeof line, "%s%.*s", first ? "" : "  ", take < 250 ? take : 250, p);
+        if (s)
+            fprintf(s, "set label \"%s\" at screen %.4f, screen %.4f left font ',9' tc rgb '%s' "
+                    "front\n", line, x, *y, color);
+        *y -= dy;
+        p += take;
+        while (*p == ' ')
+            p++;
+    }
+    return lines;
+}
+
 void figure_title(FILE *s, const char *what, const desc *d, const char *extra)
 {
     char buf[600];

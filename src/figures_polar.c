@@ -27,6 +27,7 @@ typedef struct drawing {
     int na;
     double rho;              /* the outer radius: the curve's largest, at most POLAR_RHO_MAX */
     int clipped;             /* some |T| lies beyond it */
+    int still;               /* T does not move: the curve is a point */
 } drawing;
 
 static void drawing_free(drawing *g)
@@ -82,6 +83,11 @@ static int drawing_make(const polar_curve *c, drawing *g)
         g->x[g->n] = creal(p);
         g->y[g->n++] = cimag(p);
     }
+    double span = 0;
+    for (int k = 1; k < g->n; k++)
+        if (!isnan(g->x[k]))
+            span = fmax(span, hypot(g->x[k] - g->x[0], g->y[k] - g->y[0]));
+    g->still = c->n > 0 && span < 1e-6;
     if (c->origin_order > 0 && c->n > 0) {
         /* from f = 0- (the mirror's end) to 0+: the same turn at s = 0 */
         double complex p0 = polar_map(c->t[0], g->rho);
@@ -168,40 +174,14 @@ static void tics(FILE *s, const layout_frame *fr, int yaxis)
     fputs(")\n", s);
 }
 
-/* A note beside the plot at screen (x, *y), wrapped to width characters;
- * the lines after the first are indented. */
-static void note(FILE *s, double x, double *y, double dy, int width, const char *color,
-                 const char *text)
-{
-    char line[256];
-    const char *p = text;
-    for (int first = 1; *p; first = 0) {
-        int room = first ? width : width - 2, len = (int)strlen(p), take = len;
-        if (len > room) {
-            take = room;
-            while (take > 0 && p[take] != ' ')
-                take--;
-            if (take == 0)
-                take = room;
-        }
-        snprintf(line, sizeof line, "%s%.*s", first ? "" : "  ", take < 250 ? take : 250, p);
-        fprintf(s, "set label \"%s\" at screen %.4f, screen %.4f left font ',9' tc rgb '%s' "
-                "front\n", line, x, *y, color);
-        *y -= dy;
-        p += take;
-        while (*p == ' ')
-            p++;
-    }
-}
-
 static void notes(FILE *s, const check_result *r, const drawing *g, double x, double y, double dy,
                   int width)
 {
     char t[256], a[32];
     const nyquist *q = &r->nq;
-    note(s, x, &y, dy, width, PLOT_INK, "Nyquist count (f from -inf to +inf):");
+    figure_note(s, x, &y, dy, width, PLOT_INK, "Nyquist count (f from -inf to +inf):");
     if (!r->have_nyquist || !q->decided) {
-        note(s, x, &y, dy, width, PLOT_ACCENT, "undecided: 1 + T passes through 0 on the "
+        figure_note(s, x, &y, dy, width, PLOT_ACCENT, "undecided: 1 + T passes through 0 on the "
              "imaginary axis (a closed-loop pole on it)");
     } else {
         int n = q->encirclements;
@@ -210,38 +190,50 @@ static void notes(FILE *s, const check_result *r, const drawing *g, double x, do
         else
             snprintf(t, sizeof t, "N = %d: %d counter-clockwise encirclement%s of -1", n, -n,
                      n == -1 ? "" : "s");
-        note(s, x, &y, dy, width, PLOT_INK, t);
+        figure_note(s, x, &y, dy, width, PLOT_INK, t);
         snprintf(t, sizeof t, "P = %d pole%s of T in the right half-plane", q->open_loop_rhp,
                  q->open_loop_rhp == 1 ? "" : "s");
-        note(s, x, &y, dy, width, PLOT_INK, t);
+        figure_note(s, x, &y, dy, width, PLOT_INK, t);
         if (q->hidden_rhp)
             snprintf(t, sizeof t, "Z = N + P + %d unseen by T = %d closed-loop poles there",
                      q->hidden_rhp, q->closed_loop_rhp);
         else
             snprintf(t, sizeof t, "Z = N + P = %d closed-loop pole%s there",
                      q->closed_loop_rhp, q->closed_loop_rhp == 1 ? "" : "s");
-        note(s, x, &y, dy, width, PLOT_INK, t);
+        figure_note(s, x, &y, dy, width, PLOT_INK, t);
         snprintf(t, sizeof t, "%s%s", q->closed_loop_rhp ? "UNSTABLE" : "stable",
                  r->nyquist_disagrees ? "; the closed-loop poles say otherwise (see check's "
                  "accuracy warning)" : ", as the closed-loop poles say");
-        note(s, x, &y, dy, width, q->closed_loop_rhp ? PLOT_ACCENT : PLOT_INK, t);
+        figure_note(s, x, &y, dy, width, q->closed_loop_rhp ? PLOT_ACCENT : PLOT_INK, t);
     }
     if (q->axis_poles) {
         snprintf(t, sizeof t, "%d pole%s of T on the imaginary axis, passed on the right: "
                  "half a turn clockwise each, at unbounded |T| (dotted)", q->axis_poles,
                  q->axis_poles == 1 ? "" : "s");
-        note(s, x, &y, dy, width, PLOT_INK, t);
+        figure_note(s, x, &y, dy, width, PLOT_INK, t);
     }
     y -= 0.5 * dy;
     /* the crossings and their margins, two columns */
     const margins *mg = &r->mg;
-    note(s, x, &y, dy, width, PLOT_INK, mg->ncross + mg->nphase ? "Where the curve crosses:"
+    figure_note(s, x, &y, dy, width, PLOT_INK, mg->ncross + mg->nphase ? "Where the curve crosses:"
          : "no crossing: the curve never meets the unit circle or the negative real axis");
     for (int k = 0; k < mg->ncross + mg->nphase; k++) {
         int cross = k < mg->ncross, i = cross ? k : k - mg->ncross;
         if (i >= MAX_MARKS)
             continue;
         const margin_point *pt = cross ? &mg->cross[i] : &mg->phase[i];
+        if (width < 44) {
+            /* no room for two columns: one line each, wrapped */
+            double mag, ph = cross ? 0 : margin_phase(r->lg, &r->tf, pt->hz, &mag, NULL);
+            si_format(pt->hz, "Hz", a, sizeof a);
+            if (cross)
+                snprintf(t, sizeof t, "|T| = 1 at %s: phase margin %.1f\xC2\xB0", a, pt->value);
+            else
+                snprintf(t, sizeof t, "%.0f\xC2\xB0 at %s: gain margin %.2f dB",
+                         -180.0 + 360.0 * round((ph + 180.0) / 360.0), a, pt->value);
+            figure_note(s, x, &y, dy, width, PLOT_INK, t);
+            continue;
+        }
         if (cross) {
             snprintf(t, sizeof t, "|T| = 1 at %s", si_format(pt->hz, "Hz", a, sizeof a));
         } else {
@@ -258,13 +250,16 @@ static void notes(FILE *s, const check_result *r, const drawing *g, double x, do
         y -= dy;
     }
     if (mg->ncross > MAX_MARKS || mg->nphase > MAX_MARKS)
-        note(s, x, &y, dy, width, PLOT_INK, "(more crossings: see loopwise check)");
+        figure_note(s, x, &y, dy, width, PLOT_INK, "(more crossings: see loopwise check)");
     y -= 0.5 * dy;
-    note(s, x, &y, dy, width, PLOT_MUTED, "Radius: |T| inside the unit circle,");
-    note(s, x, &y, dy, width, PLOT_MUTED, "1 + (|T| in dB)/40 outside: 20 dB a circle.");
-    note(s, x, &y, dy, width, PLOT_MUTED, "Angles are true.");
+    figure_note(s, x, &y, dy, width, PLOT_MUTED, "Radius: |T| inside the unit circle,");
+    figure_note(s, x, &y, dy, width, PLOT_MUTED, "1 + dB/40 outside it (|T| in dB):");
+    figure_note(s, x, &y, dy, width, PLOT_MUTED, "a circle every 20 dB. Angles are true.");
+    if (g->still)
+        figure_note(s, x, &y, dy, width, PLOT_INK, "T is the same at every frequency here (no "
+             "capacitance in the loop): the curve is one point.");
     if (g->clipped)
-        note(s, x, &y, dy, width, PLOT_MUTED, "|T| above 160 dB is drawn on the outer circle.");
+        figure_note(s, x, &y, dy, width, PLOT_MUTED, "|T| above 160 dB is drawn on the outer circle.");
 }
 
 /* Labels the crossings of the f > 0 curve with their frequencies, clear of
@@ -370,7 +365,7 @@ static void frame_of(const figure_opts *fo, const drawing *g, layout_frame *fr)
     double pad = 0.06 * fmax(x1 - x0, 2 * ym);
     figure_frame_init(fo, fr);
     fr->left = 0.075;
-    fr->right = 0.635;
+    fr->right = figure_notes_left(fo, 0.635);
     fr->bottom = 0.10;
     fr->top = 0.91;
     fr->x0 = x0 - pad;
@@ -485,8 +480,8 @@ static int polar_script(FILE *s, plot_job *job, const figure_opts *fo, const des
     fprintf(s, ", '%s' using 4:(-$5) with lines lc rgb '%s' lw 1.5 dt 2 "
             "title 'T(j2\xCF\x80" "f), f < 0 (the mirror image)'", plot_path(job, "polar.dat"),
             PLOT_MUTED);
-    fprintf(s, ", '' using 4:5 with lines lc rgb '%s' lw 2.2 title 'T(j2\xCF\x80" "f), f > 0'",
-            PLOT_INK);
+    fprintf(s, ", '' using 4:5 with %s lc rgb '%s' lw 2.2 title 'T(j2\xCF\x80" "f), f > 0'",
+            g->still ? "linespoints pt 7 ps 1.2" : "lines", PLOT_INK);
     if (g->na > 0)
         fprintf(s, ", '%s' using 1:2 with lines lc rgb '%s' lw 1.4 dt 3 title 'around a pole on the "
                 "axis, |T| unbounded', '' using 1:(-$2) with lines lc rgb '%s' lw 1.2 dt 3 notitle",

@@ -107,7 +107,7 @@ static void frame_of(const figure_opts *fo, const rootset *rs, layout_frame *fr,
     x1 = *rhp_empty ? 0.09 * (x1 - x0) : x1 + ROOM;
     figure_frame_init(fo, fr);
     fr->left = 0.03;
-    fr->right = 0.66;
+    fr->right = figure_notes_left(fo, 0.66);
     fr->bottom = 0.10;
     fr->top = 0.91;
     fr->x0 = x0;
@@ -272,28 +272,34 @@ static int plot_labels(FILE *s, const layout_frame *fr, const check_result *r, c
     return LW_OK;
 }
 
-/* Beside the plot: which node each numbered pole belongs to, and how to
- * read the plane. */
+/* How to read the plane, at the foot of the notes. */
+static const char how_to_read[] =
+    "Distance from the centre: |s|/2\xCF\x80 on a log scale, a circle per decade (its "
+    "frequency where it meets the real axis). Angles are true: a pair on the ray Q has that "
+    "Q; the real axis is Q = 0.5. The lower half-plane mirrors the upper: each complex pair "
+    "is drawn once, at +j.";
+
+/* Beside the plot, from y down: which node each numbered pole belongs to,
+ * as many as there is room for; then how to read the plane. */
 static void key_notes(FILE *s, const layout_frame *fr, const desc *d, const check_result *r,
                       double y, int unlabelled, int why_no_paths)
 {
     const lg_tf *tf = &r->tf;
-    double x = fr->right + 0.025, dy = 0.9 * layout_text_h(fr) / fr->height;
-    int rows = (int)((y - 0.10) / dy) - 12, hidden = 0, npairs = 0;
+    double x = fr->right + 0.025, dy = 0.9 * layout_text_h(fr) / fr->height, yh = 0;
+    int width = (int)((0.99 - x) * fr->width / (0.9 * layout_text_w(fr, 1)));
+    int nhow = figure_note(NULL, x, &yh, dy, width, PLOT_MUTED, how_to_read);
+    int rows = (int)((y - 0.10) / dy) - nhow - 5, hidden = 0, npairs = 0;
     for (int k = 0; k < tf->npoles; k++)
         npairs += pair_lower(tf->poles, tf->npoles, k);
     int nshown = tf->npoles - npairs;
-    fprintf(s, "set label \"open-loop poles, as check numbers them:\" at screen %.4f, screen %.4f "
-            "left font ',9' tc rgb '%s'\n", x, y, PLOT_INK);
-    y -= dy;
-    char a[32], b[48];
+    figure_note(s, x, &y, dy, width, PLOT_INK, "open-loop poles, as check numbers them:");
+    char a[32], b[64];
     for (int k = 0, idx = 1; k < tf->npoles; k++) {
         if (pair_lower(tf->poles, tf->npoles, k))
             continue;
         if (idx > rows && nshown > rows + 1) {
-            fprintf(s, "set label \"... and %d more (loopwise check lists them)\" at screen %.4f, "
-                    "screen %.4f left font ',9' tc rgb '%s'\n", nshown - idx + 1, x, y, PLOT_INK);
-            y -= dy;
+            snprintf(b, sizeof b, "... and %d more (loopwise check lists them)", nshown - idx + 1);
+            figure_note(s, x, &y, dy, width, PLOT_INK, b);
             break;
         }
         double complex p = tf->poles[k];
@@ -321,40 +327,21 @@ static void key_notes(FILE *s, const layout_frame *fr, const desc *d, const chec
         y -= dy;
         idx++;
     }
-    if (tf->npoles == 0) {
-        fprintf(s, "set label \"none: no node has capacitance\" at screen %.4f, screen %.4f left "
-                "font ',9' tc rgb '%s'\n", x, y, PLOT_INK);
-        y -= dy;
-    }
-    if (hidden) {
-        fprintf(s, "set label \"* not seen by T (outside the loop)\" at screen %.4f, screen %.4f "
-                "left font ',9' tc rgb '%s'\n", x, y, PLOT_INK);
-        y -= dy;
-    }
+    if (tf->npoles == 0)
+        figure_note(s, x, &y, dy, width, PLOT_INK, "none: no node has capacitance");
+    if (hidden)
+        figure_note(s, x, &y, dy, width, PLOT_INK, "* not seen by T (outside the loop)");
     if (unlabelled) {
-        fprintf(s, "set label \"%d crowded pole%s not numbered on the plot\" at screen %.4f, "
-                "screen %.4f left font ',9' tc rgb '%s'\n", unlabelled, unlabelled == 1 ? "" : "s",
-                x, y, PLOT_INK);
-        y -= dy;
+        snprintf(b, sizeof b, "%d crowded pole%s not numbered on the plot", unlabelled,
+                 unlabelled == 1 ? "" : "s");
+        figure_note(s, x, &y, dy, width, PLOT_INK, b);
     }
     if (why_no_paths >= 2)
-        fprintf(s, "set label \"%s\" at screen %.4f, screen %.4f left font ',9' tc rgb '%s'\n",
-                why_no_paths == 2 ? "(paths from the open-loop poles: up to 64 nodes)"
-                                  : "(paths not drawn: roots too close to follow)",
-                x, y, PLOT_INK);
-    /* how to read the plane, at the foot of the column */
-    static const char *const how[] = {
-        "Distance from the centre: |s|/2\xCF\x80 on a log",
-        "scale, a circle per decade (its frequency",
-        "where it meets the real axis).",
-        "Angles are true: a pair on the ray Q has",
-        "that Q; the real axis is Q = 0.5.",
-        "The lower half-plane mirrors the upper:",
-        "each complex pair is drawn once, at +j.",
-    };
-    for (int k = 0; k < 7; k++)
-        fprintf(s, "set label \"%s\" at screen %.4f, screen %.4f left font ',9' tc rgb '%s'\n",
-                how[k], x, 0.10 + (6 - k) * dy, PLOT_MUTED);
+        figure_note(s, x, &y, dy, width, PLOT_INK, why_no_paths == 2
+                    ? "(paths from the open-loop poles: up to 64 nodes)"
+                    : "(paths not drawn: roots too close to follow)");
+    yh = 0.10 + (nhow - 1) * dy;
+    figure_note(s, x, &yh, dy, width, PLOT_MUTED, how_to_read);
 }
 
 /* The paths the closed-loop poles take from the open-loop poles as the loop
@@ -470,8 +457,8 @@ int figure_roots(const figure_opts *fo, const desc *d, const model *m, const che
         fprintf(s, ", '' using 1:($3==3 ? $2 : 1/0) with points pt %d ps 1.3 lc rgb '%s' "
                 "title 'closed-loop pole'", FIG_PT_CL_POLE, PLOT_EXTRA);
         if (!why_no_paths)
-            fprintf(s, ", 1/0 with lines lc rgb '%s' lw 1.1 title 'its path from a pole of the "
-                    "open loop'", PLOT_EXTRA);
+            fprintf(s, ", 1/0 with lines lc rgb '%s' lw 1.1 title 'its path from an open-loop "
+                    "pole'", PLOT_EXTRA);
         fputs("\n", s);
     }
     rc = rc ? (plot_abort(job), rc) : plot_finish(job, fo->keep_dir, err);

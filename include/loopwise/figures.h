@@ -62,6 +62,16 @@ void figure_style(FILE *s);
 /* The image size and font of fo in a layout frame (layout.h); the plot area
  * and ranges are the caller's. */
 void figure_frame_init(const figure_opts *fo, layout_frame *f);
+/* A note beside the plot at screen (x, *y) in the 9-point font, wrapped at
+ * spaces to width characters (the lines after the first indented), *y
+ * moved down by dy a line; with s NULL only counts. Returns the lines.
+ * For the program's own text only: it is written inside double quotes. */
+int figure_note(FILE *s, double x, double *y, double dy, int width, const char *color,
+                const char *text);
+/* Where a plot area with notes beside it ends (screen fraction): at most
+ * widest, leaving the notes 330 pixels or a third of the width (at most
+ * half of it). */
+double figure_notes_left(const figure_opts *fo, double widest);
 void figure_title(FILE *s, const char *what, const desc *d, const char *extra);
 /* The same title centred on the whole picture, for a plot area that leaves
  * room for notes beside it. */
