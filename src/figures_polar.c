@@ -262,6 +262,15 @@ static void notes(FILE *s, const check_result *r, const drawing *g, double x, do
         figure_note(s, x, &y, dy, width, PLOT_MUTED, "|T| above 160 dB is drawn on the outer circle.");
 }
 
+/* The characters of a UTF-8 text (its continuation bytes are not counted). */
+static int text_chars(const char *t)
+{
+    int n = 0;
+    for (; *t; t++)
+        n += ((unsigned char)*t & 0xC0) != 0x80;
+    return n;
+}
+
 /* Labels the crossings of the f > 0 curve with their frequencies, clear of
  * the curve, the marks and each other. */
 static void crossing_labels(FILE *s, layout *l, const check_result *r, double rho)
@@ -282,7 +291,7 @@ static void crossing_labels(FILE *s, layout *l, const check_result *r, double rh
                      si_format(hz, "Hz", a, sizeof a));
         }
         layout_label lb;
-        if (!layout_place(l, creal(p), cimag(p), 5, (int)strlen(t) - 1, 12, &lb))
+        if (!layout_place(l, creal(p), cimag(p), 5, text_chars(t), 12, &lb))
             continue;
         fprintf(s, "set label \"%s\" at %.10g, %.10g left font ',9' tc rgb '%s' %sfront\n", t,
                 lb.x, lb.y, PLOT_INK, lb.opaque ? "boxed " : "");
@@ -405,6 +414,8 @@ static int polar_script(FILE *s, plot_job *job, const figure_opts *fo, const des
             ny[k] = -g->y[k];
         ok &= layout_block_line(l, g->x, ny, g->n, 0);
         free(ny);
+    } else {
+        ok = 0;
     }
     ok &= layout_block_line(l, g->ax, g->ay, g->na, 0) && layout_block(l, -1, 0, 9);
     /* and the axes and the unit circle, which would strike through a label */
