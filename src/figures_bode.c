@@ -202,8 +202,9 @@ static void phase_marks(FILE *s, const panel *p)
          * the curve leaves to the lower right, so the upper right is free */
         double mag, ph = margin_phase(r->lg, &r->tf, mg->phase[k].hz, &mag, NULL);
         double y = -180.0 + 360.0 * round((ph + 180.0) / 360.0);
-        fprintf(s, "set object circle at %.10g, first %.6g size screen 0.005 fc rgb '%s' "
-                "fs solid front\n", mg->phase[k].hz, y, PLOT_INK);
+        /* a filled diamond: the phase-crossing mark of every picture */
+        fprintf(s, "set label '' at %.10g, first %.6g point pt %d ps 1.8 lc rgb '%s' front\n",
+                mg->phase[k].hz, y, FIG_PT_PHASE_CROSSING, PLOT_INK);
         if (k < BODE_MAX_MARKS)
             fprintf(s, "set label \"%.0f\xC2\xB0 at %s\" at %.10g, first %.6g left offset "
                     "0.8,0.9 font ',9' tc rgb '%s' front\n", y,
