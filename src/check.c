@@ -94,13 +94,27 @@ static int return_ratio(const model *m, int b, unsigned char *off, double *G, in
 static int break_analysis(const model *m, unsigned char *off, double *G0, double *G,
                           int want_owner, check_result *r, lw_error *err)
 {
-    int b = m->brk;
-    off[b] = 1;
+    int in = -1, nb = model_break_mark(m, off, &in), rc;
     model_fill_g(m, off, G0);
-    off[b] = 0;
     model_fill_g(m, NULL, G);
-    const model_gm *g = &m->gm[b];
-    int rc = lgain_new(m->n, G0, m->C, g->in, g->out, g->g, &r->lg, err);
+    if (nb == 1) {
+        const model_gm *g = NULL;
+        for (int k = 0; k < m->ngm; k++)
+            if (off[k])
+                g = &m->gm[k];
+        rc = lgain_new(m->n, G0, m->C, g->in, g->out, g->g, &r->lg, err);
+    } else {
+        /* break NODE (SPEC 1): u = the sum of g e_OUT over its gms */
+        double *u = calloc((size_t)m->n, sizeof(double));
+        rc = u ? LW_OK : lw_error_set(err, LW_ENOMEM, "out of memory");
+        for (int k = 0; !rc && k < m->ngm; k++)
+            if (off[k])
+                u[m->gm[k].out] += m->gm[k].g;
+        if (!rc)
+            rc = lgain_new_vec(m->n, G0, m->C, in, u, &r->lg, err);
+        free(u);
+    }
+    memset(off, 0, (size_t)m->ngm);
     if (rc)
         return rc;
     int rc1 = LW_OK, rc2 = LW_OK;

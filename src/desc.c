@@ -6,7 +6,7 @@
  *   res   NAME A B EXPR          cap NAME A B EXPR
  *   gm    NAME IN '->' OUT EXPR
  *   loop  NAME ('negative'|'positive') N1 N2 ... Nk
- *   break NAME
+ *   break NAME                   (desc_break.c)
  */
 #include "loopwise/desc.h"
 
@@ -611,43 +611,22 @@ static int parse_loop(pstate *ps)
     return LW_OK;
 }
 
-/* break -> 'break' NAME */
+/* break -> 'break' NAME      (a gm or a node; resolved in desc_break.c) */
 static int parse_break(pstate *ps)
 {
-    int rc = need_tokens(ps, 2, "'break NAME' naming a gm");
+    int rc = need_tokens(ps, 2, "'break NAME' naming a gm or a node");
     if (rc)
         return rc;
     const text_line *ln = ps->ln;
     if (ln->ntok > 2)
-        return at_tok(ps, &ln->tok[2], "unexpected '%s'; 'break' takes one gm name", ln->tok[2].s);
+        return at_tok(ps, &ln->tok[2], "unexpected '%s'; 'break' takes one name, a gm or a node",
+                      ln->tok[2].s);
     if (ps->brk_line)
         return at_tok(ps, &ln->tok[0], "a second 'break' line; the first is on line %d",
                       ps->brk_line->number);
-    const sym *s = sym_find(&ps->syms, ln->tok[1].s);
-    if (!s || s->kind != SYM_ELEM) {
-        if (s)
-            return at_tok(ps, &ln->tok[1], "'%s' is %s; the break must be a gm", ln->tok[1].s,
-                          sym_names[s->kind]);
-        const char **c = malloc(sizeof *c * (size_t)(ps->d->nelems + 1));
-        int n = 0;
-        for (int k = 0; c && k < ps->d->nelems; k++)
-            if (ps->d->elems[k].kind == ELEM_GM)
-                c[n++] = ps->d->elems[k].name;
-        const char *best = c ? lw_closest(ln->tok[1].s, c, n) : NULL;
-        free(c);
-        if (best)
-            return at_tok(ps, &ln->tok[1], "unknown gm '%s' (did you mean '%s'?)", ln->tok[1].s, best);
-        return at_tok(ps, &ln->tok[1], "unknown gm '%s'; the break names a gm declared above",
-                      ln->tok[1].s);
-    }
-    if (ps->d->elems[s->index].kind != ELEM_GM)
-        return at_tok(ps, &ln->tok[1], "'%s' is a %s; the break must be a gm", ln->tok[1].s,
-                      kind_names[ps->d->elems[s->index].kind]);
     ps->brk_line = ln;
-    ps->d->brk = s->index;
-    ps->d->brk_explicit = 1;
     ps->d->brk_at = (desc_pos){ ln->number, ln->tok[0].col };
-    return LW_OK;
+    return desc_break_name(ps->d, ln->tok[1].s, ln->number, ln->tok[1].col, ln->raw, ps->err);
 }
 
 static int parse_line(pstate *ps)
@@ -706,41 +685,6 @@ static int find_hops(pstate *ps, desc_loop *L, const text_line *loop_line)
     return LW_OK;
 }
 
-static int loop_has_hop(const desc_loop *L, int e)
-{
-    for (int j = 0; j < L->nnodes; j++)
-        for (int k = 0; k < L->nhops[j]; k++)
-            if (L->hops[j][k] == e)
-                return 1;
-    return 0;
-}
-
-static int choose_break(pstate *ps, const text_line *first_loop)
-{
-    desc *d = ps->d;
-    if (d->brk_explicit)
-        return LW_OK;
-    if (d->nloops == 0)
-        return lw_error_at(ps->err, 1, 1, "no loop declared and no break given; add a "
-                           "'loop NAME negative|positive NODES...' line, or a 'break NAME' line "
-                           "naming the gm where the loop is opened");
-    for (int e = 0; e < d->nelems; e++) {
-        if (d->elems[e].kind != ELEM_GM)
-            continue;
-        int all = 1;
-        for (int l = 0; l < d->nloops && all; l++)
-            all = loop_has_hop(&d->loops[l], e);
-        if (all) {
-            d->brk = e;
-            d->brk_at = d->loops[0].at;
-            return LW_OK;
-        }
-    }
-    ps->ln = first_loop;
-    return at_tok(ps, &first_loop->tok[0], "no gm is a hop of every declared loop; add a "
-                  "'break NAME' line naming the gm where the loop gain is measured");
-}
-
 static int keep_lines(pstate *ps)
 {
     desc *d = ps->d;
@@ -780,14 +724,11 @@ static int collect_param_names(pstate *ps)
 static int parse_all(pstate *ps)
 {
     const text_file *t = ps->t;
-    const text_line *first_loop = NULL;
     int rc;
     if ((rc = keep_lines(ps)) || (rc = collect_param_names(ps)))
         return rc == LW_ENOMEM ? lw_error_set(ps->err, LW_ENOMEM, "out of memory") : rc;
     for (int k = 0; k < t->nlines; k++) {
         ps->ln = &t->lines[k];
-        if (!first_loop && !strcmp(ps->ln->tok[0].s, "loop"))
-            first_loop = ps->ln;
         if ((rc = parse_line(ps)) != LW_OK)
             return rc;
     }
@@ -803,7 +744,7 @@ static int parse_all(pstate *ps)
         if ((rc = find_hops(ps, &ps->d->loops[l], ln)) != LW_OK)
             return rc;
     }
-    return choose_break(ps, first_loop);
+    return desc_break_choose(ps->d, ps->err);
 }
 
 int desc_parse(const text_file *t, const char *path, desc **out, lw_error *err)
@@ -815,6 +756,7 @@ int desc_parse(const text_file *t, const char *path, desc **out, lw_error *err)
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
     d->brk = -1;
+    d->brk_node = -1;
     pstate ps = { .d = d, .t = t, .err = err };
     int rc = parse_all(&ps);
     for (size_t k = 0; k < ps.syms.cap; k++)

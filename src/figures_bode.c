@@ -262,7 +262,8 @@ int figure_bode(const figure_opts *fo, const desc *d, const model *m, const chec
     FILE *s = plot_script(job);
     figure_style(s);
     char extra[200];
-    snprintf(extra, sizeof extra, "opened at gm %s%s", d->elems[m->gm[m->brk].elem].name,
+    snprintf(extra, sizeof extra, "opened at %s %s%s", m->brk_node >= 0 ? "node" : "gm",
+             m->brk_node >= 0 ? d->nodes[m->brk_node].name : d->elems[m->gm[m->brk].elem].name,
              r->stable ? "" : ", the closed loop is UNSTABLE");
     fprintf(s, "set multiplot\nset logscale x\nset xrange [%.10g:%.10g]\n"
             "set lmargin at screen %.3f\nset rmargin at screen %.3f\n",

@@ -89,7 +89,16 @@ void report_check_json(FILE *f, const desc *d, const model *m, const check_resul
     const lg_tf *tf = &r->tf;
     const margins *mg = &r->mg;
     fputs("{\"break\": ", f);
-    json_string(f, d->elems[m->gm[m->brk].elem].name);
+    json_string(f, m->brk_node >= 0 ? d->nodes[m->brk_node].name
+                                    : d->elems[m->gm[m->brk].elem].name);
+    fputs(", \"break_gms\": [", f);
+    for (int k = 0, first = 1; k < m->ngm; k++)
+        if (m->brk_node >= 0 ? m->gm[k].in == m->brk_node : k == m->brk) {
+            fputs(first ? "" : ", ", f);
+            json_string(f, d->elems[m->gm[k].elem].name);
+            first = 0;
+        }
+    fputc(']', f);
     fputs(",\n \"dc_loop_gain\": ", f);
     json_number(f, tf->dc);
     fputs(",\n \"dc_loop_gain_db\": ", f);

@@ -12,8 +12,13 @@
 #include "loopwise/pencil.h"
 
 struct lgain {
-    int n, in, out;
-    double gain;              /* -g d_in d_out */
+    int n, in, out;           /* out = -1: the break is the vector u (lgain_new_vec) */
+    double gain;              /* the LU path's factor: -g d_in d_out, or -d_in for a vector */
+    double hgain;             /* the Hessenberg path's factor: gain, or -1 for a vector
+                                 (pencil_io with node vectors gives v^T Y0^-1 u unscaled) */
+    double *u, *v;            /* a vector break: u and e_in, unscaled; us = D u */
+    double *us;
+    pencil_io io;
     pencil *p;                /* the reduction of Y0, shared with lg_tf_analyse */
     pencil_hess *h;           /* O(rank^2) evaluation */
     int full;                 /* 1: evaluate by the LU of the whole network */
@@ -33,6 +38,7 @@ void lgain_free(lgain *lg)
         return;
     pencil_hess_free(lg->h);
     pencil_free(lg->p);
+    free(lg->u);
     free(lg->Gs);
     free(lg->Cs);
     gsl_matrix_complex_free(lg->Y);
@@ -45,8 +51,9 @@ void lgain_free(lgain *lg)
     free(lg);
 }
 
-int lgain_new(int n, const double *G0, const double *C, int in, int out, double g,
-              lgain **out_lg, lw_error *err)
+/* in, out, g for a single gm; u (n values) instead when out is -1. */
+static int lgain_make(int n, const double *G0, const double *C, int in, int out, double g,
+                      const double *u, lgain **out_lg, lw_error *err)
 {
     *out_lg = NULL;
     lgain *lg = calloc(1, sizeof *lg);
@@ -65,9 +72,11 @@ int lgain_new(int n, const double *G0, const double *C, int in, int out, double 
     lg->Yr = gsl_matrix_alloc((size_t)n, (size_t)n);
     lg->rr = gsl_vector_calloc((size_t)n);
     lg->xr = gsl_vector_alloc((size_t)n);
+    if (u)
+        lg->u = calloc(3 * (size_t)n, sizeof(double));
     double *d = malloc(sizeof(double) * (size_t)n);
     if (!lg->Gs || !lg->Cs || !lg->Y || !lg->perm || !lg->rhs || !lg->x || !lg->Yr || !lg->rr ||
-        !lg->xr || !d) {
+        !lg->xr || !d || (u && !lg->u)) {
         free(d);
         lgain_free(lg);
         return lw_error_set(err, LW_ENOMEM, "out of memory");
@@ -84,11 +93,28 @@ int lgain_new(int n, const double *G0, const double *C, int in, int out, double 
             lg->Gs[i * n + j] = d[i] * G0[i * n + j] * d[j];
             lg->Cs[i * n + j] = d[i] * C[i * n + j] * d[j];
         }
-    lg->gain = -g * d[in] * d[out];
+    if (u) {
+        /* T = -e_in^T Y0^-1 u = -d_in e_in^T Ys^-1 (D u) with Ys = D Y0 D */
+        int any = 0;
+        lg->v = lg->u + n;
+        lg->us = lg->u + 2 * n;
+        for (int k = 0; k < n; k++) {
+            lg->u[k] = u[k];
+            lg->us[k] = d[k] * u[k];
+            any |= u[k] != 0;
+        }
+        lg->v[in] = 1.0;
+        lg->gain = any ? -d[in] : 0.0;
+        lg->hgain = any ? -1.0 : 0.0;
+        lg->io = (pencil_io){ 0, in, -1, lg->u, lg->v };
+    } else {
+        lg->gain = lg->hgain = -g * d[in] * d[out];
+        lg->io = (pencil_io){ 1, in, out, NULL, NULL };
+    }
     free(d);
     int rc = pencil_new(n, G0, C, &lg->p, err);
     if (!rc)
-        rc = pencil_hess_new(lg->p, &(pencil_io){ 1, in, out, NULL, NULL }, &lg->h, err);
+        rc = pencil_hess_new(lg->p, &lg->io, &lg->h, err);
     if (rc) {
         lgain_free(lg);
         return rc;
@@ -97,13 +123,37 @@ int lgain_new(int n, const double *G0, const double *C, int in, int out, double 
     return LW_OK;
 }
 
+int lgain_new(int n, const double *G0, const double *C, int in, int out, double g,
+              lgain **out_lg, lw_error *err)
+{
+    return lgain_make(n, G0, C, in, out, g, NULL, out_lg, err);
+}
+
+int lgain_new_vec(int n, const double *G0, const double *C, int in, const double *u,
+                  lgain **out_lg, lw_error *err)
+{
+    return lgain_make(n, G0, C, in, -1, 0.0, u, out_lg, err);
+}
+
+/* The right-hand side of the LU path: e_out, or D u for a vector break. */
+static void rhs_real(const lgain *lg, gsl_vector *b)
+{
+    if (lg->us)
+        for (int k = 0; k < lg->n; k++)
+            gsl_vector_set(b, (size_t)k, lg->us[k]);
+    else {
+        gsl_vector_set_zero(b);
+        gsl_vector_set(b, (size_t)lg->out, 1.0);
+    }
+}
+
 double complex lgain_eval(lgain *lg, double complex s)
 {
     if (lg->gain == 0)
         return 0;
     if (lg->full)
         return lgain_eval_full(lg, s);
-    return lg->gain * pencil_hess_eval(lg->h, s);
+    return lg->hgain * pencil_hess_eval(lg->h, s);
 }
 
 void lgain_use_full(lgain *lg, int on)
@@ -140,8 +190,7 @@ static double eval_full_real(lgain *lg, double sr)
         for (int j = 0; j < n; j++)
             row[j] = g[j] + sr * c[j];
     }
-    gsl_vector_set_zero(lg->rr);
-    gsl_vector_set(lg->rr, (size_t)lg->out, 1.0);
+    rhs_real(lg, lg->rr);
     if (gsl_linalg_LU_decomp(lg->Yr, lg->perm, &sig) != GSL_SUCCESS)
         return NAN;
     for (int k = 0; k < n; k++)
@@ -158,7 +207,7 @@ double lgain_eval_real(lgain *lg, double s)
         return 0;
     if (lg->full)
         return eval_full_real(lg, s);
-    return lg->gain * pencil_hess_eval_real(lg->h, s);
+    return lg->hgain * pencil_hess_eval_real(lg->h, s);
 }
 
 double complex lgain_eval_full(lgain *lg, double complex s)
@@ -178,7 +227,11 @@ double complex lgain_eval_full(lgain *lg, double complex s)
         }
     }
     gsl_vector_complex_set_zero(lg->rhs);
-    gsl_vector_complex_set(lg->rhs, (size_t)lg->out, gsl_complex_rect(1, 0));
+    for (int k = 0; k < n; k++) {
+        double b = lg->us ? lg->us[k] : (double)(k == lg->out);
+        if (b != 0)
+            gsl_vector_complex_set(lg->rhs, (size_t)k, gsl_complex_rect(b, 0));
+    }
     if (gsl_linalg_complex_LU_decomp(lg->Y, lg->perm, &sig) != GSL_SUCCESS)
         return NAN;
     for (int k = 0; k < n; k++) {
@@ -237,7 +290,7 @@ int lgain_closed_loop(lgain *lg, int n, const double *G, const double *C, double
     *roots = malloc(sizeof **roots * (size_t)(r + 1));
     if (!*roots)
         return lw_error_set(err, LW_ENOMEM, "out of memory");
-    int rc = lg->gain == 0 ? LW_OK : pencil_hess_feedback_eigen(lg->h, lg->gain, *roots, &ok, err);
+    int rc = lg->gain == 0 ? LW_OK : pencil_hess_feedback_eigen(lg->h, lg->hgain, *roots, &ok, err);
     if (lg->gain == 0) {
         /* the break is off: the closed loop is the open loop */
         rc = pencil_eigen(lg->p, C, *roots, NULL, err);
@@ -425,8 +478,18 @@ static void origin_possible(const lgain *lg, int *pole, int *zero)
     for (int i = 0; i < n; i++)
         for (int j = 0; j < n; j++)
             B[i * nb + j] = lg->Gs[i * n + j];
-    B[lg->out * nb + n] = big > 0 ? big : 1;
-    B[n * nb + lg->in] = big > 0 ? big : 1;
+    if (big == 0)
+        big = 1;
+    if (lg->us) {
+        double umax = 0;
+        for (int k = 0; k < n; k++)
+            umax = fmax(umax, fabs(lg->us[k]));
+        for (int k = 0; k < n && umax > 0; k++)
+            B[k * nb + n] = big * lg->us[k] / umax;
+    } else {
+        B[lg->out * nb + n] = big;
+    }
+    B[n * nb + lg->in] = big;
     *zero = numerically_singular(B, nb);
     free(B);
 }
@@ -592,8 +655,7 @@ static int classify_zeros(lgain *lg, lg_tf *tf, int method, lw_error *err)
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
     for (;;) {
-        rc = pencil_zero_candidates(p, &(pencil_io){ 1, lg->in, lg->out, NULL, NULL }, method, cand,
-                                    &nc, &used, err);
+        rc = pencil_zero_candidates(p, &lg->io, method, cand, &nc, &used, err);
         if (rc)
             break;
         tf->nzeros = 0;

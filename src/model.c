@@ -47,6 +47,7 @@ int model_new(const desc *d, model **out, lw_error *err)
         m->C[k * n + k] += d->nodes[k].c;
     }
     m->brk = -1;
+    m->brk_node = d->brk_node;
     for (int k = 0; k < d->nelems; k++) {
         const desc_elem *e = &d->elems[k];
         if (e->kind == ELEM_RES)
@@ -70,6 +71,18 @@ void model_fill_g(const model *m, const unsigned char *off, double *G)
     for (int k = 0; k < m->ngm; k++)
         if (!off || !off[k])
             G[m->gm[k].out * n + m->gm[k].in] -= m->gm[k].g;
+}
+
+int model_break_mark(const model *m, unsigned char *off, int *in)
+{
+    int n = 0;
+    for (int k = 0; k < m->ngm; k++)
+        if (m->brk_node >= 0 ? m->gm[k].in == m->brk_node : k == m->brk) {
+            off[k] = 1;
+            *in = m->gm[k].in;
+            n++;
+        }
+    return n;
 }
 
 int model_gm_of_elem(const model *m, int e)

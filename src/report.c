@@ -108,9 +108,21 @@ static void section_gain(FILE *f, const desc *d, const model *m, const check_res
     const lg_tf *tf = &r->tf;
     const margins *mg = &r->mg;
     char a[32], b[32];
-    const desc_elem *brk = &d->elems[m->gm[m->brk].elem];
-    fprintf(f, "\nLoop gain T, opened at gm '%s' (%s -> %s)\n", brk->name,
-            d->nodes[brk->a].name, d->nodes[brk->b].name);
+    if (m->brk_node >= 0) {
+        /* break NODE: every gm it controls, taken together */
+        fprintf(f, "\nLoop gain T, opened at node '%s' (", d->nodes[m->brk_node].name);
+        for (int k = 0, first = 1; k < m->ngm; k++)
+            if (m->gm[k].in == m->brk_node) {
+                fprintf(f, "%sgm '%s' -> %s", first ? "" : ", ", d->elems[m->gm[k].elem].name,
+                        d->nodes[m->gm[k].out].name);
+                first = 0;
+            }
+        fprintf(f, ", taken together)\n");
+    } else {
+        const desc_elem *brk = &d->elems[m->gm[m->brk].elem];
+        fprintf(f, "\nLoop gain T, opened at gm '%s' (%s -> %s)\n", brk->name,
+                d->nodes[brk->a].name, d->nodes[brk->b].name);
+    }
     if (tf->origin < 0)
         fprintf(f, "  DC gain         unbounded: T grows as 1/s^%d at low frequency (an "
                 "integrator in the loop)\n", -tf->origin);

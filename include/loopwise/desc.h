@@ -96,7 +96,8 @@ typedef struct desc {
     desc_node *nodes;   int nnodes;
     desc_elem *elems;   int nelems;
     desc_loop *loops;   int nloops;
-    int brk;           /* element index of the break gm */
+    int brk;           /* element index of the break gm; -1 when the break is a node */
+    int brk_node;      /* 'break NODE' (SPEC 1): the node whose gms are the break, else -1 */
     desc_pos brk_at;   /* position of the break line (or of the first loop line) */
     int brk_explicit;
     expr_pool *pool;
@@ -145,6 +146,16 @@ const char *desc_elem_kind_name(desc_elem_kind k);
 /* Index of node or element by name, -1 if absent. */
 int desc_find_node(const desc *d, const char *name);
 int desc_find_elem(const desc *d, const char *name);
+/* The break (desc_break.c). desc_break_name resolves the name on a 'break'
+ * line among what is declared so far (a gm, or a node that controls one);
+ * desc_break_choose picks the break when no line named it. */
+int desc_break_name(desc *d, const char *name, int line, int col, const char *raw,
+                    lw_error *err);
+int desc_break_choose(desc *d, lw_error *err);
+/* The gms whose IN is node (the break of 'break NODE'), in file order, into
+ * gms (may be NULL); returns their count. */
+int desc_break_gms(const desc *d, int node, int *gms);
+
 /* Fills err->src with source line `line` for the caret display. */
 void desc_error_source(const desc *d, lw_error *err);
 

@@ -16,6 +16,12 @@ typedef struct lgain lgain;
 /* G0 is G with the break switched off; in/out are the break's nodes, g its value. */
 int lgain_new(int n, const double *G0, const double *C, int in, int out, double g,
               lgain **out_lg, lw_error *err);
+/* A break at node `in` that is several gms taken together (SPEC 1, 'break
+ * NODE'): T(s) = -e_in^T Y0(s)^-1 u, u (n values) the sum of g e_OUT over
+ * those gms, G0 with all of them switched off. With one gm this is the T of
+ * lgain_new; that path is cheaper and is the one to take then. */
+int lgain_new_vec(int n, const double *G0, const double *C, int in, const double *u,
+                  lgain **out_lg, lw_error *err);
 void lgain_free(lgain *lg);
 /* T(s) for s in rad/s, through the Hessenberg form of the reduced network:
  * O(rank^2) per point. NaN when Y0(s) is singular at s. */

@@ -20,7 +20,8 @@ typedef struct model {
     double *C;     /* n x n row-major */
     model_gm *gm;
     int ngm;
-    int brk;       /* index into gm[] of the break */
+    int brk;       /* index into gm[] of the break; -1 when the break is a node */
+    int brk_node;  /* the node of a 'break NODE' (its gms taken together), else -1 */
 } model;
 
 int model_new(const desc *d, model **out, lw_error *err);
@@ -30,6 +31,11 @@ void model_free(model *m);
  * nonzero (off may be NULL). A gm current g·v(IN) flows into OUT, so
  * G[OUT][IN] -= g. */
 void model_fill_g(const model *m, const unsigned char *off, double *G);
+
+/* Marks the gms of the break in off[] (ngm values; one gm, or every gm
+ * controlled by the break node) and returns how many; *in gets the node that
+ * controls them. */
+int model_break_mark(const model *m, unsigned char *off, int *in);
 
 /* Index into gm[] of element e, or -1. */
 int model_gm_of_elem(const model *m, int e);

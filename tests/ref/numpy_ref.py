@@ -341,15 +341,35 @@ def parse_loop_text(text):
             nodes = [node_ref(x) for x in parts[3:]]
             net.loops.append((nm, sign, nodes))
         elif kw == "break":
-            e = net.elem(parts[1])
-            if e[0] != "gm":
-                raise LoopError("line %d: break must name a gm" % lineno)
+            if parts[1] in net.nodes:
+                # break NODE (SPEC 1): every gm controlled by the node
+                if not any(e[0] == "gm" and e[2] == parts[1] for e in net.elems):
+                    raise LoopError("line %d: node controls no gm" % lineno)
+            elif net.elem(parts[1])[0] != "gm":
+                raise LoopError("line %d: break must name a gm or a node" % lineno)
             net.brk = parts[1]
         else:
             raise LoopError("line %d: unknown keyword %r" % (lineno, kw))
     if net.brk is None:
         raise LoopError("reference networks carry an explicit break line")
     return net
+
+
+def break_plan(net):
+    """SPEC 1, "Break": (i, b, g, off): T(s) = -g e_i^T Y0(s)^-1 b with Y0 =
+    Y with the gms in `off` switched off.  A gm break is b = e_OUT and g its
+    value; a node break N takes every gm whose IN is N together: i = N,
+    b = the sum of g e_OUT over them, g = 1."""
+    n = len(net.nodes)
+    b = np.zeros(n)
+    if net.brk in net.nodes:
+        gms = [e for e in net.elems if e[0] == "gm" and e[2] == net.brk]
+        for e in gms:
+            b[net.idx(e[3])] += e[4]
+        return net.idx(net.brk), b, 1.0, {e[1] for e in gms}
+    kind, nm, a, bb, g = net.elem(net.brk)
+    b[net.idx(bb)] = 1.0
+    return net.idx(a), b, g, {nm}
 
 
 def parse_loop_file(path):
@@ -421,12 +441,9 @@ class Ref:
         self.net = net
         n = len(net.nodes)
         self.n = n
-        kind, nm, a, b, g = net.elem(net.brk)
-        self.i, self.o, self.g = net.idx(a), net.idx(b), g
+        self.i, self.e_o, self.g, off = break_plan(net)
         self.G, self.C = build(net)
-        self.G0, _ = build(net, off={net.brk})
-        self.e_o = np.zeros(n)
-        self.e_o[self.o] = 1.0
+        self.G0, _ = build(net, off=off)
 
         lam, keep, vl, vr = gen_eig(-self.G0, self.C, left=True)
         self.ol = [clean(z) for z in lam]
@@ -448,7 +465,7 @@ class Ref:
             self._band()
             self._margins()
 
-    # T(s) = -g [Y0(s)^-1]_(i,o)
+    # T(s) = -g [Y0(s)^-1]_(i,o), or -e_i^T Y0(s)^-1 b for a node break
     def T(self, s):
         Y = self.G0 + s * self.C
         x = np.linalg.solve(Y.astype(complex), self.e_o.astype(complex))
@@ -475,7 +492,7 @@ class Ref:
         A = np.zeros((n + 1, n + 1))
         B = np.zeros((n + 1, n + 1))
         A[:n, :n] = self.G0
-        A[self.o, n] = 1.0
+        A[:n, n] = self.e_o
         A[n, self.i] = 1.0
         B[:n, :n] = self.C
         cand = gen_eig(-A, B)[0]
@@ -836,12 +853,12 @@ def exact_model(net):
     """Exact D0 = det Y0, N = det bordered, Dcl = det Y, and g."""
     n = len(net.nodes)
     Gx, B = build_exact(net)
-    A, _ = build_exact(net, off={net.brk})
-    kind, nm, a, b, g = net.elem(net.brk)
-    i, o = net.idx(a), net.idx(b)
+    i, bvec, g, off = break_plan(net)
+    A, _ = build_exact(net, off=off)
     Ab = [row[:] + [Fraction(0)] for row in A] + [[Fraction(0)] * (n + 1)]
     Bb = [row[:] + [Fraction(0)] for row in B] + [[Fraction(0)] * (n + 1)]
-    Ab[o][n] = Fraction(1)
+    for k in range(n):
+        Ab[k][n] = Fraction(float(bvec[k]))
     Ab[n][i] = Fraction(1)
     D0 = det_poly(A, B, n)
     N = det_poly(Ab, Bb, n + 1)

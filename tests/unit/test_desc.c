@@ -264,6 +264,50 @@ static void test_explicit_break(void **state)
     desc_free(d);
 }
 
+/* break NODE (SPEC 1): the node's gms in file order; a gm break leaves
+ * brk_node at -1 and a node break leaves brk at -1. */
+static void test_break_node(void **state)
+{
+    (void)state;
+    desc *d = must_parse_eval("node a r=1k c=1p\n"
+                              "node b r=1k c=1p\n"
+                              "node c r=1k c=1p\n"
+                              "gm g1 a -> b 1m\n"
+                              "gm g2 b -> a -1m\n"
+                              "gm g3 a -> c 1m\n"
+                              "gm g4 c -> a -1m\n"
+                              "loop one negative a b\n"
+                              "loop two negative a c\n"
+                              "break a\n");
+    assert_int_equal(d->brk_node, desc_find_node(d, "a"));
+    assert_int_equal(d->brk, -1);
+    assert_true(d->brk_explicit);
+    int gms[4];
+    assert_int_equal(desc_break_gms(d, d->brk_node, gms), 2);
+    assert_int_equal(gms[0], desc_find_elem(d, "g1"));
+    assert_int_equal(gms[1], desc_find_elem(d, "g3"));
+    desc_free(d);
+    /* the same loops without a break line: the error names node a */
+    expect_error("node a r=1k c=1p\n"
+                 "node b r=1k c=1p\n"
+                 "node c r=1k c=1p\n"
+                 "gm g1 a -> b 1m\n"
+                 "gm g2 b -> a -1m\n"
+                 "gm g3 a -> c 1m\n"
+                 "gm g4 c -> a -1m\n"
+                 "loop one negative a b\n"
+                 "loop two negative a c\n",
+                 0, 8, 1, "every loop passes through 'a': add 'break a'");
+    /* a node declared after the break line is not known there */
+    expect_error("node a r=1k c=1p\n"
+                 "node b r=1k c=1p\n"
+                 "gm g1 a -> b 1m\n"
+                 "gm g2 b -> a -1m\n"
+                 "break z\n"
+                 "node z r=1k\n",
+                 0, 5, 7, "unknown gm or node 'z'");
+}
+
 /* ---- error positions ---------------------------------------------------- */
 
 static void test_unknown_node_suggests(void **state)
@@ -595,6 +639,7 @@ int main(void)
         cmocka_unit_test(test_loops_and_hops),
         cmocka_unit_test(test_automatic_break_common_gm),
         cmocka_unit_test(test_explicit_break),
+        cmocka_unit_test(test_break_node),
         cmocka_unit_test(test_unknown_node_suggests),
         cmocka_unit_test(test_duplicate_name),
         cmocka_unit_test(test_glued_arrow),

@@ -177,6 +177,55 @@ static void test_miller_response(void **state)
     release(&x);
 }
 
+/* break NODE (SPEC 1): node a controls g1 -> b and g3 -> c, taken together.
+ * With g1, g3 off, a unit drive u = g1 e_b + g3 e_c gives, by nodal analysis
+ * worked by hand, v_b = g1/(Gb + sCb), v_c = g3/(Gc + sCc), and at a, where
+ * g2 and g4 (-1 mS each, from b and c) inject -1m v_b and -1m v_c,
+ * v_a = -1m (v_b + v_c)/(Ga + sCa); T = -v_a. */
+static void test_break_node_closed_form(void **state)
+{
+    (void)state;
+    run x;
+    analyse(&x, "node a r=1k c=1p\n"
+                "node b r=1k c=1p\n"
+                "node c r=2k c=3p\n"
+                "gm g1 a -> b 1m\n"
+                "gm g2 b -> a -1m\n"
+                "gm g3 a -> c 1m\n"
+                "gm g4 c -> a -1m\n"
+                "loop l1 negative a b\n"
+                "loop l2 negative a c\n"
+                "break a\n");
+    assert_int_equal(x.d->brk_node, 0);
+    assert_int_equal(x.m->brk_node, 0);
+    const double Ga = 1e-3, Ca = 1e-12, Gb = 1e-3, Cb = 1e-12, Gc = 0.5e-3, Cc = 3e-12;
+    const double ws[] = { 0, 1e6, 3e7, 1e8, 1e9, 1e10 };
+    for (int k = 0; k < 6; k++) {
+        double complex s = I * ws[k];
+        double complex vb = 1e-3 / (Gb + s * Cb), vc = 1e-3 / (Gc + s * Cc);
+        double complex t = 1e-3 * (vb + vc) / (Ga + s * Ca);
+        assert_crel(lgain_eval(x.r.lg, s), t, 1e-11);
+        assert_crel(lgain_eval_full(x.r.lg, s), t, 1e-11);
+    }
+    /* T(0) = 1m (1m 1k + 1m 2k) 1k = 3 */
+    assert_rel(x.r.tf.dc, 3.0, 1e-12);
+    /* one zero: vb + vc = 0 at s = -(Gb + Gc)/(Cb + Cc) (Gb Cc ... worked from
+     * 1m/(Gb + sCb) + 1m/(Gc + sCc) = 0: Gc + sCc + Gb + sCb = 0) */
+    assert_int_equal(x.r.tf.nzeros, 1);
+    assert_crel(x.r.tf.zeros[0], -(Gb + Gc) / (Cb + Cc), 1e-9);
+    /* det Y = det Y0 (1 + T): the closed-loop poles are the roots of
+     * (Ga + sCa)(Gb + sCb)(Gc + sCc) + 1m 1m ((Gc + sCc) + (Gb + sCb)) */
+    for (int k = 0; k < x.r.ncl; k++) {
+        double complex p = x.r.cl[k];
+        double complex f = (Ga + p * Ca) * (Gb + p * Cb) * (Gc + p * Cc) +
+                           1e-6 * ((Gc + p * Cc) + (Gb + p * Cb));
+        double scale = cabs(Ga + p * Ca) * cabs(Gb + p * Cb) * cabs(Gc + p * Cc);
+        assert_true(cabs(f) <= 1e-9 * scale);
+    }
+    assert_int_equal(x.r.ncl, 3);
+    release(&x);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -187,6 +236,7 @@ int main(void)
         cmocka_unit_test(test_output_node_outside_loop_leaves_T),
         cmocka_unit_test(test_integrator_unbounded_dc),
         cmocka_unit_test(test_miller_response),
+        cmocka_unit_test(test_break_node_closed_form),
     };
     return cmocka_run_group_tests_name("loopgain", tests, NULL, NULL);
 }
