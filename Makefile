@@ -84,6 +84,7 @@ reference: loopwise
 	@$(PYTHON) tests/ref/numpy_ref.py --selftest
 	@LOOPWISE=./loopwise $(PYTHON) tests/ref/numpy_ref.py
 	@LOOPWISE=./loopwise $(PYTHON) tests/ref/family.py
+	@LOOPWISE=./loopwise $(PYTHON) tests/ref/comp_table.py
 
 # Small drivers print what a library function gives over a whole grid; a
 # Python script compares it with an outside reference: the Clopper-Pearson

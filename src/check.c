@@ -19,6 +19,8 @@ void check_result_free(check_result *r)
     free(r->node_double);
     free(r->node_half);
     free(r->node_cg);
+    free(r->elem_double);
+    free(r->elem_half);
     for (int l = 0; r->loop_lg && l < r->nloops; l++) {
         lgain_free(r->loop_lg[l]);
         lg_tf_free(&r->loop_tf[l]);

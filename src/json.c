@@ -1,8 +1,10 @@
 /* json: machine output of 'check' (SPEC section 4). Doubles print as %.17g
  * (round-trip exact); NaN and infinities print as null. */
 #include <math.h>
+#include <stdlib.h>
 #include <string.h>
 
+#include "loopwise/design.h"
 #include "loopwise/report.h"
 
 #define TWO_PI 6.283185307179586
@@ -156,6 +158,34 @@ void report_check_json(FILE *f, const desc *d, const model *m, const check_resul
         }
         fputc(']', f);
     }
+    design_row *w;
+    int nw = design_table_rows(d, r, &w);
+    if (nw > 0) {
+        /* every node's capacitance to ground and every cap and res element,
+         * largest effect first */
+        static const char *const kinds[] = { "node", "cap", "res" };
+        fputs(",\n \"compensation_table\": [", f);
+        for (int k = 0; k < nw; k++) {
+            const design_row *x = &w[k];
+            int a = x->kind == ROW_NODE ? x->index : d->elems[x->index].a;
+            int b = x->kind == ROW_NODE ? DESC_GND : d->elems[x->index].b;
+            fprintf(f, "%s{\"kind\": \"%s\", \"name\": ", k ? ",\n   " : "", kinds[x->kind]);
+            json_string(f, x->kind == ROW_NODE ? d->nodes[a].name : d->elems[x->index].name);
+            fputs(", \"between\": [", f);
+            json_string(f, d->nodes[a].name);
+            fputs(", ", f);
+            json_string(f, b == DESC_GND ? "gnd" : d->nodes[b].name);
+            fprintf(f, "], \"value\": ");
+            json_number(f, x->value);
+            fputs(", \"pm_change_double_deg\": ", f);
+            json_number(f, x->pm_double);
+            fputs(", \"pm_change_half_deg\": ", f);
+            json_number(f, x->pm_half);
+            fputc('}', f);
+        }
+        fputc(']', f);
+    }
+    free(w);
     fputs(",\n \"band_hz\": [", f);
     json_number(f, mg->fmin_hz);
     fputs(", ", f);

@@ -5,6 +5,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "loopwise/report_design.h"
 #include "loopwise/units.h"
 
 #define TWO_PI 6.283185307179586
@@ -211,28 +212,69 @@ static void section_roots(FILE *f, const char *title, const double complex *v, i
     }
 }
 
+/* "+1.23°", "-" when undefined, and "0.00°" for a change that rounds to
+ * zero (never "-0.00°"). */
+static void change_text(double v, char *buf, size_t n)
+{
+    if (isnan(v))
+        snprintf(buf, n, "-");
+    else if (fabs(v) < 0.005)
+        snprintf(buf, n, "0.00\xC2\xB0");
+    else
+        snprintf(buf, n, "%+.2f\xC2\xB0", v);
+}
+
+/* The compensation table: every node's capacitance to ground and every cap
+ * and res element, largest effect first (design_table.c). */
 static void section_nodes(FILE *f, const desc *d, const check_result *r)
 {
-    if (!r->node_double)
+    design_row *w;
+    int n = design_table_rows(d, r, &w);
+    if (n <= 0)
         return;
-    fprintf(f, "\nWhere to compensate: phase margin change when a node's capacitance to ground\n"
-            "  %-12s %-12s %10s %10s\n", "node", "C to ground", "x2", "x1/2");
-    int best = -1;
-    for (int k = 0; k < d->nnodes; k++) {
-        char c[32], a[16], b[16];
-        double cg = r->node_cg ? r->node_cg[k] : NAN;
-        if (!(cg > 0))
-            continue;
-        snprintf(a, sizeof a, isnan(r->node_double[k]) ? "-" : "%+.2f\xC2\xB0", r->node_double[k]);
-        snprintf(b, sizeof b, isnan(r->node_half[k]) ? "-" : "%+.2f\xC2\xB0", r->node_half[k]);
-        fprintf(f, "  %-12s %-12s %11s %11s\n", d->nodes[k].name, si_format(cg, "F", c, sizeof c),
-                a, b);
-        if (!isnan(r->node_double[k]) &&
-            (best < 0 || r->node_double[k] > r->node_double[best]))
-            best = k;
+    fprintf(f, "\nWhere to compensate: phase margin change when one value doubles or halves\n"
+            "  %-12s %-24s %-10s %9s %10s\n", "name", "what", "value", "x2", "x1/2");
+    int best = -1, best_half = 0;
+    for (int k = 0; k < n; k++) {
+        const design_row *x = &w[k];
+        char what[160], v[32], a[16], b[16];
+        const char *name;
+        if (x->kind == ROW_NODE) {
+            name = d->nodes[x->index].name;
+            snprintf(what, sizeof what, "C to ground");
+        } else {
+            const desc_elem *e = &d->elems[x->index];
+            name = e->name;
+            snprintf(what, sizeof what, "%s %s-%s", x->kind == ROW_CAP ? "cap" : "res",
+                     d->nodes[e->a].name, e->b == DESC_GND ? "gnd" : d->nodes[e->b].name);
+        }
+        si_format(x->value, x->kind == ROW_RES ? "\xCE\xA9" : "F", v, sizeof v);
+        change_text(x->pm_double, a, sizeof a);
+        change_text(x->pm_half, b, sizeof b);
+        fputs("  ", f);
+        report_pad(f, name, 13);
+        report_pad(f, what, 25);
+        report_pad(f, v, 10);
+        fprintf(f, "%10s %11s\n", a, b);
+        for (int h = 0; h < 2; h++) {
+            double g = h ? x->pm_half : x->pm_double;
+            double cur = best < 0 ? -INFINITY : best_half ? w[best].pm_half : w[best].pm_double;
+            if (!isnan(g) && g > cur) {
+                best = k;
+                best_half = h;
+            }
+        }
     }
-    if (best >= 0 && r->node_double[best] > 0.05)
-        fprintf(f, "  more capacitance helps most at '%s'\n", d->nodes[best].name);
+    if (best >= 0 && (best_half ? w[best].pm_half : w[best].pm_double) > 0.05) {
+        const design_row *x = &w[best];
+        fprintf(f, "  the largest gain: %s %s '%s' (%+.2f\xC2\xB0)\n",
+                best_half ? "halving" : "doubling",
+                x->kind == ROW_NODE ? "the capacitance to ground at" : x->kind == ROW_CAP
+                                                                          ? "cap" : "res",
+                x->kind == ROW_NODE ? d->nodes[x->index].name : d->elems[x->index].name,
+                best_half ? x->pm_half : x->pm_double);
+    }
+    free(w);
 }
 
 static void verdict(FILE *f, const check_result *r, report_target t)

@@ -42,6 +42,8 @@ typedef struct check_result {
     double *node_double;       /* phase-margin change per node when its capacitance to */
     double *node_half;         /* ground doubles / halves; NULL unless computed (design.h) */
     double *node_cg;           /* each node's capacitance to ground (with the table) */
+    double *elem_double;       /* the same per element when its value doubles / halves: */
+    double *elem_half;         /* every cap and res; NAN for a gm (design.h) */
     int have_nyquist;          /* with want_nyquist: */
     nyquist nq;                /* the Nyquist count */
     int nyquist_disagrees;     /* its Z differs from the closed-loop poles in the RHP */

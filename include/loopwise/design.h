@@ -109,9 +109,28 @@ int load_run(desc *d, int node, double lo, double hi, int npts, design_goal g, c
              load_result *r, lw_error *err);
 void load_result_free(load_result *r);
 
-/* Fills r->node_double, node_half and node_cg: the phase margin change
- * (degrees) per node when its capacitance to ground doubles and halves;
- * NAN for nodes without capacitance to ground or where a margin is undefined. */
+/* The compensation table (design_table.c). Fills r->node_double, node_half
+ * and node_cg: the phase margin change (degrees) per node when its
+ * capacitance to ground doubles and halves, NAN for nodes without
+ * capacitance to ground or where a margin is undefined; and elem_double,
+ * elem_half: the same per cap and res element when its value doubles and
+ * halves (NAN for a gm). Left NULL beyond 64 nodes; the element rows are
+ * NAN beyond 256 cap and res elements. */
 int design_node_table(const desc *d, const check_opts *o, check_result *r, lw_error *err);
+
+/* One row of the compensation table: a node's capacitance to ground, or a
+ * cap or res element, with its value (F or ohm) and the margin changes. */
+typedef enum { ROW_NODE, ROW_CAP, ROW_RES } design_row_kind;
+typedef struct design_row {
+    design_row_kind kind;
+    int index;              /* node index (ROW_NODE) or element index */
+    double value;
+    double pm_double, pm_half;
+    int order;              /* position before sorting */
+} design_row;
+/* The rows of the table, largest effect (either way) first, rows without a
+ * figure last; *rows is allocated (free it). Returns the count, 0 when the
+ * table was not computed, -1 without memory. */
+int design_table_rows(const desc *d, const check_result *r, design_row **rows);
 
 #endif

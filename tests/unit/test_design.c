@@ -221,6 +221,63 @@ static void goal_rules(void **state)
     assert_true(design_fails(&ok, gm_high));
 }
 
+/* Phase margin of T = A/((1 + s/p1)(1 + s/p2)) in closed form: |T(jw)| = 1
+ * is a quadratic in w^2, x^2/(p1 p2)^2 + x (1/p1^2 + 1/p2^2) + 1 - A^2 = 0,
+ * and PM = 180 - atan(wc/p1) - atan(wc/p2) (from memory). */
+static double two_pole_pm(double A, double p1, double p2)
+{
+    double a = 1.0 / (p1 * p1 * p2 * p2), b = 1.0 / (p1 * p1) + 1.0 / (p2 * p2), c = 1 - A * A;
+    double x = (-b + sqrt(b * b - 4 * a * c)) / (2 * a), wc = sqrt(x);
+    return 180.0 - (atan(wc / p1) + atan(wc / p2)) / DEG;
+}
+
+/* The compensation table (issue 18) on a two-pole loop whose dominant pole
+ * is set by a cap element and whose second pole by a res element: every row
+ * against the closed form. A = g1 R1 g2 R2, p1 = 1/(R1 C1), p2 = 1/(R2 C2);
+ * doubling rl doubles A and halves p2. */
+static void compensation_table_two_pole(void **state)
+{
+    (void)state;
+    run x;
+    analyse(&x, "node a r=100k c=1p\n"
+                "node b r=inf c=1p\n"
+                "gm g1 a -> b 1m\n"
+                "gm g2 b -> a -10m\n"
+                "cap cdom a gnd 10p\n"
+                "res rl b gnd 10k\n"
+                "loop l negative a b\n"
+                "break g1\n");
+    check_opts o = { .want_owner = 1 };
+    lw_error err;
+    assert_int_equal(design_node_table(x.d, &o, &x.r, &err), 0);
+    const double R1 = 100e3, C1 = 11e-12, R2 = 10e3, C2 = 1e-12, gg = 1e-3 * 10e-3;
+    double pm0 = two_pole_pm(gg * R1 * R2, 1 / (R1 * C1), 1 / (R2 * C2));
+    assert_rel(x.r.mg.cross[x.r.mg.best_cross].value, pm0, 1e-9);
+    for (int h = 0; h < 2; h++) {
+        double f = h ? 0.5 : 2.0;
+        double node_a = two_pole_pm(gg * R1 * R2, 1 / (R1 * C1 * f), 1 / (R2 * C2)) - pm0;
+        double node_b = two_pole_pm(gg * R1 * R2, 1 / (R1 * C1), 1 / (R2 * C2 * f)) - pm0;
+        double cdom = two_pole_pm(gg * R1 * R2, 1 / (R1 * (1e-12 + 10e-12 * f)), 1 / (R2 * C2)) - pm0;
+        double rl = two_pole_pm(gg * R1 * R2 * f, 1 / (R1 * C1), 1 / (R2 * f * C2)) - pm0;
+        const double *dbl = h ? x.r.node_half : x.r.node_double;
+        const double *el = h ? x.r.elem_half : x.r.elem_double;
+        assert_rel(dbl[0], node_a, 1e-7);
+        assert_rel(dbl[1], node_b, 1e-7);
+        assert_rel(el[desc_find_elem(x.d, "cdom")], cdom, 1e-7);
+        assert_rel(el[desc_find_elem(x.d, "rl")], rl, 1e-7);
+        assert_true(isnan(el[desc_find_elem(x.d, "g1")]));
+    }
+    /* the rows, largest effect first */
+    design_row *w;
+    int n = design_table_rows(x.d, &x.r, &w);
+    assert_int_equal(n, 4);
+    for (int k = 1; k < n; k++)
+        assert_true(fmax(fabs(w[k - 1].pm_double), fabs(w[k - 1].pm_half)) >=
+                    fmax(fabs(w[k].pm_double), fabs(w[k].pm_half)));
+    free(w);
+    release(&x);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -230,6 +287,7 @@ int main(void)
         cmocka_unit_test(size_unreachable),
         cmocka_unit_test(load_outside),
         cmocka_unit_test(goal_rules),
+        cmocka_unit_test(compensation_table_two_pole),
     };
     return cmocka_run_group_tests_name("design", tests, NULL, NULL);
 }
