@@ -10,7 +10,7 @@
 #include "loopwise/outfile.h"
 #include "loopwise/report_design.h"
 
-static int number(const char *opt, const char *text, expr_unit unit, double *v, lw_error *err)
+int cli_number(const char *opt, const char *text, expr_unit unit, double *v, lw_error *err)
 {
     expr_pool *p = expr_pool_new();
     int h, rc = p ? expr_compile(p, text, unit, NULL, 1, 1, text, &h, err) : LW_ENOMEM;
@@ -28,8 +28,8 @@ static int number(const char *opt, const char *text, expr_unit unit, double *v, 
 }
 
 /* range -> VALUE '..' VALUE, with LO < HI and, when positive, LO > 0 */
-static int range(const char *opt, const char *text, expr_unit unit, int positive, double *lo,
-                 double *hi, lw_error *err)
+int cli_range(const char *opt, const char *text, expr_unit unit, int positive, double *lo,
+              double *hi, lw_error *err)
 {
     const char *dots = strstr(text, "..");
     if (!dots || dots == text || !dots[2])
@@ -41,9 +41,9 @@ static int range(const char *opt, const char *text, expr_unit unit, int positive
         return lw_error_set(err, LW_EINPUT, "%s: range too long", opt);
     memcpy(left, text, l);
     left[l] = '\0';
-    int rc = number(opt, left, unit, lo, err);
+    int rc = cli_number(opt, left, unit, lo, err);
     if (!rc)
-        rc = number(opt, dots + 2, unit, hi, err);
+        rc = cli_number(opt, dots + 2, unit, hi, err);
     if (rc)
         return rc;
     if (positive && !(*lo > 0))
@@ -64,8 +64,7 @@ static int must_be_positive(const desc *d, desc_target t)
     return t.kind == TARGET_ELEM && d->elems[t.index].kind != ELEM_GM;
 }
 
-static int find_target(const desc *d, const char *opt, const char *name, desc_target *t,
-                       lw_error *err)
+int cli_target(const desc *d, const char *opt, const char *name, desc_target *t, lw_error *err)
 {
     int rc = desc_target_find(d, name, t, err);
     if (rc) {
@@ -84,7 +83,7 @@ static figure_opts fig(const options *o)
 
 /* Sweeps and sizing need no owner nodes: the participation factors cost as
  * much as the poles themselves on larger networks. */
-static check_opts design_opts(const options *o)
+check_opts cli_design_opts(const options *o)
 {
     check_opts co = { o->fmin, o->fmax, 0, 0, 0, 0 };
     return co;
@@ -102,7 +101,7 @@ static design_goal goal(const options *o)
 }
 
 /* density -> VALUE '/um2'   (capacitance per square micrometre) */
-static int density(const char *text, double *v, lw_error *err)
+int cli_density(const char *text, double *v, lw_error *err)
 {
     static const char *const tails[] = { "/um2", "/um^2", "/\xC2\xB5m2", "/\xC2\xB5m^2" };
     const char *slash = strchr(text, '/');
@@ -118,34 +117,42 @@ static int density(const char *text, double *v, lw_error *err)
         return lw_error_set(err, LW_EINPUT, "--density '%s': expected a number before '/'", text);
     memcpy(num, text, l);
     num[l] = '\0';
-    int rc = number("--density", num, UNIT_F, v, err);
+    int rc = cli_number("--density", num, UNIT_F, v, err);
     if (!rc && !(*v > 0))
         rc = lw_error_set(err, LW_EINPUT, "--density '%s': must be positive", text);
     return rc;
 }
 
-int cmd_size(const options *o, desc *d, int *code, lw_error *err)
+int cli_tune_range(const desc *d, desc_target t, const char *name, const char *within,
+                   double *lo, double *hi, lw_error *err)
 {
+    if (within)
+        return cli_range("--within", within, desc_target_unit(d, t), 1, lo, hi, err);
+    double v0 = desc_target_value(d, t);
+    if (!(v0 > 0) || !isfinite(v0))
+        return lw_error_set(err, LW_EINPUT, "--tune %s: its value is not positive; give "
+                            "the range to search with --within LO..HI", name);
+    *lo = v0 / 100;
+    *hi = v0 * 100;
+    return LW_OK;
+}
+
+int cmd_size(const options *o, desc *d, const text_file *tf, int *code, lw_error *err)
+{
+    if (o->over)
+        return cmd_size_over(o, d, tf, code, err);
+    if (o->ntune == 2)
+        return cmd_size_pair(o, d, code, err);
     desc_target t;
     double lo, hi, dens = NAN;
-    int rc = find_target(d, "--tune", o->tune, &t, err);
-    if (rc)
-        return rc;
-    if (o->within) {
-        rc = range("--within", o->within, desc_target_unit(d, t), 1, &lo, &hi, err);
-    } else {
-        double v0 = desc_target_value(d, t);
-        if (!(v0 > 0) || !isfinite(v0))
-            return lw_error_set(err, LW_EINPUT, "--tune %s: its value is not positive; give "
-                                "the range to search with --within LO..HI", o->tune);
-        lo = v0 / 100;
-        hi = v0 * 100;
-    }
+    int rc = cli_target(d, "--tune", o->tune[0], &t, err);
+    if (!rc)
+        rc = cli_tune_range(d, t, o->tune[0], o->within[0], &lo, &hi, err);
     if (!rc && o->density)
-        rc = density(o->density, &dens, err);
+        rc = cli_density(o->density, &dens, err);
     if (rc)
         return rc;
-    check_opts co = design_opts(o);
+    check_opts co = cli_design_opts(o);
     size_result r;
     if ((rc = size_run(d, t, lo, hi, goal(o), &co, &r, err)))
         return rc;
@@ -155,7 +162,7 @@ int cmd_size(const options *o, desc *d, int *code, lw_error *err)
     if ((rc = design_eval_full(d, t, r.best.value, &co, &at, &m, err)))
         return rc;
     design_point_from(&at, r.best.value, &r.best);
-    report_size(stdout, d, o->tune, t, &r, &at, goal(o), dens, o->json ? OUT_JSON : OUT_TEXT);
+    report_size(stdout, d, o->tune[0], t, &r, &at, goal(o), dens, o->json ? OUT_JSON : OUT_TEXT);
     check_result_free(&at);
     model_free(m);
     desc_eval(d, err);
@@ -163,29 +170,40 @@ int cmd_size(const options *o, desc *d, int *code, lw_error *err)
     return LW_OK;
 }
 
-int cmd_sweep(const options *o, desc *d, int *code, lw_error *err)
+int cli_sweep_range(const desc *d, desc_target t, const char *from, const char *to, int lin,
+                    double *lo, double *hi, lw_error *err)
 {
-    desc_target t;
-    double from, to;
-    int rc = find_target(d, "--vary", o->vary, &t, err);
-    if (rc)
-        return rc;
     expr_unit u = desc_target_unit(d, t);
-    if ((rc = number("--from", o->from, u, &from, err)) || (rc = number("--to", o->to, u, &to, err)))
+    int rc;
+    if ((rc = cli_number("--from", from, u, lo, err)) || (rc = cli_number("--to", to, u, hi, err)))
         return rc;
-    int npts = o->points ? o->points : 25;
-    if (from == to)
+    if (*lo == *hi)
         return lw_error_set(err, LW_EINPUT, "--from and --to are equal: the range is empty");
-    if (from > to)
+    if (*lo > *hi)
         return lw_error_set(err, LW_EINPUT, "--from %s is above --to %s: the range is inverted",
-                            o->from, o->to);
-    if ((!o->lin || must_be_positive(d, t)) && !(from > 0))
-        return lw_error_set(err, LW_EINPUT, "--from %s: %s", o->from, must_be_positive(d, t)
+                            from, to);
+    if ((!lin || must_be_positive(d, t)) && !(*lo > 0))
+        return lw_error_set(err, LW_EINPUT, "--from %s: %s", from, must_be_positive(d, t)
                             ? "a capacitance or resistance must stay positive"
                             : "a logarithmic sweep needs positive values (or use --lin)");
+    return LW_OK;
+}
+
+int cmd_sweep(const options *o, desc *d, int *code, lw_error *err)
+{
+    if (o->nvary == 2)
+        return cmd_sweep_map(o, d, code, err);
+    desc_target t;
+    double from, to;
+    int rc = cli_target(d, "--vary", o->vary[0], &t, err);
+    if (!rc)
+        rc = cli_sweep_range(d, t, o->from[0], o->to[0], o->lin, &from, &to, err);
+    if (rc)
+        return rc;
+    int npts = o->points ? o->points : 25;
     if (npts > 10000)
         return lw_error_set(err, LW_EINPUT, "--points %d: a sweep takes at most 10000 points", npts);
-    check_opts co = design_opts(o);
+    check_opts co = cli_design_opts(o);
     sweep_result r;
     if ((rc = sweep_run(d, t, from, to, npts, o->lin, goal(o), &co, &r, err)))
         return rc;
@@ -195,19 +213,19 @@ int cmd_sweep(const options *o, desc *d, int *code, lw_error *err)
             sweep_result_free(&r);
             return rc;
         }
-        report_sweep(of->f, d, o->vary, t, &r, goal(o), OUT_CSV);
+        report_sweep(of->f, d, o->vary[0], t, &r, goal(o), OUT_CSV);
         if ((rc = outfile_commit(of, err))) {
             sweep_result_free(&r);
             return rc;
         }
     }
     if (!o->csv || strcmp(o->csv, "-"))
-        report_sweep(stdout, d, o->vary, t, &r, goal(o), o->json ? OUT_JSON : OUT_TEXT);
+        report_sweep(stdout, d, o->vary[0], t, &r, goal(o), o->json ? OUT_JSON : OUT_TEXT);
     *code = r.failed ? 1 : 0;
     if (o->plot) {
         figure_opts fo = fig(o);
         fflush(stdout);
-        rc = figure_margin(&fo, d, o->vary, report_unit_symbol(d, t), &r, goal(o), o->lin, err);
+        rc = figure_margin(&fo, d, o->vary[0], report_unit_symbol(d, t), &r, goal(o), o->lin, err);
     }
     sweep_result_free(&r);
     return rc;
@@ -233,10 +251,10 @@ int cmd_load(const options *o, desc *d, int *code, lw_error *err)
         return rc;
     }
     double lo, hi;
-    int rc = range("--cload", o->cload, UNIT_F, 1, &lo, &hi, err);
+    int rc = cli_range("--cload", o->cload, UNIT_F, 1, &lo, &hi, err);
     if (rc)
         return rc;
-    check_opts co = design_opts(o);
+    check_opts co = cli_design_opts(o);
     load_result r;
     if ((rc = load_run(d, node, lo, hi, o->points ? o->points : 25, goal(o), &co, &r, err)))
         return rc;

@@ -7,7 +7,7 @@
 #include "loopwise/cli.h"
 #include "loopwise/figures.h"
 #include "loopwise/report.h"
-#include "loopwise/report_design.h"
+#include "loopwise/report_across.h"
 #include "loopwise/units.h"
 #include "loopwise/variation.h"
 
@@ -26,10 +26,11 @@ static const char *exact(double v, char *buf, size_t n)
 
 /* The command that gives exactly the reported figures of one corner or
  * sample: the file, the band if given, every --set of the command line (a
- * value the user pinned is part of the operating point), then the varied
- * values. Returns a string to free, or NULL without memory. */
-static char *reproduce_line(const options *o, const desc *d, const int *params, int np,
-                            const double *v)
+ * value the user pinned is part of the operating point), the tuned value
+ * when there is one, then the varied values. Returns a string to free, or
+ * NULL without memory. */
+char *cli_reproduce(const options *o, const desc *d, const char *tune, double value,
+                    const int *params, int np, const double *v)
 {
     char *buf = NULL, b[40];
     size_t len = 0;
@@ -46,6 +47,8 @@ static char *reproduce_line(const options *o, const desc *d, const int *params, 
         fputs(" --set ", f);
         report_shell_word(f, o->sets[k]);
     }
+    if (tune)
+        fprintf(f, " --set %s=%s", tune, exact(value, b, sizeof b));
     for (int j = 0; j < np; j++)
         fprintf(f, " --set %s=%s", d->params[params[j]].name, exact(v[j], b, sizeof b));
     if (fclose(f) != 0) {
@@ -55,49 +58,18 @@ static char *reproduce_line(const options *o, const desc *d, const int *params, 
     return buf;
 }
 
-/* Params whose spread (a corner range, or a distribution) a --set pins:
- * they keep the value given and are left out of the combinations or draws. */
-static int pinned(const desc_param *p, int ranges)
-{
-    int spread = ranges ? p->spread.has_range : p->spread.dist != DIST_NONE;
-    return spread && p->override != DESC_NO_OVERRIDE;
-}
-
-static void pinned_text(FILE *f, const desc *d, int ranges)
-{
-    int n = 0;
-    char a[32];
-    for (int k = 0; k < d->nparams; k++) {
-        const desc_param *p = &d->params[k];
-        if (!pinned(p, ranges))
-            continue;
-        fprintf(f, "%s %s = %s", n++ ? "," : ranges ? "  pinned by --set, not combined:"
-                                                   : "  pinned by --set, not drawn:", p->name,
-                si_format(p->value, report_unit_of(p->unit), a, sizeof a));
-    }
-    if (n)
-        fputc('\n', f);
-}
-
-static void pinned_json(FILE *f, const desc *d, int ranges)
-{
-    int n = 0;
-    fputs("\"pinned\": [", f);
-    for (int k = 0; k < d->nparams; k++)
-        if (pinned(&d->params[k], ranges)) {
-            fputs(n++ ? ", " : "", f);
-            json_string(f, d->params[k].name);
-        }
-    fputc(']', f);
-}
-
 static void corners_text(FILE *f, const desc *d, const corner_result *r, design_goal g)
 {
     char gt[160];
-    fprintf(f, "loopwise corners: %s  %d corner%s (every combination of %d range end%s), %s\n",
-            d->path, r->ncorners, r->ncorners == 1 ? "" : "s", r->nparams,
-            r->nparams == 1 ? "" : "s", report_goal_text(g, gt, sizeof gt));
-    pinned_text(f, d, 1);
+    if (r->levels == 2)
+        fprintf(f, "loopwise corners: %s  %d corner%s (every combination of %d range end%s), "
+                "%s\n", d->path, r->ncorners, r->ncorners == 1 ? "" : "s", r->nparams,
+                r->nparams == 1 ? "" : "s", report_goal_text(g, gt, sizeof gt));
+    else
+        fprintf(f, "loopwise corners: %s  %d corners (every combination of %d values of each "
+                "of %d range%s, ends included), %s\n", d->path, r->ncorners, r->levels,
+                r->nparams, r->nparams == 1 ? "" : "s", report_goal_text(g, gt, sizeof gt));
+    report_pinned_text(f, d, 1);
     fprintf(f, "\n  %-4s", "#");
     for (int j = 0; j < r->nparams; j++)
         fprintf(f, " %-11s", d->params[r->params[j]].name);
@@ -121,21 +93,46 @@ static void corners_text(FILE *f, const desc *d, const corner_result *r, design_
     }
 }
 
+/* The worst corner lies between the range ends and is worse than every
+ * corner of ends alone: a dip that corners at the ends cannot show. */
+static void interior_text(FILE *f, const desc *d, const corner_result *r, design_goal g)
+{
+    int w = r->order[0], e = -1;
+    char a[32];
+    for (int k = 0; k < r->ncorners && e < 0; k++)
+        if (!r->interior[r->order[k]])
+            e = r->order[k];
+    fprintf(f, "The worst point lies between the range ends (");
+    for (int j = 0, n = 0; j < r->nparams; j++) {
+        const desc_param *q = &d->params[r->params[j]];
+        double v = r->values[w * r->nparams + j];
+        if (v == q->spread.lo_v || v == q->spread.hi_v)
+            continue;
+        fprintf(f, "%s%s = %s", n++ ? ", " : "", q->name,
+                si_format(v, report_unit_of(q->unit), a, sizeof a));
+    }
+    fprintf(f, "): it is worse than every corner of range ends alone");
+    if (e >= 0 && !isnan(r->pts[e].pm_deg))
+        fprintf(f, ", the worst of which (#%d) has %.2f\xC2\xB0", e + 1, r->pts[e].pm_deg);
+    fprintf(f, ".\n");
+    (void)g;
+}
+
 int cmd_corners(const options *o, desc *d, int *code, lw_error *err)
 {
     check_opts co = { .fmin_hz = o->fmin, .fmax_hz = o->fmax, .want_owner = 1 };
     design_goal g = option_goal(o);
     corner_result r;
-    int rc = corners_run(d, &co, g, &r, err);
+    int rc = corners_run(d, &co, g, o->levels ? o->levels : 2, &r, err);
     if (rc)
         return rc;
     int w = r.order[0];
-    char *again = reproduce_line(o, d, r.params, r.nparams, r.values + w * r.nparams);
+    char *again = cli_reproduce(o, d, NULL, 0, r.params, r.nparams, r.values + w * r.nparams);
     if (!again) {
         corner_result_free(&r);
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
-    int met = 1, failed = 0;
+    int met = 1, failed = 0, wi = corners_worst_interior(&r, g);
     for (int c = 0; c < r.ncorners; c++) {
         met &= design_meets(&r.pts[c], g);
         failed |= design_fails(&r.pts[c], g);
@@ -155,8 +152,14 @@ int cmd_corners(const options *o, desc *d, int *code, lw_error *err)
             report_point_fields(stdout, &r.pts[c]);
             fputc('}', stdout);
         }
-        fprintf(stdout, "],\n \"worst\": %d, \"met\": %s, ", w + 1, met ? "true" : "false");
-        pinned_json(stdout, d, 1);
+        fprintf(stdout, "],\n \"levels\": %d, \"worst\": %d, \"worst_interior\": ", r.levels,
+                w + 1);
+        if (wi >= 0)
+            fprintf(stdout, "%d", wi + 1);
+        else
+            fputs("null", stdout);
+        fprintf(stdout, ", \"met\": %s, ", met ? "true" : "false");
+        report_pinned_json(stdout, d, 1);
         fputs(", \"reproduce\": ", stdout);
         json_string(stdout, again);
         fputs("}\n", stdout);
@@ -177,6 +180,8 @@ int cmd_corners(const options *o, desc *d, int *code, lw_error *err)
         if (!isnan(p->p2_hz))
             printf(" and %s", si_format(p->p2_hz, "Hz", a, sizeof a));
         printf("%s\n  reproduce it: %s\n", p->stable ? "" : ", UNSTABLE", again);
+        if (wi >= 0)
+            interior_text(stdout, d, &r, g);
         if (met)
             printf("Verdict: every corner is stable and meets the %s.\n", design_goal_word(g));
         else if (failed)
@@ -248,7 +253,7 @@ static void mc_text(FILE *f, const options *o, const desc *d, const mc_result *r
                     si_format(p->spread.a_v, u, a, sizeof a), si_format(p->spread.b_v, u, b, sizeof b));
     }
     fputc('\n', f);
-    pinned_text(f, d, 0);
+    report_pinned_text(f, d, 0);
     fprintf(f, "\n  %-15s %-9s %-9s %-9s %-9s %-9s %-9s %-9s %-9s %-9s\n", "", "mean", "sigma",
             "min", "1%", "5%", "median", "95%", "99%", "max");
     stats_row(f, "phase margin \xC2\xB0", &r->pm, 0);
@@ -307,7 +312,7 @@ int cmd_montecarlo(const options *o, const desc *d, const text_file *t,
     if (rc)
         return rc;
     char *again = NULL;
-    if (r.worst >= 0 && !(again = reproduce_line(o, d, r.params, r.nparams,
+    if (r.worst >= 0 && !(again = cli_reproduce(o, d, NULL, 0, r.params, r.nparams,
                                                  r.values + (size_t)r.worst * (size_t)r.nparams))) {
         mc_result_free(&r);
         return lw_error_set(err, LW_ENOMEM, "out of memory");
@@ -328,7 +333,7 @@ int cmd_montecarlo(const options *o, const desc *d, const text_file *t,
         fputs(", \"yield_target\": ", stdout);
         json_number(stdout, o->yield_given ? o->yield : NAN);
         printf(", \"yield_met\": %s, ", !o->yield_given ? "null" : yield_met ? "true" : "false");
-        pinned_json(stdout, d, 0);
+        report_pinned_json(stdout, d, 0);
         json_stats(stdout, "phase_margin_deg", &r.pm);
         json_stats(stdout, "gain_margin_db", &r.gm);
         json_stats(stdout, "crossover_hz", &r.fc);

@@ -104,6 +104,27 @@ int design_eval(desc *d, desc_target t, double value, const check_opts *o, desig
     return LW_OK;
 }
 
+int design_eval2(desc *d, desc_target ta, double a, desc_target tb, double b,
+                 const check_opts *o, design_point *pt, lw_error *err)
+{
+    desc_saved sa = desc_target_save(d, ta), sb = desc_target_save(d, tb);
+    desc_target_set(d, ta, a, err);
+    desc_target_set(d, tb, b, err);
+    model *m = NULL;
+    check_result r;
+    int rc = desc_eval(d, err);
+    if (!rc)
+        rc = model_new(d, &m, err);
+    if (!rc && !(rc = check_run(d, m, o, &r, err))) {
+        design_point_from(&r, a, pt);
+        check_result_free(&r);
+    }
+    model_free(m);
+    desc_target_restore(d, tb, sb);
+    desc_target_restore(d, ta, sa);
+    return rc;
+}
+
 /* ---- root refinement between two grid points --------------------------- */
 
 typedef struct refine_ctx {

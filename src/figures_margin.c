@@ -13,13 +13,12 @@
 
 #define TWO_PI 6.283185307179586
 
-/* The x axis label: "rser (ohm)"; gnuplot gets no user text unquoted. */
-static void axis_label(FILE *s, const char *what, const char *unit)
+void figure_axis_label(FILE *s, const char *axis, const char *what, const char *unit)
 {
     char xl[160];
     snprintf(xl, sizeof xl, "%s (%s)", what,
              !*unit ? "value" : !strcmp(unit, "\xCE\xA9") ? "ohm" : unit);
-    fputs("set xlabel ", s);
+    fprintf(s, "set %slabel ", axis);
     plot_quote(s, xl);
     fputs(" noenhanced\n", s);
 }
@@ -38,12 +37,13 @@ static const char *tic_text(double v, const char *unit, char *buf, size_t n)
  * (or 1-1.5-2-3-5-7 over about a decade) per decade, every decade over
  * more than three; on a linear one steps of 1, 2 or 5 times a power of ten,
  * five to ten of them. Labels carry SI prefixes and the unit. */
-static void value_tics(FILE *s, double lo, double hi, int lin, const char *unit)
+void figure_value_tics(FILE *s, const char *axis, double lo, double hi, int lin,
+                       const char *unit)
 {
     static const double fine[] = { 1, 1.5, 2, 3, 5, 7 }, mid[] = { 1, 2, 5 }, one[] = { 1 };
     char a[32];
     int n = 0;
-    fputs("set xtics (", s);
+    fprintf(s, "set %stics (", axis);
     if (!lin) {
         double span = log10(hi / lo);
         const double *m = span <= 1.2 ? fine : span <= 3.5 ? mid : one;
@@ -136,9 +136,9 @@ int figure_margin(const figure_opts *fo, const desc *d, const char *what, const 
     if (!lin)
         fputs("set logscale x\n", s);
     if (sw->npts > 1)
-        value_tics(s, x0, x1, lin, unit);
+        figure_value_tics(s, "x", x0, x1, lin, unit);
     fputs("set logscale y2\nset format y2 '%.0s%cHz'\nset ytics nomirror\nset y2tics\n", s);
-    axis_label(s, what, unit);
+    figure_axis_label(s, "x", what, unit);
     fputs("set ylabel 'phase margin (degrees)'\nset y2label 'crossover (Hz)'\n", s);
     if (sw->npts > 1)
         shade_unstable(s, sw, lin);
@@ -221,10 +221,10 @@ int figure_load_outside(const figure_opts *fo, const desc *d, const load_result 
     fprintf(s, "set datafile missing '?'\nset logscale x\nset xrange [%.12g:%.12g]\n"
             "set yrange [%.6g:%.6g]\nset ytics nomirror\n", lo * (1 - 1e-9), hi * (1 + 1e-9),
             10.0 * floor((ylo - pad) / 10.0), 10.0 * ceil((yhi + pad) / 10.0));
-    value_tics(s, lo, hi, 0, "F");
+    figure_value_tics(s, "x", lo, hi, 0, "F");
     char what[DESC_MAX_NAME + 16];
     snprintf(what, sizeof what, "load at %s", node);
-    axis_label(s, what, "F");
+    figure_axis_label(s, "x", what, "F");
     fputs("set ylabel 'phase margin of the loop (degrees)'\n", s);
     if (settles)
         fputs("set logscale y2\nset format y2 '%.0s%cs'\nset y2tics\n"

@@ -123,7 +123,8 @@ static int parse_options(int argc, char **argv, options *o)
         const char *val = k + 1 < argc ? argv[k + 1] : NULL;
         static const char *const with_value[] = { "--set", "--pm", "--fmin", "--fmax", "--csv",
             "--points", "--tune", "--within", "--vary", "--from", "--to", "--node", "--cload",
-            "--density", "--gm", "-o", "--size", "--keep-script", "--samples", "--seed", "--yield" };
+            "--density", "--gm", "-o", "--size", "--keep-script", "--samples", "--seed", "--yield",
+            "--over", "--levels" };
         int takes = 0;
         for (size_t j = 0; j < sizeof with_value / sizeof *with_value; j++)
             takes |= !strcmp(a, with_value[j]);
@@ -157,15 +158,41 @@ static int parse_options(int argc, char **argv, options *o)
                 return 2;
             o->gm_given = 1;
         } else if (!strcmp(a, "--tune")) {
-            o->tune = val;
+            if (o->ntune == MAX_AXES)
+                return usage_error("%s", "size takes at most two --tune: the value that costs "
+                                   "area first, then the one chosen for the largest margin");
+            o->tune[o->ntune++] = val;
         } else if (!strcmp(a, "--within")) {
-            o->within = val;
+            if (o->nwithin == MAX_AXES)
+                return usage_error("%s", "--within given more than twice (one per --tune)");
+            o->within[o->nwithin++] = val;
         } else if (!strcmp(a, "--vary")) {
-            o->vary = val;
-        } else if (!strcmp(a, "--from")) {
-            o->from = val;
-        } else if (!strcmp(a, "--to")) {
-            o->to = val;
+            if (o->nvary == MAX_AXES)
+                return usage_error("%s", "sweep varies at most two values (--vary twice draws "
+                                   "a map)");
+            o->vary[o->nvary++] = val;
+        } else if (!strcmp(a, "--from") || !strcmp(a, "--to")) {
+            /* each --from/--to belongs to the --vary before it */
+            if (o->nvary == 0)
+                return usage_error("%s comes after the --vary it belongs to", a);
+            const char **dst = a[2] == 't' ? &o->to[o->nvary - 1] : &o->from[o->nvary - 1];
+            if (*dst)
+                return usage_error(a[2] == 't' ? "--to given twice for --vary %s"
+                                               : "--from given twice for --vary %s",
+                                   o->vary[o->nvary - 1]);
+            *dst = val;
+        } else if (!strcmp(a, "--over")) {
+            if (strcmp(val, "corners") && strcmp(val, "montecarlo"))
+                return usage_error("--over takes 'corners' or 'montecarlo', got '%s'", val);
+            o->over = val;
+        } else if (!strcmp(a, "--levels")) {
+            double v;
+            if (option_number(a, val, UNIT_NONE, &v))
+                return 2;
+            if (v < 2 || v > MAX_LEVELS || v != floor(v))
+                return usage_error("--levels takes a whole number from 2 to 100 (values of each "
+                                   "range, ends included), got '%s'", val);
+            o->levels = (int)v;
         } else if (!strcmp(a, "--node")) {
             o->node = val;
         } else if (!strcmp(a, "--cload")) {
@@ -256,8 +283,22 @@ static int parse_options(int argc, char **argv, options *o)
                     !strcmp(o->command, "corners")))
         return usage_error("-o draws a picture with gain, roots, polar, sweep, load or "
                            "montecarlo, not '%s'", o->command);
-    if (o->yield_given && strcmp(o->command, "montecarlo"))
-        return usage_error("--yield goes with 'montecarlo', not '%s'", o->command);
+    int size = !strcmp(o->command, "size"), mc_over = size && o->over && o->over[0] == 'm';
+    if (o->yield_given && strcmp(o->command, "montecarlo") && !mc_over)
+        return usage_error("--yield goes with 'montecarlo' or 'size --over montecarlo', not '%s'",
+                           o->command);
+    if (o->over && !size)
+        return usage_error("--over goes with 'size', not '%s'", o->command);
+    if (o->over && o->ntune > 1)
+        return usage_error("%s", "--over sizes one value: give one --tune");
+    if (mc_over && (o->samples < 1 || !o->yield_given))
+        return usage_error("%s", "size --over montecarlo needs --samples N, --seed S and "
+                           "--yield P");
+    if (o->levels && strcmp(o->command, "corners") && !(size && o->over && o->over[0] == 'c'))
+        return usage_error("%s", "--levels goes with 'corners' or 'size --over corners'");
+    if (o->nwithin > o->ntune)
+        return usage_error("%s", "more --within than --tune: the k-th --within is the range "
+                           "of the k-th --tune");
     if (!strcmp(o->command, "montecarlo") && o->samples < 1)
         return usage_error("%s", "montecarlo needs --samples N (1 or more) and --seed S");
     if (o->plot) {
@@ -276,10 +317,17 @@ static int parse_options(int argc, char **argv, options *o)
         return usage_error("%s", "--each goes with 'gain -o'");
     if (o->keep_script && !o->plot)
         return usage_error("%s", "--keep-script goes with -o");
-    if (!strcmp(o->command, "size") && !o->tune)
+    if (!strcmp(o->command, "size") && !o->ntune)
         return usage_error("%s", "size needs --tune NAME (and --pm DEG)");
-    if (!strcmp(o->command, "sweep") && (!o->vary || !o->from || !o->to))
+    if (o->ntune && strcmp(o->command, "size"))
+        return usage_error("--tune goes with 'size', not '%s'", o->command);
+    if (!strcmp(o->command, "sweep") && (!o->nvary || !o->from[0] || !o->to[0]))
         return usage_error("%s", "sweep needs --vary NAME --from A --to B");
+    if (!strcmp(o->command, "sweep") && o->nvary == 2 && (!o->from[1] || !o->to[1]))
+        return usage_error("the second --vary %s needs its own --from and --to after it",
+                           o->vary[1]);
+    if (o->nvary && strcmp(o->command, "sweep"))
+        return usage_error("--vary goes with 'sweep', not '%s'", o->command);
     if (!strcmp(o->command, "load") && (!o->node || !o->cload))
         return usage_error("%s", "load needs --node N --cload LO..HI");
     return 0;
@@ -365,7 +413,7 @@ int main(int argc, char **argv)
     if (!rc && !strcmp(o.command, "check") && d->nnodes <= 64)
         rc = design_node_table(d, &co, &r, &err);
     if (!rc && design) {
-        rc = !strcmp(o.command, "size") ? cmd_size(&o, d, &code, &err)
+        rc = !strcmp(o.command, "size") ? cmd_size(&o, d, t, &code, &err)
              : !strcmp(o.command, "sweep") ? cmd_sweep(&o, d, &code, &err)
              : !strcmp(o.command, "load") ? cmd_load(&o, d, &code, &err)
              : !strcmp(o.command, "corners") ? cmd_corners(&o, d, &code, &err)

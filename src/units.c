@@ -8,10 +8,10 @@
 static const char *const prefixes[] = { "a", "f", "p", "n", "\xC2\xB5", "m", "", "k", "M", "G",
                                         "T", "P", "E" };
 
-/* Prints a mantissa with 3 significant digits, trailing zeros removed. */
-static void mantissa(double m, char *out, size_t size)
+/* Prints a mantissa with `digits` significant digits, trailing zeros removed. */
+static void mantissa(double m, int digits, char *out, size_t size)
 {
-    snprintf(out, size, "%.3g", m);
+    snprintf(out, size, "%.*g", digits, m);
     if (strchr(out, '.') && !strchr(out, 'e')) {
         char *end = out + strlen(out) - 1;
         while (*end == '0')
@@ -21,7 +21,7 @@ static void mantissa(double m, char *out, size_t size)
     }
 }
 
-static char *format(double v, const char *unit, char *buf, size_t size, int plus)
+static char *format(double v, const char *unit, char *buf, size_t size, int plus, int digits)
 {
     const char *sp = *unit ? " " : "";
     if (isnan(v)) {
@@ -38,29 +38,34 @@ static char *format(double v, const char *unit, char *buf, size_t size, int plus
     }
     double a = fabs(v);
     int e3 = (int)floor(log10(a) / 3.0);
-    /* rounding to 3 digits may carry into the next prefix (999.7 -> 1.00 k) */
+    /* rounding may carry into the next prefix (999.7 -> 1.00 k at 3 digits) */
     double m = a / pow(10.0, 3 * e3);
-    if (m >= 999.5) {
+    if (m >= 1000.0 - 0.5 * pow(10.0, 3 - digits)) {
         e3++;
         m /= 1000.0;
     }
     char mb[32];
     const char *sign = v < 0 ? "-" : (plus ? "+" : "");
     if (e3 < -6 || e3 > 6) {
-        snprintf(buf, size, "%s%.3g%s%s", sign, a, sp, unit);
+        snprintf(buf, size, "%s%.*g%s%s", sign, digits, a, sp, unit);
         return buf;
     }
-    mantissa(m, mb, sizeof mb);
+    mantissa(m, digits, mb, sizeof mb);
     snprintf(buf, size, "%s%s%s%s%s", sign, mb, *unit || e3 ? " " : "", prefixes[e3 + 6], unit);
     return buf;
 }
 
 char *si_format(double v, const char *unit, char *buf, size_t size)
 {
-    return format(v, unit, buf, size, 0);
+    return format(v, unit, buf, size, 0, 3);
+}
+
+char *si_format_digits(double v, const char *unit, int digits, char *buf, size_t size)
+{
+    return format(v, unit, buf, size, 0, digits);
 }
 
 char *si_format_signed(double v, const char *unit, char *buf, size_t size)
 {
-    return format(v, unit, buf, size, 1);
+    return format(v, unit, buf, size, 1, 3);
 }

@@ -16,10 +16,8 @@
 #include <omp.h>
 #endif
 
-/* Sets params[j] = vals[j] (overrides), evaluates and analyses; restores the
- * overrides. *valid is 0 when the values are not allowed (the error says why). */
-static int eval_at(desc *d, int np, const int *params, const double *vals, const check_opts *o,
-                   design_point *pt, int *valid, lw_error *err)
+int variation_eval_at(desc *d, int np, const int *params, const double *vals,
+                      const check_opts *o, design_point *pt, int *valid, lw_error *err)
 {
     desc_saved saved[64];
     desc_saved *sv = np <= 64 ? saved : malloc(sizeof *sv * (size_t)np);
@@ -58,6 +56,7 @@ void corner_result_free(corner_result *r)
     free(r->values);
     free(r->pts);
     free(r->order);
+    free(r->interior);
     memset(r, 0, sizeof *r);
 }
 
@@ -75,7 +74,7 @@ static int cmp_ranked(const void *a, const void *b)
     return x->index - y->index;
 }
 
-static int rank_corners(corner_result *r, design_goal g, lw_error *err)
+int corners_rank(corner_result *r, design_goal g, lw_error *err)
 {
     ranked *rk = malloc(sizeof *rk * (size_t)r->ncorners);
     if (!rk)
@@ -101,7 +100,7 @@ static int drawn(const desc_param *p)
     return p->spread.dist != DIST_NONE && p->override == DESC_NO_OVERRIDE;
 }
 
-int corners_run(desc *d, const check_opts *o, design_goal g, corner_result *r, lw_error *err)
+int corners_setup(desc *d, int levels, corner_result *r, lw_error *err)
 {
     memset(r, 0, sizeof *r);
     int np = 0, pinned = 0;
@@ -117,45 +116,68 @@ int corners_run(desc *d, const check_opts *o, design_goal g, corner_result *r, l
         return lw_error_set(err, LW_EINPUT, "no param carries a corner range; add "
                             "'corners LO..HI' to a param line, e.g. 'param temp = 300 corners "
                             "233..398'");
-    if (np > 12)
+    /* levels^np corners, counted without overflow */
+    double count = pow(levels, np);
+    if (count > CORNERS_MAX && levels == 2)
         return lw_error_set(err, LW_EINPUT, "%d params with corner ranges give 2^%d corners, "
                             "more than the limit of %d; keep ranges on the 12 that matter most, "
                             "or use 'montecarlo'", np, np, CORNERS_MAX);
-    int nc = 1 << np;
+    if (count > CORNERS_MAX)
+        return lw_error_set(err, LW_EINPUT, "%d params with corner ranges at %d levels give "
+                            "%.0f corners, more than the limit of %d; use fewer --levels, or "
+                            "'montecarlo'", np, levels, count, CORNERS_MAX);
+    int nc = (int)count;
     r->params = malloc(sizeof(int) * (size_t)np);
     r->values = malloc(sizeof(double) * (size_t)(nc * np));
     r->pts = calloc((size_t)nc, sizeof *r->pts);
     r->order = malloc(sizeof(int) * (size_t)nc);
-    if (!r->params || !r->values || !r->pts || !r->order) {
+    r->interior = calloc((size_t)nc, 1);
+    if (!r->params || !r->values || !r->pts || !r->order || !r->interior) {
         corner_result_free(r);
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
     r->nparams = np;
     r->ncorners = nc;
+    r->levels = levels;
     for (int k = 0, j = 0; k < d->nparams; k++)
         if (combined(&d->params[k]))
             r->params[j++] = k;
-    /* the ends are taken once: evaluating a corner re-evaluates the spreads */
-    double ends[2][12];
-    for (int j = 0; j < np; j++) {
-        ends[0][j] = d->params[r->params[j]].spread.lo_v;
-        ends[1][j] = d->params[r->params[j]].spread.hi_v;
+    /* corner c has digit (c / K^(np-1-j)) mod K for param j (the first param
+     * most significant; with K = 2, the bits of c), and takes the value
+     * lo + (hi - lo) digit/(K - 1), the ends exactly */
+    for (int c = 0; c < nc; c++) {
+        int rest = c;
+        for (int j = np - 1; j >= 0; j--) {
+            const desc_spread *sp = &d->params[r->params[j]].spread;
+            int digit = rest % levels;
+            rest /= levels;
+            double v = digit == 0 ? sp->lo_v : digit == levels - 1
+                           ? sp->hi_v : sp->lo_v + (sp->hi_v - sp->lo_v) * digit / (levels - 1);
+            r->values[c * np + j] = v;
+            r->interior[c] |= digit != 0 && digit != levels - 1;
+        }
+        r->order[c] = c;
     }
+    return LW_OK;
+}
+
+int corners_run(desc *d, const check_opts *o, design_goal g, int levels, corner_result *r,
+                lw_error *err)
+{
+    int rc = corners_setup(d, levels, r, err);
+    if (rc)
+        return rc;
     gsl_error_handler_t *old = gsl_set_error_handler_off();
-    int rc = LW_OK;
-    for (int c = 0; c < nc && !rc; c++) {
-        double *v = r->values + c * np;
-        for (int j = 0; j < np; j++)
-            v[j] = ends[(c >> (np - 1 - j)) & 1][j];
+    for (int c = 0; c < r->ncorners && !rc; c++) {
         int valid;
-        rc = eval_at(d, np, r->params, v, o, &r->pts[c], &valid, err);
+        rc = variation_eval_at(d, r->nparams, r->params, r->values + c * r->nparams, o,
+                               &r->pts[c], &valid, err);
         if (!rc && !valid) {
             char msg[LW_MSG_MAX];
             snprintf(msg, sizeof msg, "%.600s", err->msg);
             rc = lw_error_set(err, LW_EINPUT, "corner %d gives a value that is not allowed: %s",
                               c + 1, msg);
         }
-        r->order[c] = c;
     }
     gsl_set_error_handler(old);
     desc_eval(d, err);
@@ -163,9 +185,21 @@ int corners_run(desc *d, const check_opts *o, design_goal g, corner_result *r, l
         corner_result_free(r);
         return rc;
     }
-    if ((rc = rank_corners(r, g, err)))
+    if ((rc = corners_rank(r, g, err)))
         corner_result_free(r);
     return rc;
+}
+
+int corners_worst_interior(const corner_result *r, design_goal g)
+{
+    int w = r->order[0];
+    if (!r->interior[w])
+        return -1;
+    double dw = design_goal_distance(&r->pts[w], g);
+    for (int c = 0; c < r->ncorners; c++)
+        if (!r->interior[c] && !(design_goal_distance(&r->pts[c], g) > dw))
+            return -1;
+    return w;
 }
 
 /* ---- Monte Carlo -------------------------------------------------------- */
@@ -400,7 +434,7 @@ int montecarlo_run(const text_file *t, const char *path, const char *const *sets
             int valid;
             gsl_rng_set(rng, (unsigned long)mix(seed ^ mix((uint64_t)i)));
             draw(dist, r->nparams, rng, v);
-            if (eval_at(d, r->nparams, r->params, v, o, &r->pts[i], &valid, &e) != LW_OK) {
+            if (variation_eval_at(d, r->nparams, r->params, v, o, &r->pts[i], &valid, &e) != LW_OK) {
                 #pragma omp critical
                 {
                     if (!failed)

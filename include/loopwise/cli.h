@@ -6,7 +6,7 @@
 
 #include "loopwise/design.h"
 
-enum { MAX_SETS = 256, MAX_GAIN_POINTS = 100000 };
+enum { MAX_SETS = 256, MAX_GAIN_POINTS = 100000, MAX_AXES = 2, MAX_LEVELS = 100 };
 
 typedef struct options {
     const char *command, *file, *csv;
@@ -14,7 +14,16 @@ typedef struct options {
     int width, height, each;
     int samples, seed_given;
     unsigned long long seed;
-    const char *tune, *within, *vary, *from, *to, *node, *cload, *density;
+    /* size: --tune twice for two values sized together (the k-th --within is
+     * the k-th --tune's range); sweep: --vary twice for a map, each --from
+     * and --to belonging to the --vary before it */
+    const char *tune[MAX_AXES], *within[MAX_AXES];
+    int ntune, nwithin;
+    const char *vary[MAX_AXES], *from[MAX_AXES], *to[MAX_AXES];
+    int nvary;
+    const char *node, *cload, *density;
+    const char *over;                 /* size --over corners|montecarlo */
+    int levels;                       /* corners --levels K (0: not given) */
     int lin, gm_given;
     double gm;
     const char *sets[MAX_SETS];
@@ -43,8 +52,37 @@ int cmd_corners(const options *o, desc *d, int *code, lw_error *err);
  * point the histogram marks). */
 int cmd_montecarlo(const options *o, const desc *d, const text_file *t,
                    const check_result *nominal, int *code, lw_error *err);
-int cmd_size(const options *o, desc *d, int *code, lw_error *err);
+int cmd_size(const options *o, desc *d, const text_file *t, int *code, lw_error *err);
 int cmd_sweep(const options *o, desc *d, int *code, lw_error *err);
+
+/* cmd_across.c: size over corners or Monte Carlo, two values sized
+ * together, and the two-value map of sweep. */
+int cmd_size_over(const options *o, desc *d, const text_file *t, int *code, lw_error *err);
+int cmd_size_pair(const options *o, desc *d, int *code, lw_error *err);
+int cmd_sweep_map(const options *o, desc *d, int *code, lw_error *err);
+
+/* Shared by the command runners (cmd_design.c): an option's number or
+ * range LO..HI (positive: LO > 0), a --set/--tune/--vary name, the checks
+ * a sweep or sizing runs with, and the picture options. */
+int cli_number(const char *opt, const char *text, expr_unit unit, double *v, lw_error *err);
+int cli_range(const char *opt, const char *text, expr_unit unit, int positive, double *lo,
+              double *hi, lw_error *err);
+int cli_target(const desc *d, const char *opt, const char *name, desc_target *t, lw_error *err);
+/* The range --tune searches: --within, or value/100 .. value*100. */
+int cli_tune_range(const desc *d, desc_target t, const char *name, const char *within,
+                   double *lo, double *hi, lw_error *err);
+/* A sweep axis: --from and --to checked as sweep checks them. */
+int cli_sweep_range(const desc *d, desc_target t, const char *from, const char *to, int lin,
+                    double *lo, double *hi, lw_error *err);
+check_opts cli_design_opts(const options *o);
+/* density -> VALUE '/um2' (capacitance per square micrometre). */
+int cli_density(const char *text, double *v, lw_error *err);
+/* "loopwise check FILE [--fmin F] [--fmax F] --set ... [--set TUNE=VALUE]
+ * --set P=V ...": the command that gives exactly the figures of one corner
+ * or sample (cmd_variation.c); tune may be NULL. A string to free, or NULL
+ * without memory. */
+char *cli_reproduce(const options *o, const desc *d, const char *tune, double value,
+                    const int *params, int np, const double *v);
 int cmd_load(const options *o, desc *d, int *code, lw_error *err);
 
 #endif

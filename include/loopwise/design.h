@@ -57,6 +57,11 @@ int design_eval(desc *d, desc_target t, double value, const check_opts *o, desig
 int design_eval_full(desc *d, desc_target t, double value, const check_opts *o,
                      check_result *r, model **m, lw_error *err);
 
+/* Margins with two targets set at once (desc restored afterwards); the
+ * point's value is a. */
+int design_eval2(desc *d, desc_target ta, double a, desc_target tb, double b,
+                 const check_opts *o, design_point *pt, lw_error *err);
+
 typedef struct design_crossing {
     double value;
     int rises;              /* 1: the margin rises through the target as the value grows */

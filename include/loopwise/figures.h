@@ -10,6 +10,7 @@
 #include "loopwise/design.h"
 #include "loopwise/layout.h"
 #include "loopwise/plot.h"
+#include "loopwise/sweep_map.h"
 #include "loopwise/variation.h"
 
 typedef struct figure_opts {
@@ -29,6 +30,8 @@ typedef struct figure_opts {
 #define FIG_PT_CROSSOVER      7    /* filled circle: |T| = 1 */
 #define FIG_PT_PHASE_CROSSING 13   /* filled diamond: the phase at -180° + 360°·m */
 #define FIG_UNSTABLE_FILL "#f3d9c6" /* shading of what is unstable */
+#define FIG_PT_BOUNDARY 15   /* filled pentagon: a refined point of a map's goal boundary */
+#define FIG_PT_UNSTABLE 3    /* asterisk: an unstable point of a map */
 
 /* each: overlay every declared loop's own gain (needs check_opts.keep_loops). */
 int figure_bode(const figure_opts *fo, const desc *d, const model *m, const check_result *r,
@@ -56,6 +59,13 @@ int figure_histogram(const figure_opts *fo, const desc *d, const mc_result *mc,
                      const check_result *nominal, const char *const *sets, int nsets,
                      design_goal g, double yield_target, lw_error *err);
 
+/* The margin over two values (sweep with --vary twice): a shaded map with
+ * the boundary of the goal drawn through it (figures_map.c); units are the
+ * two values' unit symbols. */
+int figure_map(const figure_opts *fo, const desc *d, const char *const names[2],
+               const char *const units[2], const map_result *r, design_goal g, int lin,
+               lw_error *err);
+
 /* Shared by the picture files: the project's look (palette, grid, line
  * styles 1-4) and a title naming the file. */
 void figure_style(FILE *s);
@@ -76,5 +86,12 @@ void figure_title(FILE *s, const char *what, const desc *d, const char *extra);
 /* The same title centred on the whole picture, for a plot area that leaves
  * room for notes beside it. */
 void figure_title_canvas(FILE *s, const char *what, const desc *d, const char *extra);
+/* figures_margin.c: an axis label "what (unit)" and tick labels a reader
+ * can interpolate between (1-2-5 per decade on a log axis, steps of 1, 2 or
+ * 5 times a power of ten on a linear one), with SI prefixes and the unit;
+ * axis is "x" or "y". */
+void figure_axis_label(FILE *s, const char *axis, const char *what, const char *unit);
+void figure_value_tics(FILE *s, const char *axis, double lo, double hi, int lin,
+                       const char *unit);
 
 #endif

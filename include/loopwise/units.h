@@ -9,5 +9,8 @@
 char *si_format(double v, const char *unit, char *buf, size_t size);
 /* Same with a leading sign always shown. */
 char *si_format_signed(double v, const char *unit, char *buf, size_t size);
+/* The same as si_format with `digits` significant digits (an answer a
+ * search refined beyond three digits). */
+char *si_format_digits(double v, const char *unit, int digits, char *buf, size_t size);
 
 #endif

@@ -19,12 +19,33 @@ typedef struct corner_result {
     int nparams;
     int *params;            /* param indices with a corner range */
     int ncorners;
+    int levels;             /* values per range, ends included (2: the ends alone) */
     double *values;         /* ncorners x nparams */
+    unsigned char *interior; /* 1 when some value of the corner is not a range end */
     design_point *pts;
     int *order;             /* corner indices, worst first */
 } corner_result;
 
-int corners_run(desc *d, const check_opts *o, design_goal g, corner_result *r, lw_error *err);
+/* Every combination of `levels` values of each range (params pinned by --set
+ * left out), evenly spaced on a linear scale with the ends included, at most
+ * CORNERS_MAX: fills params, values and interior, nothing evaluated yet. */
+int corners_setup(desc *d, int levels, corner_result *r, lw_error *err);
+/* corners_setup, every corner analysed, and the order worst first. */
+int corners_run(desc *d, const check_opts *o, design_goal g, int levels, corner_result *r,
+                lw_error *err);
+/* Fills order[] from pts[]: worst first by the distance to the goal
+ * (undefined margins count as worst), ties by index. */
+int corners_rank(corner_result *r, design_goal g, lw_error *err);
+/* The worst corner when it has an interior value and is worse (by its
+ * distance to the goal) than every corner made of range ends alone; -1
+ * otherwise. */
+int corners_worst_interior(const corner_result *r, design_goal g);
+
+/* Sets params[j] = vals[j] (overrides), evaluates and analyses; restores the
+ * overrides. *valid is 0 when the values are not allowed (the error says why;
+ * the status is then LW_OK). */
+int variation_eval_at(desc *d, int np, const int *params, const double *vals,
+                      const check_opts *o, design_point *pt, int *valid, lw_error *err);
 void corner_result_free(corner_result *r);
 
 typedef struct mc_stats {

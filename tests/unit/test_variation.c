@@ -140,7 +140,7 @@ static void corners_two_pole(void **state)
     design_goal g = { 60, NAN, 1 };
     corner_result r;
     lw_error err;
-    assert_int_equal(corners_run(d, &o, g, &r, &err), 0);
+    assert_int_equal(corners_run(d, &o, g, 2, &r, &err), 0);
     assert_int_equal(r.ncorners, 4);
     int w = r.order[0];
     assert_rel(r.values[w * 2 + 0], 10e-12, 1e-12);
