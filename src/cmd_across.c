@@ -33,7 +33,7 @@ int cmd_size_over(const options *o, desc *d, const text_file *tf, int *code, lw_
             return rc;
         const corner_result *cr = &r.corners;
         again = cli_reproduce(o, d, o->tune[0], r.value, cr->params, cr->nparams,
-                              cr->values + cr->order[0] * cr->nparams);
+                              cr->values + r.limiting * cr->nparams);
         if (again)
             report_size_corners(stdout, d, o->tune[0], t, &r, g, again, fmt);
         else
@@ -86,7 +86,7 @@ int cmd_size_pair(const options *o, desc *d, int *code, lw_error *err)
     return LW_OK;
 }
 
-int cmd_sweep_map(const options *o, desc *d, int *code, lw_error *err)
+int cmd_sweep_map(const options *o, desc *d, const text_file *tf, int *code, lw_error *err)
 {
     desc_target t[2];
     double lo[2], hi[2];
@@ -108,7 +108,8 @@ int cmd_sweep_map(const options *o, desc *d, int *code, lw_error *err)
     design_goal g = option_goal(o);
     check_opts co = cli_design_opts(o);
     map_result r;
-    if ((rc = map_run(d, t[0], lo[0], hi[0], t[1], lo[1], hi[1], n, o->lin, g, &co, &r, err)))
+    map_source src = { tf, d->path, o->sets, o->nsets };
+    if ((rc = map_run(&src, t[0], lo[0], hi[0], t[1], lo[1], hi[1], n, o->lin, g, &co, &r, err)))
         return rc;
     if (o->csv) {
         outfile *of;

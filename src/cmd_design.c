@@ -189,10 +189,10 @@ int cli_sweep_range(const desc *d, desc_target t, const char *from, const char *
     return LW_OK;
 }
 
-int cmd_sweep(const options *o, desc *d, int *code, lw_error *err)
+int cmd_sweep(const options *o, desc *d, const text_file *tf, int *code, lw_error *err)
 {
     if (o->nvary == 2)
-        return cmd_sweep_map(o, d, code, err);
+        return cmd_sweep_map(o, d, tf, code, err);
     desc_target t;
     double from, to;
     int rc = cli_target(d, "--vary", o->vary[0], &t, err);

@@ -414,7 +414,7 @@ int main(int argc, char **argv)
         rc = design_node_table(d, &co, &r, &err);
     if (!rc && design) {
         rc = !strcmp(o.command, "size") ? cmd_size(&o, d, t, &code, &err)
-             : !strcmp(o.command, "sweep") ? cmd_sweep(&o, d, &code, &err)
+             : !strcmp(o.command, "sweep") ? cmd_sweep(&o, d, t, &code, &err)
              : !strcmp(o.command, "load") ? cmd_load(&o, d, &code, &err)
              : !strcmp(o.command, "corners") ? cmd_corners(&o, d, &code, &err)
                                              : cmd_montecarlo(&o, d, t, &r, &code, &err);

@@ -106,7 +106,7 @@ void report_size_corners(FILE *f, const desc *d, const char *name, desc_target t
 {
     const char *unit = report_unit_symbol(d, t);
     const corner_result *cr = &r->corners;
-    int w = cr->order[0];
+    int w = r->limiting;
     const design_point *p = &cr->pts[w];
     if (fmt == OUT_JSON) {
         fputs("{\"tune\": ", f);

@@ -240,6 +240,7 @@ int size_corners_run(desc *d, desc_target t, double lo, double hi, int levels, d
     if (!rc)
         all_corners(&x, value, &w, &rc);
     r->value = value;
+    r->limiting = c;
     r->analyses = x.analyses;
     gsl_set_error_handler(old);
     desc_eval(d, err);

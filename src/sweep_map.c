@@ -75,9 +75,46 @@ static int edge_root(edge_ctx *c, double b0, double b1, double *root)
     return LW_OK;
 }
 
-int map_run(desc *d, desc_target ta, double a0, double a1, desc_target tb, double b0,
-            double b1, int n, int lin, design_goal g, const check_opts *o, map_result *r,
-            lw_error *err)
+static int load_copy(const map_source *src, desc **d, lw_error *err)
+{
+    int rc = desc_parse(src->t, src->path, d, err);
+    for (int k = 0; !rc && k < src->nsets; k++)
+        rc = desc_set(*d, src->sets[k], err);
+    if (!rc)
+        rc = desc_eval(*d, err);
+    return rc;
+}
+
+/* Grid line i of A: every point, then the boundary along B on it (into
+ * edge[], at most n - 1, *nedge of them). */
+static int map_row(desc *d, const map_result *r, int i, desc_target ta, desc_target tb, int lin,
+                   design_goal g, const check_opts *o, map_edge *edge, int *nedge, int *analyses,
+                   lw_error *err)
+{
+    int n = r->n, rc = LW_OK;
+    *nedge = 0;
+    for (int j = 0; j < n && !rc; j++) {
+        rc = design_eval2(d, ta, r->va[i], tb, r->vb[j], o, &r->pts[i * n + j], err);
+        (*analyses)++;
+    }
+    edge_ctx c = { d, ta, tb, r->va[i], lin, 0, 0, g, o, err };
+    for (int j = 1; j < n && !rc; j++) {
+        double x = design_goal_distance(&r->pts[i * n + j - 1], g);
+        double y = design_goal_distance(&r->pts[i * n + j], g);
+        if ((x >= 0) == (y >= 0))
+            continue;
+        double root = r->vb[j];
+        if ((rc = edge_root(&c, r->vb[j - 1], r->vb[j], &root)))
+            break;
+        edge[(*nedge)++] = (map_edge){ i, r->va[i], root, y >= 0 };
+    }
+    *analyses += c.analyses;
+    return rc;
+}
+
+int map_run(const map_source *src, desc_target ta, double a0, double a1, desc_target tb,
+            double b0, double b1, int n, int lin, design_goal g, const check_opts *o,
+            map_result *r, lw_error *err)
 {
     memset(r, 0, sizeof *r);
     size_t nn = (size_t)n * (size_t)n;
@@ -86,7 +123,9 @@ int map_run(desc *d, desc_target ta, double a0, double a1, desc_target tb, doubl
     r->vb = malloc(sizeof(double) * (size_t)n);
     r->pts = calloc(nn, sizeof *r->pts);
     r->edge = malloc(sizeof *r->edge * nn);
-    if (!r->va || !r->vb || !r->pts || !r->edge) {
+    int *rowedges = calloc((size_t)n, sizeof(int));
+    if (!r->va || !r->vb || !r->pts || !r->edge || !rowedges) {
+        free(rowedges);
         map_result_free(r);
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
@@ -95,33 +134,62 @@ int map_run(desc *d, desc_target ta, double a0, double a1, desc_target tb, doubl
         r->vb[k] = axis_value(b0, b1, k, n, lin);
     }
     gsl_error_handler_t *old = gsl_set_error_handler_off();
-    int rc = LW_OK;
-    for (int i = 0; i < n && !rc; i++)
-        for (int j = 0; j < n && !rc; j++) {
-            design_point *p = &r->pts[i * n + j];
-            rc = design_eval2(d, ta, r->va[i], tb, r->vb[j], o, p, err);
-            r->analyses++;
-            r->missed |= !rc && !design_meets(p, g);
-            r->failed |= !rc && design_fails(p, g);
-        }
-    edge_ctx c = { d, ta, tb, 0, lin, 0, 0, g, o, err };
-    for (int i = 0; i < n && !rc; i++) {
-        c.a = r->va[i];
-        for (int j = 1; j < n && !rc; j++) {
-            double x = design_goal_distance(&r->pts[i * n + j - 1], g);
-            double y = design_goal_distance(&r->pts[i * n + j], g);
-            if ((x >= 0) == (y >= 0))
+    int failed = 0, analyses = 0, status = LW_OK;
+    lw_error first;
+    lw_error_clear(&first);
+    /* row i's edges go to edge[i * n ...] first, then are packed in row order */
+    #pragma omp parallel reduction(+ : analyses)
+    {
+        desc *d = NULL;
+        lw_error e;
+        lw_error_clear(&e);
+        int mine = load_copy(src, &d, &e) == LW_OK;
+        #pragma omp for schedule(dynamic, 1)
+        for (int i = 0; i < n; i++) {
+            int bad;
+            #pragma omp atomic read
+            bad = failed;
+            if (bad || !mine)
                 continue;
-            double root = r->vb[j];
-            if ((rc = edge_root(&c, r->vb[j - 1], r->vb[j], &root)))
-                break;
-            r->edge[r->nedge++] = (map_edge){ i, r->va[i], root, y >= 0 };
+            int st = map_row(d, r, i, ta, tb, lin, g, o, r->edge + (size_t)i * (size_t)n,
+                             &rowedges[i], &analyses, &e);
+            if (st != LW_OK) {
+                #pragma omp critical
+                {
+                    if (!failed) {
+                        first = e;
+                        status = st;
+                    }
+                    failed = 1;
+                }
+            }
         }
+        if (!mine) {
+            #pragma omp critical
+            {
+                if (!failed) {
+                    first = e;
+                    status = LW_EINPUT;
+                }
+                failed = 1;
+            }
+        }
+        desc_free(d);
     }
-    r->analyses += c.analyses;
     gsl_set_error_handler(old);
-    desc_eval(d, err);
-    if (rc)
+    r->analyses = analyses;
+    for (int i = 0; i < n; i++)
+        for (int k = 0; k < rowedges[i]; k++)
+            r->edge[r->nedge++] = r->edge[(size_t)i * (size_t)n + (size_t)k];
+    free(rowedges);
+    for (size_t k = 0; k < nn && !failed; k++) {
+        r->missed |= !design_meets(&r->pts[k], g);
+        r->failed |= design_fails(&r->pts[k], g);
+    }
+    if (failed) {
+        *err = first;
         map_result_free(r);
-    return rc;
+        return status;
+    }
+    return LW_OK;
 }

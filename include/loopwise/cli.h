@@ -53,13 +53,13 @@ int cmd_corners(const options *o, desc *d, int *code, lw_error *err);
 int cmd_montecarlo(const options *o, const desc *d, const text_file *t,
                    const check_result *nominal, int *code, lw_error *err);
 int cmd_size(const options *o, desc *d, const text_file *t, int *code, lw_error *err);
-int cmd_sweep(const options *o, desc *d, int *code, lw_error *err);
+int cmd_sweep(const options *o, desc *d, const text_file *t, int *code, lw_error *err);
 
 /* cmd_across.c: size over corners or Monte Carlo, two values sized
  * together, and the two-value map of sweep. */
 int cmd_size_over(const options *o, desc *d, const text_file *t, int *code, lw_error *err);
 int cmd_size_pair(const options *o, desc *d, int *code, lw_error *err);
-int cmd_sweep_map(const options *o, desc *d, int *code, lw_error *err);
+int cmd_sweep_map(const options *o, desc *d, const text_file *t, int *code, lw_error *err);
 
 /* Shared by the command runners (cmd_design.c): an option's number or
  * range LO..HI (positive: LO > 0), a --set/--tune/--vary name, the checks

@@ -18,8 +18,9 @@ typedef struct size_corners_result {
     double value;            /* the answer when met; else where the limiting corner came
                                 nearest the goal */
     double lo, hi;           /* the range searched */
-    corner_result corners;   /* every corner analysed at value, worst first: order[0]
-                                is the corner that limits there */
+    corner_result corners;   /* every corner analysed at value, worst first */
+    int limiting;            /* the corner that limits: solved for last (met), or the
+                                one that meets nowhere above where it was taken up */
     double nominal_value;    /* the value the search started from */
     int nominal_worst;       /* the worst corner there */
     int analyses;            /* whole analyses the search ran */

@@ -3,7 +3,7 @@
  * through it.
  *
  * Ownership: map_run fills a map_result whose arrays map_result_free
- * releases (NULL accepted). The desc is unchanged on return. */
+ * releases (NULL accepted). */
 #ifndef LOOPWISE_SWEEP_MAP_H
 #define LOOPWISE_SWEEP_MAP_H
 
@@ -30,13 +30,24 @@ typedef struct map_result {
     int analyses;
 } map_result;
 
+/* Where each thread gets its own copy of the description: the text it was
+ * parsed from and the command line's --set (the map's points are
+ * independent, so they run on every core; the answer does not depend on
+ * the thread count). */
+typedef struct map_source {
+    const text_file *t;
+    const char *path;
+    const char *const *sets;
+    int nsets;
+} map_source;
+
 /* Spacing as sweep's (SPEC 4): log, or linear with lin, on both axes. The
  * boundary is found along B for every grid line of A: between neighbouring
  * columns whose distances to the goal differ in sign, Brent's method on B
  * (ln B when log spaced) to a relative 1e-6. */
-int map_run(desc *d, desc_target ta, double a0, double a1, desc_target tb, double b0,
-            double b1, int n, int lin, design_goal g, const check_opts *o, map_result *r,
-            lw_error *err);
+int map_run(const map_source *src, desc_target ta, double a0, double a1, desc_target tb,
+            double b0, double b1, int n, int lin, design_goal g, const check_opts *o,
+            map_result *r, lw_error *err);
 void map_result_free(map_result *r);
 
 #endif
