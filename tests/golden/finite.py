@@ -34,13 +34,23 @@ PY = "/usr/bin/python3"
 COMMANDS = {
     "check": [[]],
     "gain": [["--points", "40"], ["--points", "40", "--csv", "-"]],
-    "size": [["--tune", "{cap}"], ["--tune", "{res}", "--pm", "45", "--gm", "10"]],
+    "size": [["--tune", "{cap}"], ["--tune", "{res}", "--pm", "45", "--gm", "10"],
+             # issue 18: two values together, over corners, for a yield
+             ["--tune", "{cap}", "--tune", "{res}"],
+             ["--tune", "{cap}", "--over", "corners", "--levels", "3", "--gm", "6"],
+             ["--tune", "{cap}", "--over", "montecarlo", "--samples", "20", "--seed", "2",
+              "--yield", "80%"]],
     "sweep": [["--vary", "{cap}", "--from", "1f", "--to", "1n", "--points", "6"],
-              ["--vary", "{res}", "--from", "1", "--to", "10M", "--points", "6", "--csv", "-"]],
+              ["--vary", "{res}", "--from", "1", "--to", "10M", "--points", "6", "--csv", "-"],
+              # issue 18: the two-value map
+              ["--vary", "{cap}", "--from", "1f", "--to", "1n", "--vary", "{res}", "--from", "1",
+               "--to", "10M", "--points", "4"],
+              ["--vary", "{cap}", "--from", "1f", "--to", "1n", "--vary", "{res}", "--from", "1",
+               "--to", "10M", "--points", "4", "--csv", "-"]],
     "load": [["--node", "{node}", "--cload", "1f..10n", "--points", "6"]],
     "roots": [["-o", "{png}"]],
     "polar": [["-o", "{png}"]],
-    "corners": [["--gm", "6"]],
+    "corners": [["--gm", "6"], ["--levels", "3"]],
     "montecarlo": [["--samples", "40", "--seed", "3", "--yield", "90%"],
                    ["--samples", "1", "--seed", "1", "--gm", "6"]],
 }
@@ -150,8 +160,9 @@ def runs(scratch):
     for path in files(scratch):
         n = names(path)
         for cmd, variants in COMMANDS.items():
-            target = with_spread(path, scratch) if cmd in ("corners", "montecarlo") else path
             for args in variants:
+                spread = cmd in ("corners", "montecarlo") or "--over" in args
+                target = with_spread(path, scratch) if spread else path
                 try:
                     a = [x.format(cap=n["cap"], res=n["res"], node=n["node"],
                                   png=os.path.join(scratch, "p%d.png" % os.getpid()))
