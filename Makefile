@@ -208,7 +208,12 @@ memcheck: all
 	        "sweep $(MC) --vary rser --from 540 --to 54k --points 13" \
 	        "load $(MC) --node vref --cload 1p..1n" "load $(MC) --node brb --cload 0.1p..10p" \
 	        "gain $(MC) --points 50" "corners $(MC)" "montecarlo $(MC) --samples 200 --seed 1" \
-	        "roots $(MC) -o build/memcheck.png" "polar $(MC) -o build/memcheck.png"; do \
+	        "roots $(MC) -o build/memcheck.png" "polar $(MC) -o build/memcheck.png" \
+	        "corners $(MC) --levels 3" "size $(MC) --tune ccomp --over corners" \
+	        "size $(MC) --tune ccomp --over montecarlo --samples 50 --seed 1 --yield 0.8" \
+	        "size tests/golden/nulling.loop --tune cc --tune rz" \
+	        "sweep $(MC) --vary ccomp --from 2p --to 60p --vary rser --from 1k --to 30k --points 5" \
+	        "check tests/ref/nets/10_break_node.loop"; do \
 	    $(VG) ./loopwise $$run >/dev/null 2>&1; rc=$$?; \
 	    if [ $$rc -le 1 ] && [ ! -s build/memcheck.log ]; then echo "  MEMCHECK ok      $$run"; \
 	        pass=$$((pass + 1)); \

@@ -73,5 +73,35 @@ import sys
 t = sorted(float(b) - float(a) for a, b in (l.split() for l in sys.stdin))
 print('  runs: ' + ', '.join('%.2f s' % x for x in t))
 print('  median %.2f s wall, %.1f us of wall time per sample on the two cores (target: under 3 s)' % (t[1], t[1] / 1e5 * 1e6))"
+# Design across variation (issue 18), timed as the commands run, three runs
+# each, wall and CPU time (a loaded machine stretches the wall time; the
+# start of the process alone is some 10 ms): a 50 x 50 map of the ten-node
+# loop (2,500 analyses and the refined boundary, rows on both cores), and
+# size --over corners with 16 corners.
+timed3() {
+    $PY - "$@" <<'PYEOF'
+import resource, subprocess, sys, time
+target, argv = sys.argv[1], sys.argv[2:]
+runs = []
+for _ in range(3):
+    before = resource.getrusage(resource.RUSAGE_CHILDREN)
+    t0 = time.monotonic()
+    subprocess.run(argv, stdout=subprocess.DEVNULL)
+    wall = time.monotonic() - t0
+    after = resource.getrusage(resource.RUSAGE_CHILDREN)
+    cpu = (after.ru_utime - before.ru_utime) + (after.ru_stime - before.ru_stime)
+    runs.append((wall, cpu))
+runs.sort()
+print("  runs: " + ", ".join("%.3f s (CPU %.3f s)" % r for r in runs))
+print("  median %.3f s wall, CPU %.3f s (target: under %s)" % (runs[1] + (target,)))
+PYEOF
+}
+echo
+echo "Map: sweep bench/mc10.loop over cc x gmp, 50 x 50 points, $(nproc) cores, three runs:"
+timed3 "1 s" ./loopwise sweep bench/mc10.loop --vary cc --from 0.1p --to 10p --vary gmp \
+    --from 2m --to 200m --points 50 --json
+echo "Size over corners: bench/corners16.loop, tune cc over 16 corners for 45 degrees, three runs:"
+timed3 "100 ms" ./loopwise size bench/corners16.loop --tune cc --within 0.1p..20p \
+    --over corners --pm 45
 echo "load average before: $load_before, after: $(cut -d' ' -f1-3 /proc/loadavg);" \
      "whole run $(( $(date +%s) - start )) s"
