@@ -111,7 +111,9 @@ check: all
 
 # The main job on the reference core: its report, the compensation for 60
 # degrees, the series resistor over two decades, and the output tap's load;
-# the pictures of its loop gain, roots, polar plot, sweep, load and spread.
+# the corners, the compensation for 60 degrees at every corner, and the map
+# of compensation against series resistor; the pictures of its loop gain,
+# roots, polar plot, sweep, load, map and spread.
 demo: all
 	./loopwise check cases/refcore.loop; test $$? -le 1
 	./loopwise size cases/refcore.loop --tune ccomp --pm 60 --density 2fF/um2
@@ -123,6 +125,8 @@ demo: all
 	./loopwise sweep cases/refcore.loop --vary rser --from 540 --to 54k -o plots/refcore-sweep-rser.png >/dev/null; test $$? -le 1
 	./loopwise load cases/refcore.loop --node brb --cload 0.1p..10p -o plots/refcore-load-brb.png >/dev/null; test $$? -le 1
 	./loopwise corners cases/refcore.loop; test $$? -le 1
+	./loopwise size cases/refcore.loop --tune ccomp --over corners
+	./loopwise sweep cases/refcore.loop --vary ccomp --from 4p --to 64p --vary rser --from 1k --to 16k --points 40 -o plots/refcore-map.png >/dev/null; test $$? -le 1
 	./loopwise montecarlo cases/refcore.loop --samples 20000 --seed 1 -o plots/refcore-montecarlo.png
 	@echo "plots written to plots/"
 

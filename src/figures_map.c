@@ -125,10 +125,10 @@ int figure_map(const figure_opts *fo, const desc *d, const char *const names[2],
             design_goal_word(g));
     /* unstable points: a light star on a dark one, seen on any shade */
     if (unstable)
-        fprintf(s, ", '%s' using 1:2:3 with points pt %d ps 1.6 lw 3 lc rgb '%s' title "
-                "'unstable', '' using 1:2:3 with points pt %d ps 1.3 lw 1 lc rgb '#ffffff' "
-                "notitle", plot_path(job, "unstable.dat"), FIG_PT_UNSTABLE, PLOT_INK,
-                FIG_PT_UNSTABLE);
+        fprintf(s, ", '%s' using 1:2:3 with points pt %d ps %.2f lw 3 lc rgb '%s' title "
+                "'unstable', '' using 1:2:3 with points pt %d ps %.2f lw 1 lc rgb '#ffffff' "
+                "notitle", plot_path(job, "unstable.dat"), FIG_PT_UNSTABLE, fmin(1.6, 32.0 / n),
+                PLOT_INK, FIG_PT_UNSTABLE, 0.8 * fmin(1.6, 32.0 / n));
     if (undefined)
         fputs(", 1/0 with points pt 4 ps 0 lc rgb '#ffffff' title 'blank: no crossover'", s);
     fputs("\n", s);

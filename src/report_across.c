@@ -318,8 +318,8 @@ void report_size_pair(FILE *f, const desc *d, const char *const names[2],
             si_format(r->bhi, ub, e, sizeof e), SIZE_PAIR_GRID_B, r->analyses);
     if (r->met)
         fprintf(f, "  answer          %s = %s, %s = %s (%s chosen for the largest margin at "
-                "this %s)\n", names[0], si_format(r->a, ua, a, sizeof a), names[1],
-                si_format(r->b, ub, b, sizeof b), names[1], names[0]);
+                "this %s)\n", names[0], si_format_digits(r->a, ua, 5, a, sizeof a), names[1],
+                si_format_digits(r->b, ub, 4, b, sizeof b), names[1], names[0]);
     else
         fprintf(f, "  TARGET NOT REACHABLE in the ranges: the best is %s = %s, %s = %s\n",
                 names[0], si_format(r->a, ua, a, sizeof a), names[1],
