@@ -14,13 +14,44 @@ static int same_target(desc_target a, desc_target b)
     return a.kind == b.kind && a.index == b.index;
 }
 
+/* When the value sized is a param whose own spread is the only one left
+ * (the others pinned by --set, or none), there is nothing to vary: say so
+ * rather than blame --set. */
+static int only_tuned_spread(const desc *d, desc_target t, int ranges, const char *name,
+                             lw_error *err)
+{
+    if (t.kind != TARGET_PARAM)
+        return LW_OK;
+    int others = 0, mine = 0;
+    for (int k = 0; k < d->nparams; k++) {
+        const desc_param *p = &d->params[k];
+        int spread = ranges ? p->spread.has_range : p->spread.dist != DIST_NONE;
+        if (k == t.index)
+            mine = spread;
+        else
+            others += spread && p->override == DESC_NO_OVERRIDE;
+    }
+    if (mine && !others)
+        return lw_error_set(err, LW_EINPUT, "--tune %s: it is the only param with %s left, and "
+                            "the value sized is not %s; give another param %s, or size it "
+                            "without --over", name, ranges ? "a corner range" : "a distribution",
+                            ranges ? "combined" : "drawn",
+                            ranges ? "a corner range" : "a distribution");
+    return LW_OK;
+}
+
 int cmd_size_over(const options *o, desc *d, const text_file *tf, int *code, lw_error *err)
 {
     desc_target t;
     double lo, hi;
+    double dens = NAN;
     int rc = cli_target(d, "--tune", o->tune[0], &t, err);
     if (!rc)
         rc = cli_tune_range(d, t, o->tune[0], o->within[0], &lo, &hi, err);
+    if (!rc && o->density)
+        rc = cli_density(o->density, &dens, err);
+    if (!rc)
+        rc = only_tuned_spread(d, t, !strcmp(o->over, "corners"), o->tune[0], err);
     if (rc)
         return rc;
     design_goal g = option_goal(o);
@@ -35,7 +66,7 @@ int cmd_size_over(const options *o, desc *d, const text_file *tf, int *code, lw_
         again = cli_reproduce(o, d, o->tune[0], r.value, cr->params, cr->nparams,
                               cr->values + r.limiting * cr->nparams);
         if (again)
-            report_size_corners(stdout, d, o->tune[0], t, &r, g, again, fmt);
+            report_size_corners(stdout, d, o->tune[0], t, &r, g, again, dens, fmt);
         else
             rc = lw_error_set(err, LW_ENOMEM, "out of memory");
         *code = r.met ? 0 : 1;
@@ -53,7 +84,7 @@ int cmd_size_over(const options *o, desc *d, const text_file *tf, int *code, lw_
                                     m->values + (size_t)r.limiting * (size_t)m->nparams)))
             rc = lw_error_set(err, LW_ENOMEM, "out of memory");
         if (!rc)
-            report_size_mc(stdout, d, o->tune[0], t, &r, g, o->yield, seed, again, fmt);
+            report_size_mc(stdout, d, o->tune[0], t, &r, g, o->yield, seed, again, dens, fmt);
         *code = r.met ? 0 : 1;
         size_mc_free(&r);
     }
@@ -64,13 +95,15 @@ int cmd_size_over(const options *o, desc *d, const text_file *tf, int *code, lw_
 int cmd_size_pair(const options *o, desc *d, int *code, lw_error *err)
 {
     desc_target t[2];
-    double lo[2], hi[2];
+    double lo[2], hi[2], dens = NAN;
     int rc = LW_OK;
     for (int k = 0; k < 2 && !rc; k++) {
         rc = cli_target(d, "--tune", o->tune[k], &t[k], err);
         if (!rc)
             rc = cli_tune_range(d, t[k], o->tune[k], o->within[k], &lo[k], &hi[k], err);
     }
+    if (!rc && o->density)
+        rc = cli_density(o->density, &dens, err);
     if (rc)
         return rc;
     if (same_target(t[0], t[1]))
@@ -81,7 +114,7 @@ int cmd_size_pair(const options *o, desc *d, int *code, lw_error *err)
     size_pair_result r;
     if ((rc = size_pair_run(d, t[0], lo[0], hi[0], t[1], lo[1], hi[1], g, &co, &r, err)))
         return rc;
-    report_size_pair(stdout, d, o->tune, t, &r, g, o->json ? OUT_JSON : OUT_TEXT);
+    report_size_pair(stdout, d, o->tune, t, &r, g, dens, o->json ? OUT_JSON : OUT_TEXT);
     *code = r.met ? 0 : 1;
     return LW_OK;
 }

@@ -84,6 +84,21 @@ static void values_json(FILE *f, const desc *d, const int *params, int np, const
     fputc('}', f);
 }
 
+/* The area of a capacitor value at a density (F per square micrometre), for
+ * a value shown in farads; NAN otherwise. */
+static double area_um2(const desc *d, desc_target t, double value, double density)
+{
+    return desc_target_shown_unit(d, t) == UNIT_F && density > 0 ? value / density : NAN;
+}
+
+static void area_line(FILE *f, double um2, double density)
+{
+    char c[32];
+    if (!isnan(um2))
+        fprintf(f, "  area            %.4g \xC2\xB5m\xC2\xB2 (about %.3g \xC2\xB5m square) at "
+                "%s/\xC2\xB5m\xC2\xB2\n", um2, sqrt(um2), si_format(density, "F", c, sizeof c));
+}
+
 static void pm_cell(char *buf, size_t n, const design_point *p)
 {
     snprintf(buf, n, isnan(p->pm_deg) ? "none" : "%.2f\xC2\xB0", p->pm_deg);
@@ -102,8 +117,9 @@ static void tuned_spread(FILE *f, const desc *d, desc_target t, const char *name
 
 void report_size_corners(FILE *f, const desc *d, const char *name, desc_target t,
                          const size_corners_result *r, design_goal g, const char *again,
-                         out_format fmt)
+                         double density, out_format fmt)
 {
+    double um2 = area_um2(d, t, r->value, density);
     const char *unit = report_unit_symbol(d, t);
     const corner_result *cr = &r->corners;
     int w = r->limiting;
@@ -117,8 +133,10 @@ void report_size_corners(FILE *f, const desc *d, const char *name, desc_target t
         report_point_fields(f, p);
         fprintf(f, ", \"met\": %s,\n \"limiting_corner\": ", r->met ? "true" : "false");
         values_json(f, d, cr->params, cr->nparams, cr->values + w * cr->nparams);
-        fprintf(f, ", \"limiting_index\": %d, \"analyses\": %d,\n \"corners\": [", w + 1,
+        fprintf(f, ", \"limiting_index\": %d, \"analyses\": %d, \"area_um2\": ", w + 1,
                 r->analyses);
+        json_number(f, um2);
+        fputs(",\n \"corners\": [", f);
         for (int k = 0; k < cr->ncorners; k++) {
             int c = cr->order[k];
             fprintf(f, "%s\n  {\"index\": %d, \"values\": ", k ? "," : "", c + 1);
@@ -152,6 +170,7 @@ void report_size_corners(FILE *f, const desc *d, const char *name, desc_target t
     values_text(f, d, cr->params, cr->nparams, cr->values + w * cr->nparams);
     fputc('\n', f);
     margins_lines(f, p, " (at that corner)");
+    area_line(f, um2, density);
     fprintf(f, "  search          at the file's value %s = %s the worst corner is #%d; the "
             "corner solved for changed %d time%s\n", name,
             si_format(r->nominal_value, unit, a, sizeof a), r->nominal_worst + 1, r->switches,
@@ -192,8 +211,9 @@ void report_size_corners(FILE *f, const desc *d, const char *name, desc_target t
 
 void report_size_mc(FILE *f, const desc *d, const char *name, desc_target t,
                     const size_mc_result *r, design_goal g, double yield, uint64_t seed,
-                    const char *again, out_format fmt)
+                    const char *again, double density, out_format fmt)
 {
+    double um2 = area_um2(d, t, r->value, density);
     const char *unit = report_unit_symbol(d, t);
     const mc_result *m = &r->mc;
     int lim = r->limiting;
@@ -211,7 +231,9 @@ void report_size_mc(FILE *f, const desc *d, const char *name, desc_target t,
         json_number(f, m->lower95);
         fputs(", \"value_below\": ", f);
         json_number(f, r->below);
-        fprintf(f, ", \"runs\": %d,\n \"limiting_corner\": ", r->runs);
+        fprintf(f, ", \"runs\": %d, \"area_um2\": ", r->runs);
+        json_number(f, um2);
+        fputs(",\n \"limiting_corner\": ", f);
         if (lim >= 0) {
             values_json(f, d, m->params, m->nparams, m->values + (size_t)lim * (size_t)m->nparams);
             fprintf(f, ", \"limiting_sample\": %d, ", lim + 1);
@@ -243,6 +265,7 @@ void report_size_mc(FILE *f, const desc *d, const char *name, desc_target t,
     fprintf(f, "  yield there     %d of %d samples pass: %.3f%%; one-sided 95%% lower bound "
             "%.3f%% (the target takes %d passes)\n", m->passes, m->nsamples, 100 * m->yield,
             100 * m->lower95, r->need);
+    area_line(f, um2, density);
     if (!isnan(r->below))
         fprintf(f, "  just below      %s = %s has fewer than %d passes\n", name,
                 si_format_digits(r->below, unit, 5, a, sizeof a), r->need);
@@ -273,8 +296,9 @@ static void range_text(char *buf, size_t n, double lo, double hi, const char *un
 
 void report_size_pair(FILE *f, const desc *d, const char *const names[2],
                       const desc_target t[2], const size_pair_result *r, design_goal g,
-                      out_format fmt)
+                      double density, out_format fmt)
 {
+    double um2 = area_um2(d, t[0], r->a, density);
     const char *ua = report_unit_symbol(d, t[0]), *ub = report_unit_symbol(d, t[1]);
     if (fmt == OUT_JSON) {
         fputs("{\"tune\": [", f);
@@ -305,7 +329,9 @@ void report_size_pair(FILE *f, const desc *d, const char *const names[2],
             json_number(f, r->more_hi);
             fputc(']', f);
         }
-        fprintf(f, ", \"analyses\": %d}\n", r->analyses);
+        fprintf(f, ", \"analyses\": %d, \"area_um2\": ", r->analyses);
+        json_number(f, um2);
+        fputs("}\n", f);
         return;
     }
     char a[32], b[32], c[32], e[32], gt[160], rb[96];
@@ -325,6 +351,7 @@ void report_size_pair(FILE *f, const desc *d, const char *const names[2],
                 names[0], si_format(r->a, ua, a, sizeof a), names[1],
                 si_format(r->b, ub, b, sizeof b));
     margins_lines(f, &r->at, "");
+    area_line(f, um2, density);
     range_text(rb, sizeof rb, r->flat_lo, r->flat_hi, ub);
     fprintf(f, "  flatness        at %s = %s the margin stays within %g\xC2\xB0 of its best "
             "for %s from %s\n", names[0], si_format(r->a, ua, a, sizeof a), SIZE_PAIR_FLAT_DEG,

@@ -16,18 +16,20 @@
 void report_pinned_text(FILE *f, const desc *d, int ranges);
 void report_pinned_json(FILE *f, const desc *d, int ranges);
 
-/* again: the reproduce line of the limiting corner at the answer. */
+/* again: the reproduce line of the limiting corner at the answer; density:
+ * capacitance per square micrometre (--density) for the area of a
+ * capacitor, or NAN. */
 void report_size_corners(FILE *f, const desc *d, const char *name, desc_target t,
                          const size_corners_result *r, design_goal g, const char *again,
-                         out_format fmt);
+                         double density, out_format fmt);
 /* yield: the target as a fraction; again: the limiting sample's reproduce
  * line (NULL when no sample changed). */
 void report_size_mc(FILE *f, const desc *d, const char *name, desc_target t,
                     const size_mc_result *r, design_goal g, double yield, uint64_t seed,
-                    const char *again, out_format fmt);
+                    const char *again, double density, out_format fmt);
 void report_size_pair(FILE *f, const desc *d, const char *const names[2],
                       const desc_target t[2], const size_pair_result *r, design_goal g,
-                      out_format fmt);
+                      double density, out_format fmt);
 void report_map(FILE *f, const desc *d, const char *const names[2], const desc_target t[2],
                 const map_result *r, design_goal g, out_format fmt);
 

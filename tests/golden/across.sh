@@ -56,6 +56,12 @@ refuse "no param carries a corner range; add 'corners LO..HI' to a param line" \
 refuse "8 params with corner ranges at 3 levels give 6561 corners, more than the limit of 4096; use fewer --levels, or 'montecarlo'" \
     corners "$tmp/eight.loop" --levels 3
 refuse "unknown param or element 'ccomq' (did you mean 'ccomp'?)" size $R --tune ccomq --over corners
+printf 'param cd = 10p corners -10%%..+10%% normal 5%%\nnode a r=100k c=1p\nnode b r=10k c=1p\ngm g1 a -> b 1m\ngm g2 b -> a -10m\ncap cdom a gnd cd\nloop l negative a b\n' >"$tmp/only.loop"
+refuse "--tune cd: it is the only param with a corner range left, and the value sized is not combined; give another param a corner range, or size it without --over" \
+    size "$tmp/only.loop" --tune cd --over corners
+refuse "--tune cd: it is the only param with a distribution left, and the value sized is not drawn; give another param a distribution, or size it without --over" \
+    size "$tmp/only.loop" --tune cd --over montecarlo --samples 50 --seed 1 --yield 0.5
+refuse "--density '2fF': expected capacitance per area, e.g. 2fF/um2" size $R --tune ccomp --over corners --density 2fF
 
 # ---- size --over corners ------------------------------------------------------
 "$LW" size $R --tune ccomp --over corners --json >"$tmp/sc.json" 2>"$tmp/e"
@@ -75,6 +81,7 @@ assert abs(d["phase_margin_deg"] - 60) < 1e-5
 out = subprocess.run([sys.argv[1]] + shlex.split(d["reproduce"])[1:] + ["--json"],
                      capture_output=True, text=True)
 assert abs(json.loads(out.stdout)["phase_margin_deg"] - d["phase_margin_deg"]) < 1e-9
+assert d["area_um2"] is None            # no --density given
 # just below the answer some corner misses: the answer is the smallest
 v = d["value"] * (1 - 1e-4)
 out = subprocess.run([sys.argv[1], "corners", "cases/refcore.loop", "--set", "ccomp=%r" % v,
