@@ -394,7 +394,8 @@ static int polar_script(FILE *s, plot_job *job, const figure_opts *fo, const des
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     figure_style(s);
     char extra[200];
-    snprintf(extra, sizeof extra, "opened at gm %s%s", d->elems[m->gm[m->brk].elem].name,
+    snprintf(extra, sizeof extra, "opened at %s %s%s", m->brk_node >= 0 ? "node" : "gm",
+             m->brk_node >= 0 ? d->nodes[m->brk_node].name : d->elems[m->gm[m->brk].elem].name,
              r->stable ? "" : ", the closed loop is UNSTABLE");
     figure_title_canvas(s, "Polar plot of the loop gain T", d, extra);
     fputs("unset grid\nset size noratio\nset style textbox opaque noborder margins 0.5,0.5\n", s);

@@ -57,6 +57,7 @@ static double match(const double complex *a, const double complex *b, int n, int
 
 typedef struct tracer {
     const model *m;
+    unsigned char *brk;        /* the gms of the break (one, or a node's: SPEC 1) */
     double *G0, *G;
     int n;                  /* roots at every k */
     int count, cap;         /* solves done, room */
@@ -70,9 +71,11 @@ typedef struct tracer {
 static int solve(tracer *t, double k, int *idx, lw_error *err)
 {
     const model *m = t->m;
-    int n = m->n, in = m->gm[m->brk].in, out = m->gm[m->brk].out;
+    int n = m->n;
     memcpy(t->G, t->G0, sizeof(double) * (size_t)n * (size_t)n);
-    t->G[out * n + in] -= k * m->gm[m->brk].g;
+    for (int b = 0; b < m->ngm; b++)
+        if (t->brk[b])
+            t->G[m->gm[b].out * n + m->gm[b].in] -= k * m->gm[b].g;
     double complex *roots;
     int nr, rc = lg_natural_frequencies(n, t->G, m->C, &roots, &nr, err);
     *idx = -1;
@@ -95,7 +98,7 @@ int locus_trace(const model *m, int max_solves, locus *L, lw_error *err)
     int n = m->n, rc = LW_OK;
     if (max_solves < START_STEPS + 9)
         max_solves = START_STEPS + 9;
-    tracer t = { m, NULL, NULL, 0, 0, max_solves, NULL, NULL, 1 };
+    tracer t = { m, NULL, NULL, NULL, 0, 0, max_solves, NULL, NULL, 1 };
     int *ord = NULL, *next = NULL, *perm = NULL;
     double complex *prev = NULL;
     pair *work = NULL;
@@ -107,12 +110,13 @@ int locus_trace(const model *m, int max_solves, locus *L, lw_error *err)
     next = malloc(sizeof(int) * (size_t)max_solves);
     if (!t.G0 || !t.G || !t.k || !ord || !next)
         goto nomem;
-    unsigned char *off = calloc((size_t)m->ngm, 1);
+    unsigned char *off = calloc((size_t)m->ngm + 1, 1);
     if (!off)
         goto nomem;
-    off[m->brk] = 1;
+    int in;
+    model_break_mark(m, off, &in);
     model_fill_g(m, off, t.G0);
-    free(off);
+    t.brk = off;
     /* the first solve sizes the rows */
     {
         double complex *roots;
@@ -191,6 +195,7 @@ nomem:
 done:
     if (rc || !t.same)
         locus_free(L);
+    free(t.brk);
     free(t.G0);
     free(t.G);
     free(t.k);

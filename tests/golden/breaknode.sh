@@ -57,6 +57,15 @@ for k in ("open_loop_zeros", "closed_loop_poles", "open_loop_poles"):
 assert ja["stable"] == jb["stable"]
 PYEOF
 
+# Every picture takes a node break (the roots' paths close every gm of the
+# break together; the titles name the node).
+for cmd in gain roots polar; do
+    rm -f "$tmp/b.svg"
+    "$LW" $cmd "$net" -o "$tmp/b.svg" >/dev/null 2>"$tmp/e"
+    [ $? = 0 ] && grep -q "opened at node ctl\|Roots of the loop" "$tmp/b.svg" && ok ||
+        bad "$cmd -o with break NODE: $(head -n 1 "$tmp/e")"
+done
+
 # Refusals: a node that controls no gm; no common gm and no common node.
 printf 'node a r=1k c=1p\nnode bias r=1k c=1p\ngm g1 a -> bias 1m\ngm g2 bias -> a -1m\nbreak bais\n' >"$tmp/x.loop"
 refuse "unknown gm or node 'bais' (did you mean 'bias'?)" check "$tmp/x.loop"
