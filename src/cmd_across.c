@@ -3,6 +3,7 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "loopwise/cli.h"
 #include "loopwise/figures.h"
@@ -76,7 +77,8 @@ int cmd_size_over(const options *o, desc *d, const text_file *tf, int *code, lw_
         uint64_t seed = o->seed_given ? o->seed : 1;
         size_mc_result r;
         if ((rc = size_mc_run(tf, d->path, o->sets, o->nsets, o->tune[0], lo, hi, o->samples,
-                              seed, o->yield, g, &co, &r, err)))
+                              seed, o->yield, g, &co, isatty(2) && !o->json ? stderr : NULL,
+                              &r, err)))
             return rc;
         const mc_result *m = &r.mc;
         if (r.limiting >= 0 &&

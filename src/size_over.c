@@ -289,6 +289,7 @@ typedef struct mc_ctx {
     uint64_t seed;
     design_goal g;
     const check_opts *o;
+    FILE *progress;
     int runs;
     lw_error *err;
 } mc_ctx;
@@ -300,14 +301,18 @@ static int mc_at(mc_ctx *x, double v, mc_result *out)
     snprintf(set, sizeof set, "%s=%.17g", x->tune, v);
     x->sets[x->nsets] = set;
     x->runs++;
+    if (x->progress) {
+        fprintf(x->progress, "\rsize: Monte Carlo run %d, %s = %.6g ", x->runs, x->tune, v);
+        fflush(x->progress);
+    }
     return montecarlo_run(x->tf, x->path, x->sets, x->nsets + 1, x->nsamples, x->seed, x->g,
                           x->o, NULL, out, x->err);
 }
 
 int size_mc_run(const text_file *tf, const char *path, const char *const *sets, int nsets,
                 const char *tune, double lo, double hi, int nsamples, uint64_t seed,
-                double yield, design_goal g, const check_opts *o, size_mc_result *r,
-                lw_error *err)
+                double yield, design_goal g, const check_opts *o, FILE *progress,
+                size_mc_result *r, lw_error *err)
 {
     memset(r, 0, sizeof *r);
     r->lo = lo;
@@ -328,7 +333,7 @@ int size_mc_run(const text_file *tf, const char *path, const char *const *sets, 
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     for (int k = 0; k < nsets; k++)
         all[k] = sets[k];
-    mc_ctx x = { tf, path, all, nsets, tune, nsamples, seed, g, o, 0, err };
+    mc_ctx x = { tf, path, all, nsets, tune, nsamples, seed, g, o, progress, 0, err };
     mc_result below, at;
     memset(&below, 0, sizeof below);
     memset(&at, 0, sizeof at);
@@ -359,6 +364,8 @@ int size_mc_run(const text_file *tf, const char *path, const char *const *sets, 
         r->value = grid_value(lo, hi, best, SIZE_MC_GRID);
         rc = mc_at(&x, r->value, &r->mc);
         r->runs = x.runs;
+        if (progress)
+            fprintf(progress, "\r%60s\r", "");
         free(all);
         return rc;
     }
@@ -399,6 +406,8 @@ int size_mc_run(const text_file *tf, const char *path, const char *const *sets, 
         }
     }
     r->runs = x.runs;
+    if (progress)
+        fprintf(progress, "\r%60s\r", "");
     mc_result_free(&below);
     mc_result_free(&at);
     free(all);

@@ -62,11 +62,11 @@ int size_mc_passes_needed(int n, double p);
  * function of the value. A log grid of SIZE_MC_GRID points brackets the
  * first value that reaches `need` passes, and bisection on ln v narrows the
  * bracket to a relative 1e-4. tune is the --set name of t; sets the
- * command line's --set. */
+ * command line's --set; progress (may be NULL) gets a line per run. */
 int size_mc_run(const text_file *tf, const char *path, const char *const *sets, int nsets,
                 const char *tune, double lo, double hi, int nsamples, uint64_t seed,
-                double yield, design_goal g, const check_opts *o, size_mc_result *r,
-                lw_error *err);
+                double yield, design_goal g, const check_opts *o, FILE *progress,
+                size_mc_result *r, lw_error *err);
 void size_mc_free(size_mc_result *r);
 
 #endif

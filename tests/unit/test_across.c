@@ -172,7 +172,7 @@ static void size_montecarlo_closed_form(void **state)
     size_mc_result r;
     const int n = 400;
     assert_int_equal(size_mc_run(t, "test.loop", NULL, 0, "cdom", 1e-11, 1e-7, n, 7, 0.9, g,
-                                 &o, &r, &err), 0);
+                                 &o, NULL, &r, &err), 0);
     assert_true(r.met);
     double *need = malloc(sizeof(double) * n);
     for (int i = 0; i < n; i++) {
