@@ -3,6 +3,7 @@
  *
  *   param NAME '=' EXPR
  *   node  NAME ['r=' EXPR] ['c=' EXPR]
+ *   input NAME
  *   res   NAME A B EXPR          cap NAME A B EXPR
  *   gm    NAME IN '->' OUT EXPR
  *   loop  NAME ('negative'|'positive') N1 N2 ... Nk
@@ -26,8 +27,10 @@ const char *desc_elem_kind_name(desc_elem_kind k)
 
 /* ---- one namespace: a small open-addressing hash ----------------------- */
 
-typedef enum { SYM_PARAM, SYM_NODE, SYM_ELEM, SYM_LOOP } sym_kind;
-static const char *const sym_names[] = { "a param", "a node", "an element", "a loop" };
+/* Keep sym_names in step. */
+typedef enum { SYM_PARAM, SYM_NODE, SYM_ELEM, SYM_LOOP, SYM_INPUT } sym_kind;
+static const char *const sym_names[] = { "a param", "a node", "an element", "a loop",
+                                         "an input" };
 
 typedef struct sym {
     char *name;         /* owned copy */
@@ -98,7 +101,7 @@ typedef struct pstate {
     const text_file *t;
     const text_line *ln;       /* line being parsed */
     lw_error *err;
-    int caps[4];               /* allocated lengths of params, nodes, elems, loops */
+    int caps[5];               /* allocated lengths of params, nodes, elems, loops, inputs */
     const text_line *brk_line;
     const char **later_params; /* every param name in the file, for "declared later" */
     int nlater;
@@ -222,12 +225,16 @@ static const char *node_suggest(pstate *ps, const char *name)
     return best;
 }
 
-/* node-ref -> NAME | 'gnd' */
-static int node_ref(pstate *ps, int k, int allow_gnd, int *idx, desc_pos *at)
+/* node-ref -> NAME | 'gnd' | INPUT
+ * An input stands where gnd may (SPEC section 6): *idx is then DESC_GND and
+ * *in the input's index; in is NULL where no input may stand (a loop line). */
+static int node_ref(pstate *ps, int k, int allow_gnd, int *idx, int *in, desc_pos *at)
 {
     const text_token *tk = &ps->ln->tok[k];
     at->line = ps->ln->number;
     at->col = tk->col;
+    if (in)
+        *in = -1;
     if (strstr(tk->s, "->"))
         return at_tok(ps, tk, "'%s': separate '->' from the node names with spaces", tk->s);
     if (!strcmp(tk->s, "gnd")) {
@@ -239,6 +246,14 @@ static int node_ref(pstate *ps, int k, int allow_gnd, int *idx, desc_pos *at)
     const sym *s = sym_find(&ps->syms, tk->s);
     if (s && s->kind == SYM_NODE) {
         *idx = s->index;
+        return LW_OK;
+    }
+    if (s && s->kind == SYM_INPUT) {
+        if (!in)
+            return at_tok(ps, tk, "'%s' is an input (a driven node), and a loop runs through "
+                          "nodes only; expected a declared node", tk->s);
+        *idx = DESC_GND;
+        *in = s->index;
         return LW_OK;
     }
     if (s)
@@ -512,6 +527,7 @@ static desc_elem *new_elem(pstate *ps, desc_elem_kind kind, int *rc)
     memset(e, 0, sizeof *e);
     e->kind = kind;
     e->override = -1;
+    e->a_in = e->b_in = -1;
     const text_token *tk = &ps->ln->tok[1];
     e->at = (desc_pos){ ps->ln->number, tk->col };
     if (strlen(tk->s) <= DESC_MAX_NAME)
@@ -531,14 +547,28 @@ static int parse_passive(pstate *ps, desc_elem_kind kind)
     desc_elem *e = new_elem(ps, kind, &rc);
     if (!e)
         return rc;
-    if ((rc = node_ref(ps, 2, 1, &e->a, &e->a_at)) || (rc = node_ref(ps, 3, 1, &e->b, &e->b_at)))
+    if ((rc = node_ref(ps, 2, 1, &e->a, &e->a_in, &e->a_at)) ||
+        (rc = node_ref(ps, 3, 1, &e->b, &e->b_in, &e->b_at)))
         return rc;
-    if (e->a == e->b)
+    if (e->a == e->b && e->a_in == e->b_in)
         return at_tok(ps, &ps->ln->tok[3], "both ends of '%s' are on '%s'; expected two "
                       "different nodes", e->name, ps->ln->tok[3].s);
-    if (e->a == DESC_GND) { /* keep gnd on the b side */
+    if (e->a == DESC_GND && e->b == DESC_GND) {
+        /* an input with gnd or another input: no node takes the signal */
+        const char *x = ps->ln->tok[e->a_in >= 0 ? 2 : 3].s;
+        const char *y = ps->ln->tok[e->a_in >= 0 ? 3 : 2].s;
+        if (e->a_in >= 0 && e->b_in >= 0)
+            return at_tok(ps, &ps->ln->tok[3], "'%s' joins input '%s' to input '%s'; an "
+                          "element on an input must lead to a node", e->name, x, y);
+        return at_tok(ps, &ps->ln->tok[e->a_in >= 0 ? 3 : 2], "'%s' ties input '%s' to gnd; "
+                      "an input is an ideal source, so this carries nothing into the network: "
+                      "connect it to a node", e->name, x);
+    }
+    if (e->a == DESC_GND) { /* keep gnd (or the input) on the b side */
         e->a = e->b;
         e->b = DESC_GND;
+        e->b_in = e->a_in;
+        e->a_in = -1;
         desc_pos t = e->a_at;
         e->a_at = e->b_at;
         e->b_at = t;
@@ -563,10 +593,15 @@ static int parse_gm(pstate *ps)
     desc_elem *e = new_elem(ps, ELEM_GM, &rc);
     if (!e)
         return rc;
-    if ((rc = node_ref(ps, 2, 1, &e->a, &e->a_at)) || (rc = node_ref(ps, 4, 1, &e->b, &e->b_at)))
+    if ((rc = node_ref(ps, 2, 1, &e->a, &e->a_in, &e->a_at)) ||
+        (rc = node_ref(ps, 4, 1, &e->b, &e->b_in, &e->b_at)))
         return rc;
-    if (e->a == DESC_GND || e->b == DESC_GND)
-        return at_tok(ps, &ln->tok[e->a == DESC_GND ? 2 : 4],
+    if (e->b_in >= 0)
+        return at_tok(ps, &ln->tok[4], "'%s' is an input (an ideal voltage source): a gm "
+                      "cannot drive current into it; expected a node as the gm's OUT",
+                      ln->tok[4].s);
+    if ((e->a == DESC_GND && e->a_in < 0) || e->b == DESC_GND)
+        return at_tok(ps, &ln->tok[e->a == DESC_GND && e->a_in < 0 ? 2 : 4],
                       "a gm between a node and gnd does nothing; expected two declared nodes");
     return compile_rest(ps, 5, UNIT_S, &e->expr, &e->v_at);
 }
@@ -600,7 +635,7 @@ static int parse_loop(pstate *ps)
     if (!L->nodes || !L->node_at)
         return lw_error_set(ps->err, LW_ENOMEM, "out of memory");
     for (int j = 0; j < k; j++) {
-        if ((rc = node_ref(ps, 3 + j, 0, &L->nodes[j], &L->node_at[j])))
+        if ((rc = node_ref(ps, 3 + j, 0, &L->nodes[j], NULL, &L->node_at[j])))
             return rc;
         L->nnodes++;
         for (int i = 0; i < j; i++)
@@ -608,6 +643,30 @@ static int parse_loop(pstate *ps)
                 return at_tok(ps, &ln->tok[3 + j], "node '%s' appears twice in loop '%s'; "
                               "a loop visits each node once", ln->tok[3 + j].s, L->name);
     }
+    return LW_OK;
+}
+
+/* input -> 'input' NAME */
+static int parse_input(pstate *ps)
+{
+    int rc = need_tokens(ps, 2, "'input NAME'");
+    if (rc)
+        return rc;
+    desc *d = ps->d;
+    const text_line *ln = ps->ln;
+    if (ln->ntok > 2)
+        return at_tok(ps, &ln->tok[2], "unexpected '%s'; 'input' takes a name and nothing else "
+                      "(an input is an ideal source: it has no r= or c=)", ln->tok[2].s);
+    if (grow((void **)&d->inputs, &ps->caps[4], d->ninputs, sizeof *d->inputs, DESC_MAX_INPUTS))
+        return too_many(ps, "inputs", DESC_MAX_INPUTS);
+    desc_input *x = &d->inputs[d->ninputs];
+    memset(x, 0, sizeof *x);
+    x->at = (desc_pos){ ln->number, ln->tok[1].col };
+    if (strlen(ln->tok[1].s) <= DESC_MAX_NAME)
+        snprintf(x->name, sizeof x->name, "%s", ln->tok[1].s);
+    if ((rc = declare(ps, &ln->tok[1], ln->tok[1].s, SYM_INPUT, d->ninputs)) != LW_OK)
+        return rc;
+    d->ninputs++;
     return LW_OK;
 }
 
@@ -631,20 +690,22 @@ static int parse_break(pstate *ps)
 
 static int parse_line(pstate *ps)
 {
-    static const char *const kw[] = { "param", "node", "res", "cap", "gm", "loop", "break" };
+    static const char *const kw[] = { "param", "node", "input", "res", "cap", "gm", "loop",
+                                      "break" };
     const char *k = ps->ln->tok[0].s;
     if (!strcmp(k, "param")) return parse_param(ps);
     if (!strcmp(k, "node")) return parse_node(ps);
+    if (!strcmp(k, "input")) return parse_input(ps);
     if (!strcmp(k, "res")) return parse_passive(ps, ELEM_RES);
     if (!strcmp(k, "cap")) return parse_passive(ps, ELEM_CAP);
     if (!strcmp(k, "gm")) return parse_gm(ps);
     if (!strcmp(k, "loop")) return parse_loop(ps);
     if (!strcmp(k, "break")) return parse_break(ps);
-    const char *best = lw_closest(k, kw, 7);
+    const char *best = lw_closest(k, kw, 8);
     if (best)
         return at_tok(ps, &ps->ln->tok[0], "unknown keyword '%s' (did you mean '%s'?)", k, best);
-    return at_tok(ps, &ps->ln->tok[0], "unknown keyword '%s'; expected param, node, res, cap, "
-                  "gm, loop or break", k);
+    return at_tok(ps, &ps->ln->tok[0], "unknown keyword '%s'; expected param, node, input, res, "
+                  "cap, gm, loop or break", k);
 }
 
 /* ---- whole-file checks ------------------------------------------------- */
@@ -721,6 +782,26 @@ static int collect_param_names(pstate *ps)
     return LW_OK;
 }
 
+/* Every input drives something: an input with no element on it is a typo
+ * or a leftover, and a response from it would be identically zero. */
+static int inputs_attached(pstate *ps)
+{
+    const desc *d = ps->d;
+    for (int x = 0; x < d->ninputs; x++) {
+        int used = 0;
+        for (int e = 0; e < d->nelems && !used; e++)
+            used = d->elems[e].a_in == x || d->elems[e].b_in == x;
+        if (!used) {
+            lw_error_at(ps->err, d->inputs[x].at.line, d->inputs[x].at.col, "input '%s' has "
+                        "nothing attached; expected a res, cap or gm connecting it to a node",
+                        d->inputs[x].name);
+            desc_error_source(d, ps->err);
+            return LW_EINPUT;
+        }
+    }
+    return LW_OK;
+}
+
 static int parse_all(pstate *ps)
 {
     const text_file *t = ps->t;
@@ -736,6 +817,8 @@ static int parse_all(pstate *ps)
         return lw_error_at(ps->err, 1, 1, t->nlines == 0
                            ? "empty file; expected node, gm and loop lines"
                            : "no node declared; expected at least one 'node' line");
+    if ((rc = inputs_attached(ps)) != LW_OK)
+        return rc;
     for (int l = 0; l < ps->d->nloops; l++) {
         const text_line *ln = NULL;
         for (int k = 0; k < t->nlines; k++)
@@ -792,6 +875,7 @@ void desc_free(desc *d)
         free(d->lines[k]);
     free(d->lines);
     free(d->loops);
+    free(d->inputs);
     free(d->params);
     free(d->pvals);
     free(d->nodes);
@@ -811,6 +895,14 @@ int desc_find_node(const desc *d, const char *name)
 {
     for (int k = 0; k < d->nnodes; k++)
         if (!strcmp(d->nodes[k].name, name))
+            return k;
+    return -1;
+}
+
+int desc_find_input(const desc *d, const char *name)
+{
+    for (int k = 0; k < d->ninputs; k++)
+        if (!strcmp(d->inputs[k].name, name))
             return k;
     return -1;
 }

@@ -69,11 +69,17 @@ int desc_break_name(desc *d, const char *name, int line, int col, const char *ra
                         desc_elem_kind_name(d->elems[e].kind));
             return at(err, line, col, raw);
         }
+        if (d->elems[e].a_in >= 0) {
+            /* its control is an input, AC ground for the loop (SPEC section 6) */
+            lw_error_at(err, line, col, "'%s' is driven by input '%s'; the break must be a gm "
+                        "between two nodes, or a node", name, d->inputs[d->elems[e].a_in].name);
+            return at(err, line, col, raw);
+        }
         d->brk = e;
         d->brk_node = -1;
     } else {
         const char *what = find_param(d, name) >= 0 ? "a param" : find_loop(d, name) >= 0
-                                                                      ? "a loop" : NULL;
+                           ? "a loop" : desc_find_input(d, name) >= 0 ? "an input" : NULL;
         if (what) {
             lw_error_at(err, line, col, "'%s' is %s; the break must be a gm or a node", name,
                         what);

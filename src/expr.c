@@ -38,7 +38,7 @@ static const struct {
 enum { NFNS = sizeof fns / sizeof fns[0] };
 
 static const char *const reserved[] = {
-    "param", "node", "res", "cap", "gm", "loop", "break", "gnd", "inf", "pi",
+    "param", "node", "input", "res", "cap", "gm", "loop", "break", "gnd", "inf", "pi",
     "sqrt", "exp", "ln", "log10", "abs", "min", "max", "vt", "corners", "normal", "uniform",
 };
 

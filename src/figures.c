@@ -219,3 +219,4 @@ int figure_histogram(const figure_opts *fo, const desc *d, const mc_result *mc,
             plot_path(job, "hist.dat"), PLOT_INK);
     return plot_finish(job, fo->keep_dir, err);
 }
+

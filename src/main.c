@@ -39,6 +39,10 @@ static const char usage_text[] =
     "  roots   -o FILE: the s-plane picture of poles, zeros and closed-loop poles\n"
     "  polar   -o FILE: T(j2\xCF\x80" "f) in the complex plane for f from -inf to +inf, with -1,\n"
     "          the unit circle, the crossings and the Nyquist count\n"
+    "  response --to NODE [--from INPUT | --inject NODE | --inject each] [--step]\n"
+    "          the closed loop's response at NODE to an input or an injected current:\n"
+    "          DC value and rejection, peak, bandwidth, poles and zeros, a table over\n"
+    "          the band, and the exact step response (--step; always in --json)\n"
     "  corners [--levels K] the margin at every combination of the params' corner\n"
     "          ranges: their ends, or K evenly spaced values of each (ends included)\n"
     "  montecarlo --samples N --seed S [--yield P]: margin distributions and yield under\n"
@@ -51,9 +55,9 @@ static const char usage_text[] =
     "                    measures against, never a reason to exit 1\n"
     "  --fmin F, --fmax F  analysis band in Hz (default: from the poles and zeros)\n"
     "  --json            machine-readable output on standard output\n"
-    "  --csv PATH        gain, sweep: also write CSV to PATH (PATH may be -)\n"
-    "  --points N        gain: frequencies (default 121); sweep: values (default 25;\n"
-    "                    a map: on each axis, at most 200)\n"
+    "  --csv PATH        gain, sweep, response: also write CSV to PATH (PATH may be -)\n"
+    "  --points N        gain, response: frequencies (default 121); sweep: values (default\n"
+    "                    25; a map: on each axis, at most 200)\n"
     "  --lin             sweep: linear spacing instead of logarithmic\n"
     "  --within LO..HI   size: the range searched (default: value/100 .. value*100)\n"
     "  --gm DB           target gain margin (every command; a loop whose phase never\n"
@@ -61,9 +65,12 @@ static const char usage_text[] =
     "  --yield P         montecarlo, size --over montecarlo: the one-sided 95% lower\n"
     "                    bound of the yield must reach P (0.99 or 99%)\n"
     "  --density D       size: capacitance per area, e.g. 2fF/um2, to report the area\n"
-    "  -o PATH           gain, roots, polar, sweep, load, montecarlo: draw a picture\n"
+    "  -o PATH           draw a picture: gain, roots, polar, sweep, load, montecarlo,\n"
+    "                    response\n"
     "                    (PATH ends in .png or .svg)\n"
     "  --each            gain -o: overlay each declared loop's own gain\n"
+    "  --step            response: the step response (text and -o; JSON always has it)\n"
+    "  --inject NODE     response: a current into NODE instead of an input; 'each': every node\n"
     "  --size WxH        plot size in pixels (default 960x720)\n"
     "  --keep-script DIR leave the plot's data and gnuplot script in DIR\n"
     "  -h, --help        this help;  --version  the version\n"
@@ -125,6 +132,18 @@ static int check_arguments(int argc, char **argv)
     return 0;
 }
 
+/* NAME -> [A-Za-z_][A-Za-z0-9_]* (and not 'inf' or 'pi', which are numbers) */
+static int plain_name(const char *s)
+{
+    if (!((*s >= 'A' && *s <= 'Z') || (*s >= 'a' && *s <= 'z') || *s == '_'))
+        return 0;
+    for (const char *p = s + 1; *p; p++)
+        if (!((*p >= 'A' && *p <= 'Z') || (*p >= 'a' && *p <= 'z') || *p == '_' ||
+              (*p >= '0' && *p <= '9')))
+            return 0;
+    return strcmp(s, "inf") && strcmp(s, "pi");
+}
+
 static int parse_options(int argc, char **argv, options *o)
 {
     for (int k = 1; k < argc; k++) {
@@ -133,7 +152,7 @@ static int parse_options(int argc, char **argv, options *o)
         static const char *const with_value[] = { "--set", "--pm", "--fmin", "--fmax", "--csv",
             "--points", "--tune", "--within", "--vary", "--from", "--to", "--node", "--cload",
             "--density", "--gm", "-o", "--size", "--keep-script", "--samples", "--seed", "--yield",
-            "--over", "--levels" };
+            "--over", "--levels", "--inject" };
         int takes = 0;
         for (size_t j = 0; j < sizeof with_value / sizeof *with_value; j++)
             takes |= !strcmp(a, with_value[j]);
@@ -180,8 +199,19 @@ static int parse_options(int argc, char **argv, options *o)
                 return usage_error("%s", "sweep varies at most two values (--vary twice draws "
                                    "a map)");
             o->vary[o->nvary++] = val;
+        } else if ((!strcmp(a, "--from") || !strcmp(a, "--to")) && plain_name(val)) {
+            /* a name is a response's end (an input, a node: response, sweep
+             * --to NODE); anything else a number of sweep's range: names never
+             * parse as numbers here */
+            const char **dst = a[2] == 't' ? &o->to_node : &o->from_node;
+            if (*dst)
+                return usage_error("%s NODE given twice", a);
+            *dst = val;
         } else if (!strcmp(a, "--from") || !strcmp(a, "--to")) {
             /* each --from/--to belongs to the --vary before it */
+            if (o->nvary == 0 && o->command && !strcmp(o->command, "response"))
+                return usage_error(a[2] == 't' ? "response %s names a node, not a number"
+                                               : "response %s names an input, not a number", a);
             if (o->nvary == 0)
                 return usage_error("%s comes after the --vary it belongs to", a);
             const char **dst = a[2] == 't' ? &o->to[o->nvary - 1] : &o->from[o->nvary - 1];
@@ -202,6 +232,12 @@ static int parse_options(int argc, char **argv, options *o)
                 return usage_error("--levels takes a whole number from 2 to 100 (values of each "
                                    "range, ends included), got '%s'", val);
             o->levels = (int)v;
+        } else if (!strcmp(a, "--inject")) {
+            if (o->inject)
+                return usage_error("%s given twice", a);
+            o->inject = val;
+        } else if (!strcmp(a, "--step")) {
+            o->step = 1;
         } else if (!strcmp(a, "--node")) {
             o->node = val;
         } else if (!strcmp(a, "--cload")) {
@@ -269,7 +305,7 @@ static int parse_options(int argc, char **argv, options *o)
     if (!o->command)
         return usage_error("%s", "missing COMMAND");
     static const char *const commands[] = { "check", "gain", "size", "sweep", "load", "roots",
-                                            "polar", "corners", "montecarlo" };
+                                            "polar", "corners", "montecarlo", "response" };
     int known = 0;
     for (size_t j = 0; j < sizeof commands / sizeof *commands; j++)
         known |= !strcmp(o->command, commands[j]);
@@ -283,11 +319,26 @@ static int parse_options(int argc, char **argv, options *o)
                            "version 0.2; see the README, history of interface changes)");
     if (!known)
         return usage_error("unknown command '%s'; expected check, gain, size, sweep, load, "
-                           "roots, polar, corners or montecarlo", o->command);
+                           "roots, polar, response, corners or montecarlo", o->command);
     if (!o->file)
         return usage_error("missing FILE after '%s'", o->command);
-    if (o->csv && strcmp(o->command, "gain") && strcmp(o->command, "sweep"))
-        return usage_error("--csv goes with 'gain' or 'sweep', not '%s'", o->command);
+    if (o->csv && strcmp(o->command, "gain") && strcmp(o->command, "sweep") &&
+        strcmp(o->command, "response"))
+        return usage_error("--csv goes with 'gain', 'sweep' or 'response', not '%s'", o->command);
+    int resp = !strcmp(o->command, "response"), swp = !strcmp(o->command, "sweep");
+    if ((o->to_node || o->from_node || o->inject) && !resp && !swp)
+        return usage_error("--to NODE, --from INPUT and --inject go with 'response' or 'sweep', "
+                           "not '%s'", o->command);
+    if (o->step && !resp)
+        return usage_error("%s", "--step goes with 'response'");
+    if (resp && !o->to_node)
+        return usage_error("%s", "response needs --to NODE: the node whose response is read");
+    if (o->inject && o->from_node)
+        return usage_error("%s", "--from INPUT and --inject NODE both name the source; give one");
+    if (swp && o->inject && !strcmp(o->inject, "each"))
+        return usage_error("%s", "sweep takes one source: --inject NODE, not each");
+    if (swp && (o->from_node || o->inject) && !o->to_node)
+        return usage_error("%s", "sweep --from INPUT or --inject NODE needs --to NODE as well");
     if (o->plot && (!strcmp(o->command, "check") || !strcmp(o->command, "size") ||
                     !strcmp(o->command, "corners")))
         return usage_error("-o draws a picture with gain, roots, polar, sweep, load or "
@@ -455,6 +506,9 @@ int main(int argc, char **argv)
     } else if (!strcmp(o.command, "polar")) {
         rc = cmd_polar(&o, d, m, &r, &err);
         code = report_check_status(&r, tg);
+    } else if (!strcmp(o.command, "response")) {
+        rc = cmd_response(&o, d, m, &r, &err);
+        code = report_check_status(&r, tg); /* unstable, or --pm/--gm missed */
     } else {
         if (!(rc = run_gain(&o, d, &r, &err)) && o.plot) {
             figure_opts fo = { o.plot, o.width, o.height, o.keep_script };

@@ -12,6 +12,7 @@ void model_free(model *m)
     free(m->Gp);
     free(m->C);
     free(m->gm);
+    free(m->ins);
     free(m);
 }
 
@@ -37,7 +38,9 @@ int model_new(const desc *d, model **out, lw_error *err)
     m->Gp = calloc((size_t)n * (size_t)n, sizeof(double));
     m->C = calloc((size_t)n * (size_t)n, sizeof(double));
     m->gm = calloc((size_t)d->nelems + 1, sizeof *m->gm);
-    if (!m->Gp || !m->C || !m->gm) {
+    m->ins = calloc((size_t)d->nelems + 1, sizeof *m->ins);
+    m->ninputs = d->ninputs;
+    if (!m->Gp || !m->C || !m->gm || !m->ins) {
         model_free(m);
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
@@ -50,6 +53,12 @@ int model_new(const desc *d, model **out, lw_error *err)
     m->brk_node = d->brk_node;
     for (int k = 0; k < d->nelems; k++) {
         const desc_elem *e = &d->elems[k];
+        int x = e->kind == ELEM_GM ? e->a_in : e->b_in;
+        if (x >= 0)
+            m->ins[m->nins++] = (model_in){ x, e->kind == ELEM_GM ? e->b : e->a, e->kind,
+                                            e->value };
+        if (e->kind == ELEM_GM && e->a_in >= 0)
+            continue; /* its control is AC ground for the loop: no stamp in G */
         if (e->kind == ELEM_RES)
             stamp2(m->Gp, n, e->a, e->b, 1.0 / e->value);
         else if (e->kind == ELEM_CAP)
@@ -83,6 +92,23 @@ int model_break_mark(const model *m, unsigned char *off, int *in)
             n++;
         }
     return n;
+}
+
+void model_input_fill(const model *m, int x, double *b0, double *b1)
+{
+    memset(b0, 0, sizeof(double) * (size_t)m->n);
+    memset(b1, 0, sizeof(double) * (size_t)m->n);
+    for (int k = 0; k < m->nins; k++) {
+        const model_in *s = &m->ins[k];
+        if (s->input != x)
+            continue;
+        if (s->kind == ELEM_RES)
+            b0[s->node] += 1.0 / s->value;
+        else if (s->kind == ELEM_CAP)
+            b1[s->node] += s->value;
+        else
+            b0[s->node] += s->value;
+    }
 }
 
 int model_gm_of_elem(const model *m, int e)

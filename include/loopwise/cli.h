@@ -5,6 +5,7 @@
 #define LOOPWISE_CLI_H
 
 #include "loopwise/design.h"
+#include "loopwise/response.h"
 
 enum { MAX_SETS = 256, MAX_GAIN_POINTS = 100000, MAX_AXES = 2, MAX_LEVELS = 100 };
 
@@ -24,6 +25,10 @@ typedef struct options {
     const char *node, *cload, *density;
     const char *over;                 /* size --over corners|montecarlo */
     int levels;                       /* corners --levels K (0: not given) */
+    /* --from/--to with a name (an input, a node) rather than a number:
+     * the response's ends (response, sweep --to NODE) */
+    const char *from_node, *to_node, *inject;
+    int step;
     int lin, gm_given;
     double gm;
     const char *sets[MAX_SETS];
@@ -84,5 +89,13 @@ int cli_density(const char *text, double *v, lw_error *err);
 char *cli_reproduce(const options *o, const desc *d, const char *tune, double value,
                     const int *params, int np, const double *v);
 int cmd_load(const options *o, desc *d, int *code, lw_error *err);
+/* cmd_response.c: the response named by --to and --from / --inject (or the
+ * file's only input); *each is set for --inject each. */
+int cmd_response_source(const options *o, const desc *d, int *to, response_src *src, int *each,
+                        lw_error *err);
+/* Its exit code is check's (report_check_status): 1 when the loop is
+ * unstable or a --pm/--gm given is missed. */
+int cmd_response(const options *o, const desc *d, const model *m, const check_result *r,
+                 lw_error *err);
 
 #endif

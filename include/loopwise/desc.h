@@ -12,7 +12,7 @@
 #include "loopwise/text.h"
 
 enum { DESC_MAX_NAME = 64, DESC_MAX_NODES = 4096, DESC_MAX_ELEMS = 65536,
-       DESC_MAX_PARAMS = 65536, DESC_MAX_LOOPS = 256 };
+       DESC_MAX_PARAMS = 65536, DESC_MAX_LOOPS = 256, DESC_MAX_INPUTS = 256 };
 
 #define DESC_GND (-1)
 #define DESC_NO_OVERRIDE (-1)
@@ -68,11 +68,22 @@ typedef struct desc_node {
     double r, c;                 /* after desc_eval; r may be inf */
 } desc_node;
 
+/* An input (SPEC section 6): a driven node, an ideal voltage source from gnd.
+ * Every analysis of the loop sees it as AC ground: an element end on an input
+ * is stored as DESC_GND, with the input's index beside it. */
+typedef struct desc_input {
+    char name[DESC_MAX_NAME + 1];
+    desc_pos at;
+} desc_input;
+
 typedef struct desc_elem {
     desc_elem_kind kind;
     char name[DESC_MAX_NAME + 1];
     desc_pos at, a_at, b_at, v_at;
     int a, b;          /* node indices; b (or a) may be DESC_GND. gm: a = IN, b = OUT */
+    int a_in, b_in;    /* the input on that end (a or b is then DESC_GND), or -1. A res or
+                          cap keeps its node in a and its input in b_in; a gm may have an
+                          input only as IN (a_in) */
     int expr, override;
     double fixed;
     double value;      /* after desc_eval */
@@ -96,6 +107,7 @@ typedef struct desc {
     desc_node *nodes;   int nnodes;
     desc_elem *elems;   int nelems;
     desc_loop *loops;   int nloops;
+    desc_input *inputs; int ninputs;
     int brk;           /* element index of the break gm; -1 when the break is a node */
     int brk_node;      /* 'break NODE' (SPEC 1): the node whose gms are the break, else -1 */
     desc_pos brk_at;   /* position of the break line (or of the first loop line) */
@@ -143,8 +155,9 @@ expr_unit desc_target_unit(const desc *d, desc_target t);
 /* The current value of a target (after desc_eval). */
 double desc_target_value(const desc *d, desc_target t);
 const char *desc_elem_kind_name(desc_elem_kind k);
-/* Index of node or element by name, -1 if absent. */
+/* Index of node, element or input by name, -1 if absent. */
 int desc_find_node(const desc *d, const char *name);
+int desc_find_input(const desc *d, const char *name);
 int desc_find_elem(const desc *d, const char *name);
 /* The break (desc_break.c). desc_break_name resolves the name on a 'break'
  * line among what is declared so far (a gm, or a node that controls one);

@@ -14,6 +14,14 @@ typedef struct model_gm {
     double g;
 } model_gm;
 
+/* An element with one end on an input (SPEC section 6): it stamps G and C
+ * as if the input were gnd, and drives the network when the input moves. */
+typedef struct model_in {
+    int input, node;   /* the node is the res or cap's other end, or the gm's OUT */
+    desc_elem_kind kind;
+    double value;
+} model_in;
+
 typedef struct model {
     int n;
     double *Gp;    /* n x n row-major: conductances only, no gm */
@@ -22,6 +30,8 @@ typedef struct model {
     int ngm;
     int brk;       /* index into gm[] of the break; -1 when the break is a node */
     int brk_node;  /* the node of a 'break NODE' (its gms taken together), else -1 */
+    model_in *ins; /* elements on inputs; a gm driven by an input is here, not in gm[] */
+    int nins, ninputs;
 } model;
 
 int model_new(const desc *d, model **out, lw_error *err);
@@ -36,6 +46,11 @@ void model_fill_g(const model *m, const unsigned char *off, double *G);
  * controlled by the break node) and returns how many; *in gets the node that
  * controls them. */
 int model_break_mark(const model *m, unsigned char *off, int *in);
+
+/* The right-hand side of Y(s) v = (b0 + s b1) u for a unit voltage u on
+ * input x: each res R from x to node k adds 1/R to b0[k], each cap C adds C
+ * to b1[k], each gm g from x into k adds g to b0[k]. b0, b1 have n values. */
+void model_input_fill(const model *m, int x, double *b0, double *b1);
 
 /* Index into gm[] of element e, or -1. */
 int model_gm_of_elem(const model *m, int e);

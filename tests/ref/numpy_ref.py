@@ -57,7 +57,7 @@ class LoopError(Exception):
     pass
 
 
-KEYWORDS = {"param", "node", "res", "cap", "gm", "loop", "break"}
+KEYWORDS = {"param", "node", "input", "res", "cap", "gm", "loop", "break"}
 FUNCS1 = {"sqrt": math.sqrt, "exp": math.exp, "ln": math.log,
           "log10": math.log10, "abs": abs}
 FUNCS2 = {"min": min, "max": max}
@@ -248,9 +248,10 @@ class Net:
         self.loops = []          # (name, sign, [nodes])
         self.brk = None
         self.names = set()
+        self.inputs = []         # SPEC section 6: driven nodes, AC ground for the loop
 
     def idx(self, name):
-        if name == "gnd":
+        if name == "gnd" or name in self.inputs:
             return -1
         return self.nodes.index(name)
 
@@ -280,7 +281,7 @@ def parse_loop_text(text):
             net.names.add(nm)
 
         def node_ref(nm, allow_gnd=False):
-            if nm == "gnd" and allow_gnd:
+            if (nm == "gnd" or nm in net.inputs) and allow_gnd:
                 return nm
             if nm not in net.nodes:
                 raise LoopError("line %d: unknown node %r" % (lineno, nm))
@@ -313,8 +314,12 @@ def parse_loop_text(text):
         elif kw in ("res", "cap"):
             nm = parts[1]
             newname(nm)
-            a = node_ref(parts[2])
+            a = node_ref(parts[2], allow_gnd=True)
             b = node_ref(parts[3], allow_gnd=True)
+            if net.idx(a) < 0:
+                a, b = b, a
+            if net.idx(a) < 0:
+                raise LoopError("line %d: %s joins no node" % (lineno, nm))
             head = line.split(None, 4)
             v = eval_expr(head[4], net.params)
             if not (v > 0) or math.isinf(v):
@@ -325,13 +330,19 @@ def parse_loop_text(text):
             newname(nm)
             if len(parts) < 6 or parts[3] != "->":
                 raise LoopError("line %d: gm NAME IN -> OUT VALUE" % lineno)
-            a = node_ref(parts[2])
+            a = node_ref(parts[2], allow_gnd=parts[2] != "gnd")
             b = node_ref(parts[4])
             head = line.split(None, 5)
             v = eval_expr(head[5], net.params)
             if math.isinf(v) or math.isnan(v):
                 raise LoopError("line %d: bad gm value" % lineno)
             net.elems.append(("gm", nm, a, b, v))
+        elif kw == "input":
+            nm = parts[1]
+            newname(nm)
+            if len(parts) != 2:
+                raise LoopError("line %d: input takes a name only" % lineno)
+            net.inputs.append(nm)
         elif kw == "loop":
             nm = parts[1]
             newname(nm)
@@ -400,8 +411,8 @@ def build(net, off=()):
                 M[ia, ib] -= y
                 M[ib, ia] -= y
         elif kind == "gm":
-            if nm in off:
-                continue
+            if nm in off or ia < 0:
+                continue            # off, or driven by an input (AC ground)
             G[ib, ia] -= v          # current v*v(IN) flows INTO OUT
     return G, C
 
