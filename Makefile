@@ -86,6 +86,8 @@ reference: loopwise
 	@LOOPWISE=./loopwise $(PYTHON) tests/ref/numpy_ref.py
 	@LOOPWISE=./loopwise $(PYTHON) tests/ref/family.py
 	@LOOPWISE=./loopwise $(PYTHON) tests/ref/comp_table.py
+	@$(PYTHON) tests/ref/response_ref.py --selftest
+	@LOOPWISE=./loopwise $(PYTHON) tests/ref/response_ref.py | tail -n 1
 
 # Small drivers print what a library function gives over a whole grid; a
 # Python script compares it with an outside reference: the Clopper-Pearson
