@@ -80,6 +80,7 @@ golden: $(LW_BIN)
 	@$(PYTHON) tests/golden/finite.py ./$(LW_BIN)
 	@sh tests/golden/breaknode.sh ./$(LW_BIN)
 	@sh tests/golden/across.sh ./$(LW_BIN)
+	@sh tests/golden/response.sh ./$(LW_BIN)
 
 reference: loopwise
 	@$(PYTHON) tests/ref/numpy_ref.py --selftest

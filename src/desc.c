@@ -600,6 +600,9 @@ static int parse_gm(pstate *ps)
         return at_tok(ps, &ln->tok[4], "'%s' is an input (an ideal voltage source): a gm "
                       "cannot drive current into it; expected a node as the gm's OUT",
                       ln->tok[4].s);
+    if (e->a_in >= 0 && e->b == DESC_GND)
+        return at_tok(ps, &ln->tok[4], "a gm from input '%s' into gnd does nothing; expected a "
+                      "node as the gm's OUT", ln->tok[2].s);
     if ((e->a == DESC_GND && e->a_in < 0) || e->b == DESC_GND)
         return at_tok(ps, &ln->tok[e->a == DESC_GND && e->a_in < 0 ? 2 : 4],
                       "a gm between a node and gnd does nothing; expected two declared nodes");

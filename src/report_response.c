@@ -190,7 +190,7 @@ static void text_summary(FILE *f, const response_report *rr)
     else
         fprintf(f, "  DC             H(0) = %s (%.2f dB\xCE\xA9)\n", h_value(rr, res->dc, a, sizeof a),
                 db(adc));
-    fprintf(f, "  at high f      H(inf) = %s%s\n", h_value(rr, res->hinf, a, sizeof a),
+    fprintf(f, "  at high f      H(\xE2\x88\x9E) = %s%s\n", h_value(rr, res->hinf, a, sizeof a),
             res->hinf != 0 ? " (a direct path: resistive or capacitive)" : "");
     if (!(res->peak_value > 0))
         fprintf(f, "  peak           none: |H| is 0\n");
@@ -224,7 +224,7 @@ static void text_step(FILE *f, const response_report *rr)
     fprintf(f, "\nStep response at '%s' to a 1 %s step %s '%s' (exact: poles and residues)\n",
             rr->to, src, rr->from ? "of input" : "of current into", at);
     fprintf(f, "  initial        y(0+) = %s\n", si_format(s->initial, "V", a, sizeof a));
-    fprintf(f, "  final          y(inf) = %s\n", si_format(s->final, "V", a, sizeof a));
+    fprintf(f, "  final          y(\xE2\x88\x9E) = %s\n", si_format(s->final, "V", a, sizeof a));
     if (isnan(s->peak_time))
         fprintf(f, "  peak           none: y never passes its final value\n");
     else

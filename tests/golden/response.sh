@@ -1,0 +1,159 @@
+#!/bin/sh
+# Command-line tests of SPEC section 6: inputs change no figure of the loop,
+# 'response' refuses every bad request with exit 2 and a message (nothing on
+# stdout, no file written), an unstable loop exits 1 without a step
+# response, and the outputs carry every field.
+LW=${1:-./loopwise}
+. tests/golden/lib.sh
+REG=cases/regulator.loop
+R=cases/refcore.loop
+
+# ---- an input is AC ground: moving an element's end from gnd to an input,
+# or adding a gm driven by an input, changes no figure of any command --------
+moved() { # FILE NODE: the file with 'input vx' on top, every 'gnd' end of a
+          # res or cap on vx, and (unless NODE is -) a gm from vx into NODE
+    echo "input vx"
+    sed -e '/^\(res\|cap\) /s/ gnd / vx /' "$1"
+    [ "$2" = - ] || echo "gm gvx vx -> $2 1m"
+}
+same() { # WHAT CMD FILE...: the command's output on FILE and on its moved form
+    what=$1 node=$2
+    shift 2
+    moved "$R" "$node" >"$tmp/moved.loop"
+    "$LW" "$@" "$R" >"$tmp/a" 2>/dev/null
+    ra=$?
+    "$LW" "$@" "$tmp/moved.loop" >"$tmp/b" 2>/dev/null
+    rb=$?
+    sed "s|$tmp/moved.loop|$R|g" "$tmp/b" >"$tmp/b2"
+    if [ "$ra" = "$rb" ] && [ -s "$tmp/a" ] && cmp -s "$tmp/a" "$tmp/b2"; then ok
+    else bad "$what: an input changed the output (exit $ra vs $rb)"; diff "$tmp/a" "$tmp/b2" | head -n 4; fi
+}
+grep -q '^cap ccomp ea  gnd' $R && ok || bad "refcore.loop no longer has a cap to gnd to move"
+same "check --json" ea check --json
+same "check (text)" - check
+same "gain --csv" ea gain --csv -
+same "sweep" ea sweep --vary rser --from 540 --to 54k --points 7 --json
+same "size" ea size --tune ccomp --pm 45 --json
+same "load" ea load --node vref --cload 1p..1n --points 5 --json
+same "corners" ea corners --json
+same "montecarlo" ea montecarlo --samples 200 --seed 3 --json
+# the regulator's elements on vin were on gnd once: put them back, same figures
+sed -e '/^input vin/d; /^gm  g_sup/d; /^\(res\|cap\) /s/ vin / gnd /' $REG >"$tmp/reg_gnd.loop"
+"$LW" check $REG --json >"$tmp/a" 2>/dev/null
+"$LW" check "$tmp/reg_gnd.loop" --json >"$tmp/b" 2>/dev/null
+sed "s|$tmp/reg_gnd.loop|$REG|g" "$tmp/b" | cmp -s - "$tmp/a" && ok ||
+    bad "regulator: its supply elements on gnd give other figures"
+
+# ---- bad requests: exit 2, a message, nothing on stdout, no file ------------
+# refuse_nofile WANT ARGS...: as refuse, with --csv and -o given: neither written
+refuse_nofile() {
+    want=$1
+    shift
+    rm -f "$tmp/r.csv" "$tmp/r.png"
+    refuse "$want" "$@" --csv "$tmp/r.csv"
+    [ ! -e "$tmp/r.csv" ] && ok || bad "$*: a CSV was written"
+}
+refuse_nofile "--to gnd: ground does not move" response $REG --to gnd
+refuse_nofile "--to vin: 'vin' is an input (a driven node); a response is read at a node" \
+    response $REG --to vin
+refuse_nofile "--to: unknown node 'outt' (did you mean 'out'?)" response $REG --to outt
+refuse_nofile "--from out: 'out' is not an input; --from names an 'input' line" \
+    response $REG --to out --from out
+refuse_nofile "--from: unknown input 'vim' (did you mean 'vin'?)" response $REG --to out --from vim
+refuse_nofile "--inject vin: 'vin' is an input (a driven node); use --from for an input" \
+    response $REG --to out --inject vin
+refuse_nofile "--inject gnd: ground does not move" response $REG --to out --inject gnd
+refuse_nofile "--inject: unknown node 'gat' (did you mean 'gate'?)" response $REG --to out --inject gat
+refuse_nofile "the file declares no input: add an 'input' line, or give a current with --inject NODE" \
+    response cases/twostage.loop --to out
+printf 'input va\ninput vb\n' >"$tmp/two.loop"
+sed -e '/^input vin/d; s/ vin / va /; s/ vin$/ va/' $REG | sed -e 's/^res ro_ea  gate va /res ro_ea  gate vb /' >>"$tmp/two.loop"
+refuse_nofile "the file has 2 inputs (va, vb): choose one with --from NAME" response "$tmp/two.loop" --to out
+refuse "response needs --to NODE" response $REG
+refuse "response --to names a node, not a number" response $REG --to 5
+refuse "response --from names an input, not a number" response $REG --to out --from 1
+refuse "--from INPUT and --inject NODE both name the source; give one" response $REG --to out --from vin --inject out
+refuse "--step goes with 'response'" check $REG --step
+refuse "--to NODE, --from INPUT and --inject go with 'response' or 'sweep'" gain $REG --to out
+refuse "-o draws one response; with --inject each" response $REG --to out --inject each -o "$tmp/r.png"
+[ ! -e "$tmp/r.png" ] && ok || bad "--inject each -o wrote a picture"
+refuse "sweep takes one source: --inject NODE, not each" sweep $REG --vary esr --from 0.1 --to 1 --to out --inject each
+refuse "sweep --from INPUT or --inject NODE needs --to NODE as well" sweep $REG --vary esr --from 0.1 --to 1 --inject out
+refuse "--to given twice" response $REG --to out --to fb
+
+# ---- exit codes ------------------------------------------------------------
+"$LW" response $REG --to out >"$tmp/o" 2>"$tmp/e"
+[ $? = 0 ] && [ -s "$tmp/o" ] && ok || bad "response: stable loop must exit 0 ($(head -n 1 "$tmp/e"))"
+"$LW" response $REG --to out --pm 70 >/dev/null 2>&1
+[ $? = 1 ] && ok || bad "response: --pm 70 missed (62.7 deg) must exit 1"
+# the regulator with its output capacitor's series resistance gone: the zero
+# that rescued the phase is gone, the loop rings up (unstable)
+"$LW" response $REG --to out --set esr=1m --step >"$tmp/o" 2>/dev/null
+rc=$?
+"$LW" check $REG --set esr=1m --json 2>/dev/null | $PY -c "import json,sys; sys.exit(0 if json.load(sys.stdin)['stable'] is False else 1)" &&
+    [ $rc = 1 ] && grep -q "UNSTABLE" "$tmp/o" && ! grep -q "^Step response" "$tmp/o" && ok ||
+    bad "response on an unstable loop: exit $rc, a sentence, no step"
+"$LW" response $REG --to out --set esr=1m --json >"$tmp/u.json" 2>/dev/null
+$PY -c "import json,sys; d=json.load(open(sys.argv[1])); assert d['step'] is None and d['stable'] is False" "$tmp/u.json" &&
+    ok || bad "response --json on an unstable loop: step must be null"
+
+# ---- outputs ---------------------------------------------------------------
+"$LW" response $REG --to out --json >"$tmp/r.json" 2>/dev/null
+$PY - "$tmp/r.json" <<'PYEOF' && ok || bad "response JSON fields"
+import json, sys
+d = json.load(open(sys.argv[1]))
+need = ["to", "from", "inject", "unit", "dc", "dc_db", "rejection_db", "hinf", "peak",
+        "bandwidth_hz", "fmin_hz", "fmax_hz", "poles", "zeros", "stable", "points", "step"]
+miss = [k for k in need if k not in d]
+miss += [k for k in ("hz", "value", "db", "over_dc_db") if k not in d["peak"]]
+miss += [k for k in ("initial", "final", "peak_value", "peak_time_s", "overshoot_pct",
+                     "undershoot_pct", "rise_time_s", "settle_s", "slow_mode") if k not in d["step"]]
+miss += [k for k in ("1", "0.1") if k not in d["step"]["settle_s"]]
+miss += [k for k in ("re_hz", "im_hz", "amplitude", "time_constant_s", "doublet")
+         if k not in d["step"]["slow_mode"]]
+assert len(d["points"]) == 121 and all(set(p) == {"hz", "db", "phase_deg"} for p in d["points"])
+assert d["from"] == "vin" and d["unit"] == "V/V"
+if miss:
+    print("missing:", miss)
+    sys.exit(1)
+PYEOF
+"$LW" response $REG --to out --inject each --json >"$tmp/e.json" 2>/dev/null
+$PY - "$tmp/e.json" <<'PYEOF' && ok || bad "response --inject each JSON"
+import json, math, sys
+d = json.load(open(sys.argv[1]))
+assert set(d) >= {"to", "stable", "poles", "injections"}
+inj = d["injections"]
+assert sorted(i["node"] for i in inj) == ["cx", "fb", "gate", "out"], inj
+for i in inj:
+    assert set(i) == {"node", "final", "peak_value", "overshoot_pct", "undershoot_pct",
+                      "settle_1pct_s"}
+# sorted by overshoot (null last), then 1% settling time
+key = [(i["overshoot_pct"] is None, i["overshoot_pct"] or 0, i["settle_1pct_s"]) for i in inj]
+assert key == sorted(key), key
+PYEOF
+rm -f "$tmp/r.csv"
+"$LW" response $REG --to out --csv "$tmp/r.csv" --points 30 >/dev/null 2>&1 &&
+    [ "$(wc -l <"$tmp/r.csv")" = 31 ] && head -n 1 "$tmp/r.csv" | grep -q '^freq_hz,mag_db,phase_deg$' &&
+    ok || bad "response --csv"
+"$LW" response $REG --to out --inject each --csv - >"$tmp/e.csv" 2>/dev/null &&
+    head -n 1 "$tmp/e.csv" | grep -q '^node,final,peak_value,overshoot_pct,undershoot_pct,settle_1pct_s$' &&
+    [ "$(wc -l <"$tmp/e.csv")" = 5 ] && ok || bad "response --inject each --csv"
+for args in "--to out" "--to out --step" "--to out --inject out --step"; do
+    rm -f "$tmp/p.svg" "$tmp/p.png"
+    "$LW" response $REG $args -o "$tmp/p.svg" >/dev/null 2>"$tmp/e" &&
+        $PY -c "import sys, xml.etree.ElementTree as E; r=E.parse(sys.argv[1]).getroot(); assert r.tag.endswith('svg')" "$tmp/p.svg" &&
+        ok || bad "response $args -o SVG: $(cat "$tmp/e")"
+done
+# the step picture marks what it says: final value, 1% band, peak, settling
+"$LW" response $REG --to out --inject out --step -o "$tmp/s.png" --keep-script "$tmp/ks" >/dev/null 2>&1
+grep -q "final value" "$tmp/ks/plot.gp" && grep -q "1% band" "$tmp/ks/plot.gp" &&
+    grep -q "label 'peak" "$tmp/ks/plot.gp" && grep -q "within 1% from" "$tmp/ks/plot.gp" &&
+    ok || bad "step picture marks"
+# no nan or inf in any output
+for args in "--to out" "--to out --step" "--to cx --inject cx --step" "--to out --inject each"; do
+    "$LW" response $REG $args >"$tmp/t" 2>&1; "$LW" response $REG $args --json >>"$tmp/t" 2>&1
+    grep -qiw "nan\|inf\|-inf" "$tmp/t" && bad "response $args: nan or inf in the output" || ok
+done
+
+echo "response: $pass passed, $fail failed"
+[ "$fail" = 0 ]
