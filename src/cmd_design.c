@@ -203,9 +203,16 @@ int cmd_sweep(const options *o, desc *d, const text_file *tf, int *code, lw_erro
     int npts = o->points ? o->points : 25;
     if (npts > 10000)
         return lw_error_set(err, LW_EINPUT, "--points %d: a sweep takes at most 10000 points", npts);
+    /* sweep --to NODE [--from INPUT | --inject NODE]: a response at every
+     * point, named as 'response' names it */
+    sweep_probe probe;
+    int each;
+    if (o->to_node && (rc = cmd_response_source(o, d, &probe.to, &probe.src, &each, err)))
+        return rc;
     check_opts co = cli_design_opts(o);
     sweep_result r;
-    if ((rc = sweep_run(d, t, from, to, npts, o->lin, goal(o), &co, &r, err)))
+    if ((rc = sweep_run_probe(d, t, from, to, npts, o->lin, goal(o), &co,
+                              o->to_node ? &probe : NULL, &r, err)))
         return rc;
     if (o->csv) {
         outfile *of;

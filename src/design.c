@@ -87,6 +87,7 @@ void design_point_from(const check_result *r, double value, design_point *pt)
     pt->pm_deg = mg->best_cross >= 0 ? mg->cross[mg->best_cross].value : NAN;
     pt->gm_db = mg->best_phase >= 0 ? mg->phase[mg->best_phase].value : NAN;
     pt->stable = r->stable;
+    pt->overshoot_pct = pt->settle1_s = pt->peak_db = NAN;
     two_poles(r, pt);
 }
 
@@ -204,10 +205,49 @@ int sweep_run(desc *d, desc_target t, double from, double to, int npts, int lin,
     return sweep_run_offset(d, t, from, to, 0.0, npts, lin, g, o, r, err);
 }
 
+static int sweep_points(desc *d, desc_target t, double from, double to, double offset, int npts,
+                        int lin, design_goal g, const check_opts *o, const sweep_probe *probe,
+                        sweep_result *r, lw_error *err);
+
 int sweep_run_offset(desc *d, desc_target t, double from, double to, double offset, int npts,
                      int lin, design_goal g, const check_opts *o, sweep_result *r, lw_error *err)
 {
+    return sweep_points(d, t, from, to, offset, npts, lin, g, o, NULL, r, err);
+}
+
+int sweep_run_probe(desc *d, desc_target t, double from, double to, int npts, int lin,
+                    design_goal g, const check_opts *o, const sweep_probe *probe,
+                    sweep_result *r, lw_error *err)
+{
+    return sweep_points(d, t, from, to, 0.0, npts, lin, g, o, probe, r, err);
+}
+
+/* One point of a sweep, with the probe's figures when there is one. */
+static int sweep_point(desc *d, desc_target t, double v, const check_opts *o,
+                       const sweep_probe *probe, design_point *pt, lw_error *err)
+{
+    if (!probe)
+        return design_eval(d, t, v, o, pt, err);
+    check_result r;
+    model *m;
+    int rc = design_eval_full(d, t, v, o, &r, &m, err);
+    if (rc)
+        return rc;
+    design_point_from(&r, v, pt);
+    rc = design_probe_point(m, &r, probe, pt, err);
+    check_result_free(&r);
+    model_free(m);
+    return rc;
+}
+
+static int sweep_points(desc *d, desc_target t, double from, double to, double offset, int npts,
+                        int lin, design_goal g, const check_opts *o, const sweep_probe *probe,
+                        sweep_result *r, lw_error *err)
+{
     memset(r, 0, sizeof *r);
+    r->probed = probe != NULL;
+    if (probe)
+        r->probe = *probe;
     r->pts = calloc((size_t)npts, sizeof *r->pts);
     r->cross = calloc((size_t)npts, sizeof *r->cross);
     if (!r->pts || !r->cross) {
@@ -222,7 +262,7 @@ int sweep_run_offset(desc *d, desc_target t, double from, double to, double offs
         double v = lin ? from + (to - from) * f : from * pow(to / from, f);
         if (k == npts - 1)
             v = to;
-        rc = design_eval(d, t, v + offset, o, &r->pts[k], err);
+        rc = sweep_point(d, t, v + offset, o, probe, &r->pts[k], err);
         r->pts[k].value = v;
         r->npts = k + 1;
         r->missed |= !rc && !design_meets(&r->pts[k], g);

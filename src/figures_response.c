@@ -170,11 +170,6 @@ static double axis_unit(double v, char *prefix, size_t n)
     return pow(10.0, -3 * e3);
 }
 
-static const char *pct(double v, char *buf, size_t n)
-{
-    snprintf(buf, n, v >= 1000 ? "%.0f%%" : "%.3g%%", v);
-    return buf;
-}
 
 int figure_step(const figure_opts *fo, const desc *d, const response_report *rr, step_form *sf,
                 lw_error *err)
@@ -225,7 +220,7 @@ int figure_step(const figure_opts *fo, const desc *d, const response_report *rr,
         double x = st->peak_time / tmax;
         snprintf(lbl, sizeof lbl, "peak %s at %s%s%s%s", si_format(st->peak_value, "V", a, sizeof a),
                  si_format(st->peak_time, "s", b, sizeof b), isnan(st->overshoot_pct) ? "" : " (",
-                 isnan(st->overshoot_pct) ? "" : pct(st->overshoot_pct, c, sizeof c),
+                 isnan(st->overshoot_pct) ? "" : pct_format(st->overshoot_pct, c, sizeof c),
                  isnan(st->overshoot_pct) ? "" : " over)");
         fprintf(s, "set object circle at %.12g, first %.12g size screen 0.006 fc rgb '%s' fs solid "
                 "front\nset label '%s' at %.12g, first %.12g %s tc rgb '%s' front\n",

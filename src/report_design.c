@@ -76,7 +76,7 @@ void report_point_fields(FILE *f, const design_point *p)
     fprintf(f, ", \"stable\": %s", p->stable ? "true" : "false");
 }
 
-static void json_point(FILE *f, const design_point *p)
+static void json_point(FILE *f, const design_point *p, int probed)
 {
     fputs("{\"value\": ", f);
     json_number(f, p->value);
@@ -86,6 +86,14 @@ static void json_point(FILE *f, const design_point *p)
     json_number(f, p->p1_hz);
     fputs(", \"second_pole_hz\": ", f);
     json_number(f, p->p2_hz);
+    if (probed) {
+        fputs(", \"overshoot_pct\": ", f);
+        json_number(f, p->overshoot_pct);
+        fputs(", \"settle_1pct_s\": ", f);
+        json_number(f, p->settle1_s);
+        fputs(", \"peak_db\": ", f);
+        json_number(f, p->peak_db);
+    }
     fputc('}', f);
 }
 
@@ -111,8 +119,10 @@ void report_pad(FILE *f, const char *s, int width)
 static void text_points(FILE *f, const sweep_result *r, const char *unit, const char *label,
                         design_goal g)
 {
-    fprintf(f, "  %-11s %-14s %-11s %-13s %-12s %-11s %-11s %s\n", label, "DC loop gain",
-            "crossover", "phase margin", "gain margin", "dominant", "second", "stable");
+    /* with a response (sweep --to), its price replaces the two poles */
+    fprintf(f, "  %-11s %-14s %-11s %-13s %-12s %-11s %-11s %s%s\n", label, "DC loop gain",
+            "crossover", "phase margin", "gain margin", r->probed ? "overshoot" : "dominant",
+            r->probed ? "settles 1%" : "second", r->probed ? "peak |H|   " : "",  "stable");
     for (int k = 0; k < r->npts; k++) {
         const design_point *p = &r->pts[k];
         char v[32], dc[32], fc[32], pm[16], gm[16], p1[32], p2[32];
@@ -126,10 +136,19 @@ static void text_points(FILE *f, const sweep_result *r, const char *unit, const 
         snprintf(gm, sizeof gm, isnan(p->gm_db) ? "unbounded" : "%.2f dB", p->gm_db);
         fmt_or(p->p1_hz, "Hz", p1, sizeof p1, "-");
         fmt_or(p->p2_hz, "Hz", p2, sizeof p2, "-");
-        const char *cols[] = { v, dc, fc, pm, gm, p1, p2 };
-        const int widths[] = { 12, 15, 12, 14, 13, 12, 12 };
+        char os[32], ts[32], pk[32];
+        if (r->probed) {
+            if (isnan(p->overshoot_pct))
+                snprintf(os, sizeof os, "-");
+            else
+                pct_format(p->overshoot_pct, os, sizeof os);
+            fmt_or(p->settle1_s, "s", ts, sizeof ts, "-");
+            snprintf(pk, sizeof pk, isnan(p->peak_db) ? "-" : "%.2f dB", p->peak_db);
+        }
+        const char *cols[] = { v, dc, fc, pm, gm, r->probed ? os : p1, r->probed ? ts : p2, pk };
+        const int widths[] = { 12, 15, 12, 14, 13, 12, 12, 12 };
         fputs("  ", f);
-        for (int c = 0; c < 7; c++)
+        for (int c = 0; c < 7 + r->probed; c++)
             report_pad(f, cols[c], widths[c]);
         fprintf(f, "%s%s\n", p->stable ? "yes" : "NO", design_meets(p, g) ? "" : report_below_mark(g));
     }
@@ -141,7 +160,8 @@ void report_sweep(FILE *f, const desc *d, const char *name, desc_target t,
     const char *unit = report_unit_symbol(d, t);
     if (fmt == OUT_CSV) {
         fputs("value,dc_loop_gain,crossover_hz,phase_margin_deg,gain_margin_db,"
-              "dominant_pole_hz,second_pole_hz,stable\n", f);
+              "dominant_pole_hz,second_pole_hz,stable", f);
+        fputs(r->probed ? ",overshoot_pct,settle_1pct_s,peak_db\n" : "\n", f);
         for (int k = 0; k < r->npts; k++) {
             const design_point *p = &r->pts[k];
             csv_num(f, p->value, ",");
@@ -151,7 +171,16 @@ void report_sweep(FILE *f, const desc *d, const char *name, desc_target t,
             csv_num(f, p->gm_db, ",");
             csv_num(f, p->p1_hz, ",");
             csv_num(f, p->p2_hz, ",");
-            fprintf(f, "%s\n", p->stable ? "true" : "false");
+            fprintf(f, "%s%s", p->stable ? "true" : "false", r->probed ? "," : "\n");
+            if (r->probed) {
+                /* undefined figures as empty fields, as JSON's null */
+                const double v3[] = { p->overshoot_pct, p->settle1_s, p->peak_db };
+                for (int j = 0; j < 3; j++) {
+                    if (isfinite(v3[j]))
+                        fprintf(f, "%.17g", v3[j]);
+                    fputs(j < 2 ? "," : "\n", f);
+                }
+            }
         }
         return;
     }
@@ -163,7 +192,7 @@ void report_sweep(FILE *f, const desc *d, const char *name, desc_target t,
         fputs(",\n \"points\": [", f);
         for (int k = 0; k < r->npts; k++) {
             fputs(k ? ",\n  " : "\n  ", f);
-            json_point(f, &r->pts[k]);
+            json_point(f, &r->pts[k], r->probed);
         }
         fputs("],\n \"crossings\": [", f);
         for (int k = 0; k < r->ncross; k++) {
@@ -175,8 +204,15 @@ void report_sweep(FILE *f, const desc *d, const char *name, desc_target t,
         return;
     }
     char a[32], gt[160];
-    fprintf(f, "loopwise sweep: %s  vary %s, %s\n\n", d->path, name,
+    fprintf(f, "loopwise sweep: %s  vary %s, %s\n", d->path, name,
             report_goal_text(g, gt, sizeof gt));
+    if (r->probed)
+        fprintf(f, "  and at each value the closed loop's response at '%s' to %s '%s': the step's "
+                "overshoot and 1%% settling time, and the peak of |H|\n",
+                d->nodes[r->probe.to].name, r->probe.src.kind == RESP_INPUT ? "input" :
+                "a current into", r->probe.src.kind == RESP_INPUT
+                ? d->inputs[r->probe.src.index].name : d->nodes[r->probe.src.index].name);
+    fputc('\n', f);
     text_points(f, r, unit, name, g);
     fputc('\n', f);
     if (r->ncross == 0)
@@ -370,7 +406,7 @@ void report_load(FILE *f, const desc *d, const load_result *r, double lo, double
         fprintf(f, ", \"inside_loop\": %s,\n \"points\": [", r->inside ? "true" : "false");
         for (int k = 0; k < r->sw.npts; k++) {
             fputs(k ? ",\n  " : "\n  ", f);
-            json_point(f, &r->sw.pts[k]);
+            json_point(f, &r->sw.pts[k], 0);
         }
         fputs("],\n \"max_load_f\": ", f);
         json_number(f, r->inside ? r->max_load_f : NAN);

@@ -233,10 +233,10 @@ static void text_step(FILE *f, const response_report *rr)
     if (isnan(s->overshoot_pct))
         fprintf(f, "  overshoot      undefined (the final value is 0)\n");
     else
-        fprintf(f, "  overshoot      %.3g%%\n", s->overshoot_pct);
+        fprintf(f, "  overshoot      %s\n", pct_format(s->overshoot_pct, a, sizeof a));
     if (!isnan(s->undershoot_pct))
-        fprintf(f, "  undershoot     %.3g%%%s\n", s->undershoot_pct, s->undershoot_pct > 0
-                ? " (y first moves the wrong way)" : "");
+        fprintf(f, "  undershoot     %s%s\n", pct_format(s->undershoot_pct, a, sizeof a),
+                s->undershoot_pct > 0 ? " (y first moves the wrong way)" : "");
     if (isnan(s->rise_time))
         fprintf(f, "  rise time      undefined (%s)\n", s->final == 0 ? "the final value is 0"
                 : "y starts beyond 10% of its final value");
@@ -252,8 +252,10 @@ static void text_step(FILE *f, const response_report *rr)
     else
         snprintf(c, sizeof c, "%s \xC2\xB1 j%s", si_format(creal(p) / TWO_PI, "Hz", a, sizeof a),
                  si_format(cimag(p) / TWO_PI, "Hz", b, sizeof b));
-    fprintf(f, "  slow mode      %s, time constant %s, %.3g%% of %s at 0+\n", c,
-            si_format(-1.0 / creal(p), "s", a, sizeof a), 100 * s->slow_amplitude,
+    char pa[32];
+    fprintf(f, "  slow mode      %s, time constant %s, %s of %s at 0+\n", c,
+            si_format(-1.0 / creal(p), "s", a, sizeof a),
+            pct_format(100 * s->slow_amplitude, pa, sizeof pa),
             s->final != 0 ? "the final value" : "the peak");
     if (s->slow_doublet)
         fprintf(f, "                 a doublet: a zero of H nearly cancels it, so the output "
@@ -390,8 +392,14 @@ void report_each(FILE *f, const desc *d, const each_report *er, out_format fmt)
         }
         if (best < 0 && !isnan(it->overshoot_pct))
             best = k;
-        snprintf(o, sizeof o, isnan(it->overshoot_pct) ? "-" : "%.3g%%", it->overshoot_pct);
-        snprintf(u, sizeof u, isnan(it->undershoot_pct) ? "-" : "%.3g%%", it->undershoot_pct);
+        if (isnan(it->overshoot_pct))
+            snprintf(o, sizeof o, "-");
+        else
+            pct_format(it->overshoot_pct, o, sizeof o);
+        if (isnan(it->undershoot_pct))
+            snprintf(u, sizeof u, "-");
+        else
+            pct_format(it->undershoot_pct, u, sizeof u);
         fprintf(f, "  %-4d %-14s %-12s %-12s %-10s %-10s %s%s\n", ++rank, d->nodes[it->node].name,
                 si_format(it->final, "V", a, sizeof a), si_format(it->peak_value, "V", b, sizeof b),
                 o, u, si_format(it->settle1, "s", c, sizeof c),
@@ -400,9 +408,10 @@ void report_each(FILE *f, const desc *d, const each_report *er, out_format fmt)
     if (best >= 0) {
         const step_each_item *it = &er->items[best];
         char a[32];
+        char o[32];
         fprintf(f, "\nThe gentlest place for a kick: a current into '%s' reaches its final value "
-                "at '%s' with %.3g%% overshoot and settles within 1%% in %s.\n",
-                d->nodes[it->node].name, er->to, it->overshoot_pct,
+                "at '%s' with %s overshoot and settles within 1%% in %s.\n",
+                d->nodes[it->node].name, er->to, pct_format(it->overshoot_pct, o, sizeof o),
                 si_format(it->settle1, "s", a, sizeof a));
     }
 }

@@ -294,8 +294,10 @@ static void figures(yctx *c, const double *t, const double *y, const double *dy,
         if ((sgn >= 0 && py[j] < py[lo]) || (sgn < 0 && py[j] > py[lo]))
             lo = j;
     }
+    /* excursions below the sampling's resolution (SIGNIFICANT of |final|:
+     * the modes that small are not followed in time) count as none */
     double ext = sgn != 0 ? sgn * (py[best] - fin) : fabs(py[best]);
-    if (ext > 1e-9 * (sgn != 0 ? fabs(fin) : 1.0) && (sgn != 0 || ext > 0)) {
+    if (sgn != 0 ? ext > SIGNIFICANT * fabs(fin) : ext > 0) {
         o->peak_value = py[best];
         o->peak_time = pt[best];
         o->overshoot_pct = sgn != 0 ? 100.0 * ext / fabs(fin) : NAN;
@@ -306,7 +308,7 @@ static void figures(yctx *c, const double *t, const double *y, const double *dy,
     }
     if (sgn != 0) {
         double under = fmax(0.0, -sgn * py[lo]);
-        o->undershoot_pct = under > 1e-12 * fabs(fin) ? 100.0 * under / fabs(fin) : 0;
+        o->undershoot_pct = under > SIGNIFICANT * fabs(fin) ? 100.0 * under / fabs(fin) : 0;
         if (sgn * y[0] >= 0.1 * fabs(fin)) {
             o->rise_time = NAN;
         } else {

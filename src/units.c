@@ -69,3 +69,9 @@ char *si_format_signed(double v, const char *unit, char *buf, size_t size)
 {
     return format(v, unit, buf, size, 1, 3);
 }
+
+char *pct_format(double v, char *buf, size_t size)
+{
+    snprintf(buf, size, fabs(v) >= 1000 ? "%.0f%%" : "%.3g%%", v);
+    return buf;
+}

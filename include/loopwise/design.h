@@ -11,6 +11,7 @@
 #define LOOPWISE_DESIGN_H
 
 #include "loopwise/check.h"
+#include "loopwise/response.h"
 
 enum { DESIGN_MAX_POINTS = 100000 };
 
@@ -24,6 +25,9 @@ typedef struct design_point {
     double p1_hz, p2_hz;    /* magnitudes of the dominant and second pole of T; NAN if absent */
     int p2_node;            /* owner node of the second pole, -1 */
     int stable;
+    /* sweep --to (design_probe.c): the closed-loop response's figures; NAN
+     * when not measured, and the step's when the loop is unstable */
+    double overshoot_pct, settle1_s, peak_db;
 } design_point;
 
 /* The margin a command measures against. pm_deg is always set: it is --pm,
@@ -67,6 +71,13 @@ typedef struct design_crossing {
     int rises;              /* 1: the margin rises through the target as the value grows */
 } design_crossing;
 
+/* A closed-loop response read at every point of a sweep (SPEC section 6):
+ * from an input or a current into a node, to node `to`. */
+typedef struct sweep_probe {
+    int to;
+    response_src src;
+} sweep_probe;
+
 typedef struct sweep_result {
     design_point *pts;
     int npts;
@@ -74,7 +85,15 @@ typedef struct sweep_result {
     int ncross;
     int missed;             /* some point misses the goal */
     int failed;             /* some point fails the exit-code rule (design_fails) */
+    int probed;             /* the points carry a response's figures (sweep --to) */
+    sweep_probe probe;      /* which response, when probed */
 } sweep_result;
+
+
+/* design_probe.c: the probe's figures at one point: the step's overshoot and
+ * 1% settling time (when the loop is stable) and the peak of |H| in dB. */
+int design_probe_point(const model *m, const check_result *r, const sweep_probe *p,
+                       design_point *pt, lw_error *err);
 
 int sweep_run(desc *d, desc_target t, double from, double to, int npts, int lin,
               design_goal g, const check_opts *o, sweep_result *r, lw_error *err);
@@ -82,6 +101,10 @@ int sweep_run(desc *d, desc_target t, double from, double to, int npts, int lin,
  * added to a node's own capacitance); the points and crossings carry v. */
 int sweep_run_offset(desc *d, desc_target t, double from, double to, double offset, int npts,
                      int lin, design_goal g, const check_opts *o, sweep_result *r, lw_error *err);
+/* sweep_run with a response read at every point (probe may be NULL). */
+int sweep_run_probe(desc *d, desc_target t, double from, double to, int npts, int lin,
+                    design_goal g, const check_opts *o, const sweep_probe *probe,
+                    sweep_result *r, lw_error *err);
 void sweep_result_free(sweep_result *r);
 /* The point with the smallest phase margin (the first of equals; points
  * without a crossover left out), -1 when none has one. */

@@ -8,7 +8,9 @@
  * fine enough for every mode that matters (logarithmic in t for the decays,
  * about 25 points per period for the oscillations, as long as each lasts);
  * the extrema between samples (roots of y') and every reported time are then
- * refined by Brent's method to a relative 1e-12 in t.
+ * refined by Brent's method to a relative 1e-12 in t. A mode whose term
+ * stays below 1e-7 of the response's scale is not followed in time, so an
+ * overshoot or undershoot smaller than that is reported as none.
  *
  * Ownership: step_form_new allocates the modal form of one response's read-
  * out; step_form_free releases it (NULL accepted). */

@@ -13,4 +13,8 @@ char *si_format_signed(double v, const char *unit, char *buf, size_t size);
  * search refined beyond three digits). */
 char *si_format_digits(double v, const char *unit, int digits, char *buf, size_t size);
 
+/* A percentage for people: 3 significant digits ("37.2%"), whole numbers
+ * from 1000 on ("2218%") rather than an exponent. */
+char *pct_format(double v, char *buf, size_t size);
+
 #endif

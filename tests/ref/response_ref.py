@@ -66,8 +66,25 @@ class Resp:
         self.poles = sorted(lam, key=lambda z: (abs(z), z.imag))
         self.stable = all(z.real < 0 for z in lam)
         self.dc = np.linalg.solve(self.G, self.b0)[self.to]
+        self.reaches = self.path()
+        if not self.reaches:
+            return
         self.realize()
         self.find_zeros()
+
+    def path(self):
+        """Whether a chain of couplings (nonzero G or C entries) leads from
+        the source to the read-out: otherwise H is identically zero."""
+        P = (self.G != 0) | (self.C != 0)
+        seen = set(np.flatnonzero((self.b0 != 0) | (self.b1 != 0)))
+        todo = list(seen)
+        while todo:
+            k = todo.pop()
+            for l in np.flatnonzero(P[:, k]):
+                if l not in seen:
+                    seen.add(l)
+                    todo.append(l)
+        return self.to in seen
 
     def find_zeros(self):
         """Finite eigenvalues of the bordered pencil; a candidate on a pole
@@ -279,12 +296,52 @@ break g
 
 # ---- comparison -----------------------------------------------------------
 
+# Responses of the demo cases, checked as the generated ones are.
+CASES = [("regulator.loop", "--to out --from vin"), ("regulator.loop", "--to out --inject out"),
+         ("regulator.loop", "--to gate --from vin"), ("regulator.loop", "--to out --inject each")]
+
+
 def directives(path):
     out = []
     for line in open(path, encoding="utf-8"):
         if line.startswith("#% response "):
             out.append(line[len("#% response "):].split())
     return out
+
+
+def compare_each(path, to, exe, tally):
+    """--inject each against one reference step per node, and its order."""
+    net = R.parse_loop_file(path)
+    L = "%s [--to %s --inject each]: " % (os.path.basename(path), to)
+    proc = subprocess.run([exe, "response", path, "--json", "--to", to, "--inject", "each"],
+                          capture_output=True, timeout=120)
+    try:
+        d = json.loads(proc.stdout)
+    except ValueError:
+        tally.check(False, L + "json", proc.stdout[:200])
+        return
+    got = {i["node"]: i for i in d["injections"]}
+    tally.check(sorted(got) == sorted(net.nodes), L + "every node", repr(sorted(got)))
+    for node in net.nodes:
+        ref = Resp(net, to, "inject", node)
+        g = got.get(node)
+        if g is None:
+            continue
+        if not ref.reaches:
+            tally.check(g["final"] == 0 and g["peak_value"] == 0 and g["overshoot_pct"] is None,
+                        L + node + " does not reach " + to, repr(g))
+            continue
+        s = ref.step()
+        scale = max(abs(s["final"]), abs(s["peak_value"]))
+        R.num_close(tally, L + node + " final", s["final"], g["final"], abs_=1e-9 * scale)
+        R.num_close(tally, L + node + " peak", s["peak_value"], g["peak_value"], abs_=1e-9 * scale)
+        R.num_close(tally, L + node + " overshoot", s["overshoot_pct"], g["overshoot_pct"],
+                    abs_=1e-6)
+        R.num_close(tally, L + node + " settle 1%", s["settle_s"]["1"], g["settle_1pct_s"],
+                    rel=1e-7)
+    key = [(i["overshoot_pct"] is None, i["overshoot_pct"] or 0, i["settle_1pct_s"])
+           for i in d["injections"]]
+    tally.check(key == sorted(key), L + "ranked by overshoot, then settling", repr(key))
 
 
 def compare(path, args, exe, tally):
@@ -409,6 +466,16 @@ def main(argv):
     for path in files:
         for args in directives(path):
             compare(path, args, exe, tally)
+    if not [a for a in argv[1:] if a.endswith(".loop")]:
+        cases = os.path.join(HERE, "..", "..", "cases")
+        for name, args in CASES:
+            path = os.path.join(cases, name)
+            if "each" in args:
+                compare_each(path, args.split()[1], exe, tally)
+            else:
+                compare(path, args.split(), exe, tally)
+        for k in (0, 5, 13):
+            compare_each(os.path.join(HERE, "resp", "gen%02d.loop" % k), "a1", exe, tally)
     print("%d passed, %d failed" % (tally.passed, tally.failed))
     return 1 if tally.failed else 0
 
