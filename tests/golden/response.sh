@@ -155,5 +155,31 @@ for args in "--to out" "--to out --step" "--to cx --inject cx --step" "--to out 
     grep -qiw "nan\|inf\|-inf" "$tmp/t" && bad "response $args: nan or inf in the output" || ok
 done
 
+# ---- sweep --to: the margin and its price at every point --------------------
+# Over rout the damping of tests/golden/second_order.loop runs from zeta 0.2
+# to 0.9 (zeta = 1/(2 wn rout c)); each point's overshoot must be the closed
+# form exp(-pi zeta / sqrt(1 - zeta^2)) (textbook, from memory) and its peak
+# 1/(2 zeta sqrt(1 - zeta^2)) below zeta = 1/sqrt(2), 0 dB above.
+SO=tests/golden/second_order.loop
+"$LW" sweep $SO --vary rout --from 44.3k --to 199k --points 6 --to out --json >"$tmp/sw.json" 2>"$tmp/e"
+$PY - "$tmp/sw.json" <<'PYEOF' && ok || bad "sweep --to: overshoot and peak per point $(head -n 1 "$tmp/e")"
+import json, math, sys
+d = json.load(open(sys.argv[1]))
+wn, c = 2 * math.pi * 2e6, 1e-12
+for p in d["points"]:
+    z = 1 / (2 * wn * p["value"] * c)
+    assert 0.19 < z < 0.95, z
+    os_ = 100 * math.exp(-math.pi * z / math.sqrt(1 - z * z))
+    assert abs(p["overshoot_pct"] - os_) < 1e-7 * os_, (z, p["overshoot_pct"], os_)
+    mp = 20 * math.log10(1 / (2 * z * math.sqrt(1 - z * z))) if z < 2 ** -0.5 else 0.0
+    assert abs(p["peak_db"] - mp) < 1e-7, (z, p["peak_db"], mp)
+    assert p["settle_1pct_s"] > 0
+PYEOF
+"$LW" sweep $SO --vary rout --from 44.3k --to 199k --points 4 --to out --csv - >"$tmp/sw.csv" 2>/dev/null
+head -n 1 "$tmp/sw.csv" | grep -q ',stable,overshoot_pct,settle_1pct_s,peak_db$' &&
+    [ "$(wc -l <"$tmp/sw.csv")" = 5 ] && ok || bad "sweep --to --csv columns"
+"$LW" sweep $SO --vary rout --from 44.3k --to 199k --points 4 --to out >"$tmp/o" 2>/dev/null
+grep -q "overshoot   settles 1%  peak |H|" "$tmp/o" && ok || bad "sweep --to: the text table's columns"
+
 echo "response: $pass passed, $fail failed"
 [ "$fail" = 0 ]
