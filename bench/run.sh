@@ -58,6 +58,25 @@ case " $SIZES " in
             "side); BENCH_FULL=1 runs 20 points." ;;
     esac ;;
 esac
+# Closed-loop responses (issue 11): 'response --step' and '--inject each'
+# on the 32- and 128-node networks, and a 200-point 'sweep --to' at 32 nodes,
+# against the same figures done the ordinary way (bench/ref_response.py).
+echo
+echo "  CC      bench/bench_response.c"
+${CC:-cc} -std=c11 -D_POSIX_C_SOURCE=200809L -Wall -Wextra -Wshadow -Wconversion \
+    -Wstrict-prototypes -Wmissing-prototypes -Wno-sign-conversion -O2 -g -fopenmp -Iinclude \
+    $(pkg-config --cflags gsl lapacke) -o "$OUT/bench_response" bench/bench_response.c \
+    build/libloopwise.a $(pkg-config --libs gsl lapacke) -lm
+RESP_NETS=""
+for n in 32 128; do
+    [ -f "$OUT/chain$n.loop" ] || $PY bench/gen_net.py "$OUT" $n >/dev/null
+    RESP_NETS="$RESP_NETS $OUT/chain$n.loop"
+done
+echo "  REF     numpy/scipy responses (sweep --to: 32=200)"
+env -u OPENBLAS_CORETYPE -u OPENBLAS_L2_SIZE $PY bench/ref_response.py --budget "$BUDGET" \
+    --sweep 32=200 $RESP_NETS >"$OUT/ref_response.json"
+"$OUT/bench_response" --budget "$BUDGET" --ref "$OUT/ref_response.json" --sweep 32=200 $RESP_NETS
+
 # Monte Carlo: 100,000 samples of a ten-node loop (bench/mc10.loop), both
 # cores, timed as the command runs; three runs, because on a shared machine
 # one run can land on a busy core.

@@ -251,7 +251,7 @@ int modal_new(int r, const double *A, const double *c, modal **out, lw_error *er
     if (mf) {
         mf->r = r;
         mf->Sinv = malloc(sizeof(double) * rr);
-        mf->tmp = malloc(sizeof(double) * (size_t)(r + 1));
+        mf->tmp = malloc(sizeof(double) * (size_t)(2 * r + 2));
         mf->modes = calloc((size_t)r + 1, sizeof *mf->modes);
     }
     if (!mf || !T || !Z || !dv || !iv || !ev || !sel || !mf->Sinv || !mf->tmp || !mf->modes) {
@@ -433,4 +433,36 @@ double modal_term(modal *mf, int k, const double *w, double t)
     for (int i = 0; i < md->size; i++)
         s += row[i] * wk[i];
     return s;
+}
+
+double modal_value(modal *mf, const double *w, const double *lamp, double lfloor, double t,
+                   double *dy)
+{
+    double y = 0, d = 0;
+    for (int k = 0; k < mf->nmodes; k++) {
+        modal_mode *md = &mf->modes[k];
+        const double *wk = w + md->woff;
+        if (md->kind != MODE_CLUSTER && lamp && lamp[k] + creal(md->p) * t < lfloor)
+            continue; /* a term that small cannot move the sum */
+        if (md->kind == MODE_REAL) {
+            double e = creal(md->cp) * exp(creal(md->p) * t) * wk[0];
+            y += e;
+            d += creal(md->p) * e;
+        } else if (md->kind == MODE_PAIR) {
+            double complex e = md->cp * cexp(md->p * t) * (wk[0] + I * wk[1]);
+            y += 2 * creal(e);
+            d += 2 * creal(md->p * e);
+        } else {
+            double *row = mf->tmp, *drow = mf->tmp + md->size;
+            if (cluster_row(md, t, row, drow))
+                return NAN;
+            for (int i = 0; i < md->size; i++) {
+                y += row[i] * wk[i];
+                d += drow[i] * wk[i];
+            }
+        }
+    }
+    if (dy)
+        *dy = d;
+    return y;
 }

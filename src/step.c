@@ -17,9 +17,12 @@
 /* The settling bands and the slow mode's threshold. */
 #define BAND_1 1e-2
 #define BAND_01 1e-3
-/* Samples per decade of t, and per radian of an oscillation. */
+/* Samples per decade of t, and per radian of an oscillation: with y' at
+ * every sample (one response), and with y alone, where an extremum shows as
+ * a turn of the samples (--inject each: about 12 per period). */
 #define PER_DECADE 64
 #define PER_RADIAN 4.0
+#define EACH_PER_RADIAN 2.0
 /* Bounds on the samples: of one oscillating mode, and in all. */
 #define MODE_POINTS 20000
 #define MAX_POINTS 100000
@@ -89,6 +92,8 @@ typedef struct yctx {
     step_form *sf;
     const double *w;
     double final, level;
+    const double *lamp;     /* ln of each mode's amplitude, or NULL */
+    double lfloor;          /* terms below e^lfloor are left out */
 } yctx;
 
 static double dot(const double *a, const double *b, int n)
@@ -102,17 +107,27 @@ static double dot(const double *a, const double *b, int n)
 static double y_at(double t, void *p)
 {
     yctx *c = p;
-    if (modal_rows(c->sf->mf, t, c->sf->ry, NULL))
-        return NAN;
-    return c->final + dot(c->sf->ry, c->w, c->sf->nw) - c->level;
+    return c->final + modal_value(c->sf->mf, c->w, c->lamp, c->lfloor, t, NULL) - c->level;
 }
 
 static double dy_at(double t, void *p)
 {
     yctx *c = p;
-    if (modal_rows(c->sf->mf, t, c->sf->ry, c->sf->rd))
-        return NAN;
-    return dot(c->sf->rd, c->w, c->sf->nw);
+    double d;
+    modal_value(c->sf->mf, c->w, c->lamp, c->lfloor, t, &d);
+    return d;
+}
+
+/* What y_at may leave out: terms below 1e-18 of the response's scale, far
+ * under the rounding of the sum. lamp gets nmodes values. */
+static void envelope(step_form *sf, const double *w, double scale, double *lamp, yctx *c)
+{
+    for (int k = 0; k < sf->mf->nmodes; k++) {
+        double a = modal_amplitude(sf->mf, k, w);
+        lamp[k] = a > 0 ? log(a) : -INFINITY;
+    }
+    c->lamp = lamp;
+    c->lfloor = scale > 0 ? log(1e-18 * scale) : -INFINITY;
 }
 
 /* Brent's method on [a, b] (seconds) where fn changes sign: to 1e-12
@@ -176,7 +191,8 @@ static int cmp_double(const void *a, const void *b)
  * mode's time scale to the end, and PER_RADIAN per radian of each
  * oscillating mode while it lasts. life[k] is 0 for a mode that does not
  * matter. */
-static double *time_grid(const modal *mf, const double *life, int cap, int *n, double *t_end)
+static double *time_grid(const modal *mf, const double *life, double per_radian, int cap, int *n,
+                         double *t_end)
 {
     double tend = 0, fast = 0, slow = INFINITY;
     for (int k = 0; k < mf->nmodes; k++) {
@@ -201,7 +217,7 @@ static double *time_grid(const modal *mf, const double *life, int cap, int *n, d
     for (int k = 0; k < mf->nmodes; k++) {
         double im = fabs(cimag(mf->modes[k].p));
         if (life[k] > 0 && im > 0) {
-            double pts = life[k] * cabs(mf->modes[k].p) * PER_RADIAN;
+            double pts = life[k] * cabs(mf->modes[k].p) * per_radian;
             nosc[k] = pts > MODE_POINTS ? MODE_POINTS : (int)pts + 1;
             total += nosc[k];
         }
@@ -266,23 +282,75 @@ static double last_exceed(yctx *c, const double *pt, const double *py, int m, do
     return t;
 }
 
-/* Every figure but the slow mode from samples t, y, dy (n of them, t[0] = 0
- * with y[0] = y(0+)); pt, py are workspace of 2n. */
+/* An extremum of y between a and b where y' changes sign, appended to the
+ * merged samples. */
+static void extremum(yctx *c, double a, double b, double *pt, double *py, int *m)
+{
+    double te = refine(dy_at, c, a, b);
+    if (te > a && te < b) {
+        pt[*m] = te;
+        py[(*m)++] = y_at(te, c);
+    }
+}
+
+/* Every figure but the slow mode from samples t, y (n of them, t[0] = 0 with
+ * y[0] = y(0+)) and the slopes dy there; pt, py are workspace of 2n. Without
+ * dy (--inject each, where every node's y comes from one product with the
+ * shared rows) an extremum is where the sampled y turns, and y' is found
+ * exactly only around it. The merged list (samples and extrema in time
+ * order) is monotone between neighbours, but for turns that cannot decide a
+ * figure (without dy; the rise time is then not meaningful). */
 static void figures(yctx *c, const double *t, const double *y, const double *dy, int n,
                     double *pt, double *py, step_result *o)
 {
     int m = 0;
-    double fin = c->final;
+    double fin = c->final, big = 0, sg = fin > 0 ? 1 : (fin < 0 ? -1 : 0);
+    /* a turn within a millionth of the scale from the final value decides no
+     * figure (the overshoot's resolution is coarser, the bands wider), and
+     * there the samples' rounding makes turns of its own: not refined */
+    for (int i = 0; i < n; i++)
+        big = fmax(big, fabs(y[i]));
+    double scale = fin != 0 ? fabs(fin) : big, quiet = 1e-6 * scale;
+    /* Without y' a turn of the samples is refined only when it may decide a
+     * figure: a true extremum exceeds its samples by a few percent of the
+     * swing at most (4 samples per radian: 1 - cos(1/4) = 3%), so a turn 10%
+     * short of the best sample is not the peak (nor the undershoot), and
+     * one before the last sample outside the 1% band, or well inside the
+     * band, does not set the settling time. */
+    double top = 0, wrong = 0;
+    int last_out = 0;
+    for (int i = 0; !dy && i < n; i++) {
+        top = fmax(top, sg != 0 ? sg * (y[i] - fin) : fabs(y[i]));
+        wrong = fmax(wrong, -sg * y[i]);
+        if (fabs(y[i] - fin) > BAND_1 * scale)
+            last_out = i;
+    }
     for (int i = 0; i < n; i++) {
-        pt[m] = t[i];
-        py[m++] = y[i];
-        if (i + 1 < n && ((dy[i] > 0 && dy[i + 1] < 0) || (dy[i] < 0 && dy[i + 1] > 0))) {
-            double te = refine(dy_at, c, t[i], t[i + 1]);
-            if (te > t[i] && te < t[i + 1]) {
-                pt[m] = te;
-                py[m++] = y_at(te, c);
+        double v = i >= 1 ? y[i - 1] : 0;
+        int decides = dy || (sg != 0 ? sg * (v - fin) : fabs(v)) >= 0.9 * top ||
+                      (wrong > 0 && -sg * v >= 0.9 * wrong) ||
+                      (i - 1 >= last_out && fabs(v - fin) >= 0.5 * BAND_1 * scale);
+        if (!dy && i >= 2 && (y[i - 1] - y[i - 2]) * (y[i] - y[i - 1]) < 0 &&
+            fabs(y[i - 1] - fin) > quiet && decides) {
+            /* the turn lies in (t[i-2], t[i]); y' there decides on which side
+             * of the sample t[i-1] (already in the list) */
+            double d1 = dy_at(t[i - 1], c);
+            int before = (y[i - 1] - y[i - 2]) * d1 < 0;
+            if (before) {
+                double keep_t = pt[m - 1], keep_y = py[m - 1];
+                m--;
+                extremum(c, t[i - 2], t[i - 1], pt, py, &m);
+                pt[m] = keep_t;
+                py[m++] = keep_y;
+            } else {
+                extremum(c, t[i - 1], t[i], pt, py, &m);
             }
         }
+        pt[m] = t[i];
+        py[m++] = y[i];
+        if (dy && i + 1 < n && ((dy[i] > 0 && dy[i + 1] < 0) || (dy[i] < 0 && dy[i + 1] > 0)) &&
+            (fabs(y[i] - fin) > quiet || fabs(y[i + 1] - fin) > quiet))
+            extremum(c, t[i], t[i + 1], pt, py, &m);
     }
     double sgn = fin > 0 ? 1 : (fin < 0 ? -1 : 0);
     int best = 0, lo = 0;
@@ -386,19 +454,21 @@ int step_run(step_form *sf, const response_result *res, step_result *o, lw_error
     o->final = res->dc;
     if (res->zero)
         memset(sf->w, 0, sizeof(double) * (size_t)sf->nw);
-    yctx c = { sf, sf->w, res->dc, 0 };
+    yctx c = { sf, sf->w, res->dc, 0, NULL, 0 };
     double scale = response_scale(sf, sf->w, res->dc);
-    double *life = malloc(sizeof(double) * (size_t)(sf->mf->nmodes + 1));
+    double *life = malloc(sizeof(double) * (size_t)(2 * sf->mf->nmodes + 1));
     if (!life)
         return lw_error_set(err, LW_ENOMEM, "out of memory");
+    double *lamp = life + sf->mf->nmodes;
+    envelope(sf, sf->w, scale, lamp, &c);
     for (int k = 0; k < sf->mf->nmodes; k++)
         life[k] = lifetime(sf, k, sf->w, SIGNIFICANT * scale);
     int n;
-    double *t = time_grid(sf->mf, life, MAX_POINTS, &n, &o->t_end);
+    double *t = time_grid(sf->mf, life, PER_RADIAN, MAX_POINTS, &n, &o->t_end);
     double *buf = t ? malloc(sizeof(double) * (size_t)(6 * n)) : NULL;
-    free(life);
     if (!t || !buf) {
         free(t);
+        free(life);
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
     double *y = buf, *dy = y + n, *pt = dy + n, *py = pt + 2 * n;
@@ -412,6 +482,7 @@ int step_run(step_form *sf, const response_result *res, step_result *o, lw_error
     }
     free(t);
     free(buf);
+    free(life);
     return rc;
 }
 
@@ -419,7 +490,7 @@ double step_value(step_form *sf, const step_result *sr, double t)
 {
     if (t <= 0)
         return sr->initial;
-    yctx c = { sf, sf->w, sr->final, 0 };
+    yctx c = { sf, sf->w, sr->final, 0, NULL, 0 };
     return y_at(t, &c);
 }
 
@@ -455,14 +526,14 @@ int step_each(response *rs, step_form *sf, const int *nodes, int nn, step_each_i
             life[k] = fmax(life[k], lifetime(sf, k, wj, SIGNIFICANT * scl[j]));
     }
     double tend;
-    if (!(t = time_grid(sf->mf, life, EACH_POINTS, &n, &tend))) {
+    if (!(t = time_grid(sf->mf, life, EACH_PER_RADIAN, EACH_POINTS, &n, &tend))) {
         rc = lw_error_set(err, LW_ENOMEM, "out of memory");
         goto done;
     }
-    /* rows for every sample, then every node's y and y' in two products:
-     * [Y; DY] = [R; Rd] W */
-    R = malloc(sizeof(double) * (size_t)(2 * n) * (size_t)nw);
-    Y = malloc(sizeof(double) * (size_t)(2 * n) * (size_t)nn);
+    /* rows for every sample, then every node's y in one product Y = R W;
+     * y' only where the sampled y turns (figures) */
+    R = malloc(sizeof(double) * (size_t)n * (size_t)nw);
+    Y = malloc(sizeof(double) * (size_t)n * (size_t)nn);
     double *ws = malloc(sizeof(double) * (size_t)(6 * n + 1));
     if (!R || !Y || !ws) {
         free(ws);
@@ -470,27 +541,26 @@ int step_each(response *rs, step_form *sf, const int *nodes, int nn, step_each_i
         goto done;
     }
     for (int i = 0; i < n && !rc; i++)
-        if (modal_rows(sf->mf, t[i], R + (size_t)i * nw, R + (size_t)(n + i) * nw))
+        if (modal_rows(sf->mf, t[i], R + (size_t)i * nw, NULL))
             rc = lw_error_set(err, LW_ENUMERIC, "the matrix exponential of a repeated pole failed");
     if (!rc) {
-        gsl_matrix_view Rv = gsl_matrix_view_array(R, (size_t)(2 * n), (size_t)nw);
+        gsl_matrix_view Rv = gsl_matrix_view_array(R, (size_t)n, (size_t)nw);
         gsl_matrix_view Wv = gsl_matrix_view_array(W, (size_t)nw, (size_t)nn);
-        gsl_matrix_view Yv = gsl_matrix_view_array(Y, (size_t)(2 * n), (size_t)nn);
+        gsl_matrix_view Yv = gsl_matrix_view_array(Y, (size_t)n, (size_t)nn);
         gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, &Rv.matrix, &Wv.matrix, 0.0, &Yv.matrix);
     }
-    double *y = ws, *dy = y + n, *pt = dy + n, *py = pt + 2 * n;
+    double *y = ws, *pt = y + 2 * n, *py = pt + 2 * n;
     for (int j = 0; j < nn && !rc; j++) {
         for (int k = 0; k < nw; k++)
             wj[k] = W[k * nn + j];
-        for (int i = 0; i < n; i++) {
+        for (int i = 0; i < n; i++)
             y[i] = fin[j] + Y[(size_t)i * nn + j];
-            dy[i] = Y[(size_t)(n + i) * nn + j];
-        }
         y[0] = out[j].reaches ? ini[j] : 0;
-        yctx c = { sf, wj, fin[j], 0 };
+        yctx c = { sf, wj, fin[j], 0, NULL, 0 };
+        envelope(sf, wj, scl[j], life, &c); /* life is free by now */
         step_result o;
         memset(&o, 0, sizeof o);
-        figures(&c, t, y, dy, n, pt, py, &o);
+        figures(&c, t, y, NULL, n, pt, py, &o);
         out[j].final = fin[j];
         out[j].peak_value = o.peak_value;
         out[j].overshoot_pct = o.overshoot_pct;

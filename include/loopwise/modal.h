@@ -50,7 +50,7 @@ typedef struct modal {
     int nmodes;
     modal_mode *modes;
     double *Sinv;           /* r x r row-major: b~ = Sinv b */
-    double *tmp;            /* r values */
+    double *tmp;            /* 2 r values */
 } modal;
 
 int modal_new(int r, const double *A, const double *c, modal **out, lw_error *err);
@@ -64,6 +64,11 @@ int modal_rows(modal *mf, double t, double *ry, double *rd);
  * a pair, and for a cluster the sum of its read-out entries times weights
  * (an upper bound of its term's size at 0+). */
 double modal_amplitude(const modal *mf, int k, const double *w);
+/* y(t) - y(inf) for weights w, and y'(t) in *dy (may be NULL), summed mode
+ * by mode; with lamp (ln of each mode's modal_amplitude) a real or paired
+ * term whose envelope lamp[k] + Re(p) t is below lfloor is left out. */
+double modal_value(modal *mf, const double *w, const double *lamp, double lfloor, double t,
+                   double *dy);
 /* Mode k's term alone at time t (for a cluster's lifetime). */
 double modal_term(modal *mf, int k, const double *w, double t);
 
