@@ -2,6 +2,7 @@
  * exact evaluation and the structure of H. See response.h for the method. */
 #include "loopwise/response.h"
 
+#include <gsl/gsl_eigen.h>
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_linalg.h>
 #include <math.h>
@@ -136,6 +137,56 @@ static int reaches(const response *rs, const double *b0, const double *b1)
     return found;
 }
 
+/* w with C w = b1 (b1 in the range of C: see response.h). C is symmetric and
+ * positive semidefinite; scaled to a unit diagonal where it has one,
+ * D C D = V diag(l) V^T (GSL's symmetric eigensolver), and
+ * w = D V diag(1/l) V^T D b1 over the eigenvalues above 1e-12 of the largest:
+ * the least-norm solution, which serves as well as any. */
+static int c_solve(const response *rs, double *w, lw_error *err)
+{
+    int n = rs->n, rc = LW_OK;
+    gsl_matrix *A = gsl_matrix_alloc((size_t)n, (size_t)n), *V = gsl_matrix_alloc((size_t)n, (size_t)n);
+    gsl_vector *l = gsl_vector_alloc((size_t)n);
+    gsl_eigen_symmv_workspace *ws = gsl_eigen_symmv_alloc((size_t)n);
+    double *d = malloc(sizeof(double) * (size_t)(2 * n));
+    if (!A || !V || !l || !ws || !d) {
+        rc = lw_error_set(err, LW_ENOMEM, "out of memory");
+        goto done;
+    }
+    double *q = d + n;
+    for (int i = 0; i < n; i++)
+        d[i] = rs->C[i * n + i] > 0 ? 1.0 / sqrt(rs->C[i * n + i]) : 1.0;
+    for (int i = 0; i < n; i++)
+        for (int j = 0; j < n; j++)
+            gsl_matrix_set(A, (size_t)i, (size_t)j, d[i] * rs->C[i * n + j] * d[j]);
+    if (gsl_eigen_symmv(A, l, V, ws) != GSL_SUCCESS) {
+        rc = lw_error_set(err, LW_ENUMERIC, "the eigensolver failed on the capacitance matrix");
+        goto done;
+    }
+    double lmax = 0;
+    for (int k = 0; k < n; k++)
+        lmax = fmax(lmax, gsl_vector_get(l, (size_t)k));
+    for (int k = 0; k < n; k++) {
+        double lk = gsl_vector_get(l, (size_t)k), s = 0;
+        for (int j = 0; j < n && lk > 1e-12 * lmax; j++)
+            s += gsl_matrix_get(V, (size_t)j, (size_t)k) * d[j] * rs->b1[j];
+        q[k] = lk > 1e-12 * lmax ? s / lk : 0;
+    }
+    for (int i = 0; i < n; i++) {
+        double s = 0;
+        for (int k = 0; k < n; k++)
+            s += gsl_matrix_get(V, (size_t)i, (size_t)k) * q[k];
+        w[i] = d[i] * s;
+    }
+done:
+    gsl_matrix_free(A);
+    gsl_matrix_free(V);
+    gsl_vector_free(l);
+    gsl_eigen_symmv_free(ws);
+    free(d);
+    return rc;
+}
+
 /* u' = [b0 - G w; g w_to] with C w = b1 (see response.h). */
 static int fill_u(response *rs, double *u, lw_error *err)
 {
@@ -144,15 +195,7 @@ static int fill_u(response *rs, double *u, lw_error *err)
         nonzero |= rs->b1[k] != 0;
     memset(rs->w, 0, sizeof(double) * (size_t)n);
     if (nonzero) {
-        double *b1a = malloc(sizeof(double) * (size_t)(2 * n + 2));
-        if (!b1a)
-            return lw_error_set(err, LW_ENOMEM, "out of memory");
-        memcpy(b1a, rs->b1, sizeof(double) * (size_t)n);
-        b1a[n] = 0;
-        int rc = pencil_c_solve(rs->p, b1a, b1a + n + 1, err);
-        if (!rc)
-            memcpy(rs->w, b1a + n + 1, sizeof(double) * (size_t)n);
-        free(b1a);
+        int rc = c_solve(rs, rs->w, err);
         if (rc)
             return rc;
     }

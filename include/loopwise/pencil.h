@@ -90,10 +90,6 @@ int pencil_hess_eigen(const pencil_hess *h, double complex *eig, lw_error *err);
  * For a unit io the factors d_in d_out are left out, as above. */
 int pencil_state_space(const pencil *p, const pencil_io *io, double *A, double *b, double *c,
                        double *d, lw_error *err);
-/* A solution w (n values) of C w = b1 for b1 in the range of C (the network's
- * capacitance matrix): the step that turns an input coupled through a
- * capacitor, b(s) = b0 + s b1, into a proper transfer (response.c). */
-int pencil_c_solve(const pencil *p, const double *b1, double *w, lw_error *err);
 
 /* The diagonal scaling factor d_k of node k. */
 double pencil_scale(const pencil *p, int k);
