@@ -42,6 +42,8 @@ COMMANDS = {
               "--yield", "80%"]],
     "sweep": [["--vary", "{cap}", "--from", "1f", "--to", "1n", "--points", "6"],
               ["--vary", "{res}", "--from", "1", "--to", "10M", "--points", "6", "--csv", "-"],
+              ["--vary", "{cap}", "--from", "1f", "--to", "1n", "--points", "4", "--to", "{node}",
+               "--inject", "{node}"],
               # issue 18: the two-value map
               ["--vary", "{cap}", "--from", "1f", "--to", "1n", "--vary", "{res}", "--from", "1",
                "--to", "10M", "--points", "4"],
@@ -53,6 +55,11 @@ COMMANDS = {
     "corners": [["--gm", "6"], ["--levels", "3"]],
     "montecarlo": [["--samples", "40", "--seed", "3", "--yield", "90%"],
                    ["--samples", "1", "--seed", "1", "--gm", "6"]],
+    # a current into the first node, read there (every file has a node, few
+    # an input): H, its table and the step, and every node's step
+    "response": [["--to", "{node}", "--inject", "{node}", "--step", "--points", "20"],
+                 ["--to", "{node}", "--inject", "{node}", "--points", "20", "--csv", "-"],
+                 ["--to", "{node}", "--inject", "each"]],
 }
 
 # The commands that only draw refuse --json (exit 2): not run with it.

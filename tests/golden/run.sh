@@ -83,7 +83,7 @@ refuse "roots draws a picture: give -o FILE.png or FILE.svg" roots cases/twostag
 refuse "-o 'p.pdf': the plot file must end in .png or .svg" polar cases/twostage.loop -o p.pdf
 refuse "--json goes with the commands that report numbers, not 'polar'" polar cases/twostage.loop -o "$tmp/p.png" --json
 refuse "--json goes with the commands that report numbers, not 'roots'" roots cases/twostage.loop -o "$tmp/p.png" --json
-refuse "--csv goes with 'gain' or 'sweep', not 'polar'" polar cases/twostage.loop -o "$tmp/p.png" --csv "$tmp/p.csv"
+refuse "--csv goes with 'gain', 'sweep' or 'response', not 'polar'" polar cases/twostage.loop -o "$tmp/p.png" --csv "$tmp/p.csv"
 refuse "--each goes with 'gain -o'" polar cases/twostage.loop -o "$tmp/p.png" --each
 refuse "unknown node 'c' (did you mean 'a'?)" polar tests/bad/unknown_node.loop -o "$tmp/p.png"
 refuse "unknown param or element 'nosuch'" polar cases/twostage.loop --set nosuch=1 -o "$tmp/p.png"
