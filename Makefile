@@ -117,6 +117,9 @@ check: all
 # the corners, the compensation for 60 degrees at every corner, and the map
 # of compensation against series resistor; the pictures of its loop gain,
 # roots, polar plot, sweep, load, map and spread.
+# Then the regulator's closed loop: how much supply ripple reaches its output,
+# its step response to a load current, where a current disturbs it least, and
+# the output capacitor chosen with the margin and its price side by side.
 demo: all
 	./loopwise check cases/refcore.loop; test $$? -le 1
 	./loopwise size cases/refcore.loop --tune ccomp --pm 60 --density 2fF/um2
@@ -131,6 +134,10 @@ demo: all
 	./loopwise size cases/refcore.loop --tune ccomp --over corners
 	./loopwise sweep cases/refcore.loop --vary ccomp --from 4p --to 64p --vary rser --from 1k --to 16k --points 40 -o plots/refcore-map.png >/dev/null; test $$? -le 1
 	./loopwise montecarlo cases/refcore.loop --samples 20000 --seed 1 -o plots/refcore-montecarlo.png
+	./loopwise response cases/regulator.loop --to out --points 13 -o plots/regulator-rejection.png
+	./loopwise response cases/regulator.loop --to out --inject out --step --points 7 -o plots/regulator-load-step.png
+	./loopwise response cases/regulator.loop --to out --inject each
+	./loopwise sweep cases/regulator.loop --vary cout --from 0.47u --to 10u --points 7 --to out --inject out
 	@echo "plots written to plots/"
 
 install: all

@@ -236,7 +236,7 @@ int figure_step(const figure_opts *fo, const desc *d, const response_report *rr,
     }
     fprintf(s, "plot '%s' using 1:2 with lines ls 1 title 'y(t)', %.12g with lines lc rgb '%s' "
             "lw 1.2 title 'final value %s', 1/0 with boxes fs solid 0.8 lc rgb '#d5dbe1' "
-            "title '1%% band'\n", plot_path(job, "y.dat"), fin, PLOT_MUTED,
-            si_format(st->final, "V", a, sizeof a));
+            "title '1%% band, \xC2\xB1%s'\n", plot_path(job, "y.dat"), fin, PLOT_MUTED,
+            si_format(st->final, "V", a, sizeof a), si_format(0.01 * base, "V", b, sizeof b));
     return plot_finish(job, fo->keep_dir, err);
 }

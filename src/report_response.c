@@ -174,6 +174,7 @@ static void text_summary(FILE *f, const response_report *rr)
     const response_result *res = rr->res;
     char a[48], b[48], c[48];
     double adc = fabs(res->dc);
+    const char *dbu = rr->from ? "dB" : "dB\xCE\xA9"; /* dB of an impedance: dB ohm */
     if (res->zero) {
         fprintf(f, "  H is zero      no path of resistors, capacitors or gm leads from %s%s to "
                 "'%s': the source does not reach it\n", rr->from ? "input '" : "node '",
@@ -195,12 +196,12 @@ static void text_summary(FILE *f, const response_report *rr)
     if (!(res->peak_value > 0))
         fprintf(f, "  peak           none: |H| is 0\n");
     else if (isnan(res->peak_hz))
-        fprintf(f, "  peak           %.2f dB (%s), approached as f grows without bound\n",
-                db(res->peak_value), h_value(rr, res->peak_value, a, sizeof a));
+        fprintf(f, "  peak           %.2f %s (%s), approached as f grows without bound\n",
+                db(res->peak_value), dbu, h_value(rr, res->peak_value, a, sizeof a));
     else if (res->peak_hz == 0)
         fprintf(f, "  peak           at DC: |H| never rises above |H(0)|\n");
     else
-        fprintf(f, "  peak           %.2f dB (%s) at %s%s%s\n", db(res->peak_value),
+        fprintf(f, "  peak           %.2f %s (%s) at %s%s%s\n", db(res->peak_value), dbu,
                 h_value(rr, res->peak_value, a, sizeof a), si_format(res->peak_hz, "Hz", b, sizeof b),
                 adc > 0 && isfinite(adc) ? ", " : "",
                 adc > 0 && isfinite(adc)
@@ -236,7 +237,7 @@ static void text_step(FILE *f, const response_report *rr)
         fprintf(f, "  overshoot      %s\n", pct_format(s->overshoot_pct, a, sizeof a));
     if (!isnan(s->undershoot_pct))
         fprintf(f, "  undershoot     %s%s\n", pct_format(s->undershoot_pct, a, sizeof a),
-                s->undershoot_pct > 0 ? " (y first moves the wrong way)" : "");
+                s->undershoot_pct > 0 ? " (y swings past 0, away from its final value)" : "");
     if (isnan(s->rise_time))
         fprintf(f, "  rise time      undefined (%s)\n", s->final == 0 ? "the final value is 0"
                 : "y starts beyond 10% of its final value");
