@@ -227,7 +227,10 @@ memcheck: all
 	        "size $(MC) --tune ccomp --over montecarlo --samples 50 --seed 1 --yield 0.8" \
 	        "size tests/golden/nulling.loop --tune cc --tune rz" \
 	        "sweep $(MC) --vary ccomp --from 2p --to 60p --vary rser --from 1k --to 30k --points 5" \
-	        "check tests/ref/nets/10_break_node.loop"; do \
+	        "check tests/ref/nets/10_break_node.loop" \
+	        "response cases/regulator.loop --to out --step --points 20" \
+	        "response cases/regulator.loop --to out --inject each" \
+	        "sweep cases/regulator.loop --vary cout --from 1u --to 4u --points 3 --to out"; do \
 	    $(VG) ./loopwise $$run >/dev/null 2>&1; rc=$$?; \
 	    if [ $$rc -le 1 ] && [ ! -s build/memcheck.log ]; then echo "  MEMCHECK ok      $$run"; \
 	        pass=$$((pass + 1)); \

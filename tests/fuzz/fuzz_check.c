@@ -4,7 +4,7 @@
  * the input as the .loop file:
  *   arguments -> text (every byte checked) -> desc -> (--set) -> desc_eval
  *   -> model -> check -> the command (check, the gain table, size, sweep,
- *   load, corners, montecarlo) -> text, JSON and CSV reports
+ *   load, corners, montecarlo, response) -> text, JSON and CSV reports
  * Standard output and the messages go to /dev/null.
  *
  * Comment lines the parser ignores carry the command line, so the fuzzer
