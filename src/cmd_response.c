@@ -163,8 +163,8 @@ static int run_each(const options *o, const desc *d, response *rs, const check_r
     if (!rc && (!o->csv || strcmp(o->csv, "-"))) {
         report_each(stdout, d, &er, o->json ? OUT_JSON : OUT_TEXT);
         if (!r->stable && !o->json)
-            fputs("The closed loop is UNSTABLE: a pole lies in the right half-plane, so no step "
-                  "settles and there is nothing to rank.\n", stdout);
+            fputs("The closed loop is UNSTABLE (a pole in the right half-plane, or on the "
+                  "j\xCF\x89 axis): no step settles, so there is nothing to rank.\n", stdout);
     }
     step_form_free(sf);
     free(items);

@@ -292,10 +292,17 @@ static void text_response(FILE *f, const desc *d, const response_report *rr)
     if (res->suspect)
         fputs("\nAccuracy warning: the poles and zeros found do not reproduce the exact H "
               "everywhere; confirm the peak with a finer --fmin/--fmax band.\n", f);
-    if (!rr->stable)
-        fputs("\nThe closed loop is UNSTABLE: a pole lies in the right half-plane, so y(t) "
-              "grows without bound and there is no step response. The table is H on the j\xCF\x89 "
-              "axis, a steady state the circuit never reaches.\n", f);
+    int rhp = 0;
+    for (int k = 0; k < rr->ncl; k++)
+        rhp += creal(rr->cl[k]) > 0;
+    if (!rr->stable && rhp)
+        fprintf(f, "\nThe closed loop is UNSTABLE: %d pole%s in the right half-plane, so y(t) "
+                "grows without bound and there is no step response. The table is H on the "
+                "j\xCF\x89 axis, a steady state the circuit never reaches.\n", rhp,
+                rhp > 1 ? "s lie" : " lies");
+    else if (!rr->stable)
+        fputs("\nThe closed loop is MARGINAL: a pole sits on the j\xCF\x89 axis (within "
+              "rounding), so y(t) does not settle and there is no step response.\n", f);
 }
 
 void report_response(FILE *f, const desc *d, const response_report *rr, out_format fmt)
@@ -357,6 +364,10 @@ void report_each(FILE *f, const desc *d, const each_report *er, out_format fmt)
             fputs(k ? ", " : "", f);
             json_root(f, er->cl[k]);
             fputc('}', f);
+        }
+        if (!er->items) {
+            fputs("],\n \"injections\": null}\n", f); /* unstable: no step settles */
+            return;
         }
         fputs("],\n \"injections\": [", f);
         for (int k = 0; k < er->n; k++) {

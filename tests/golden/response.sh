@@ -86,14 +86,14 @@ refuse "--to given twice" response $REG --to out --to fb
 [ $? = 0 ] && [ -s "$tmp/o" ] && ok || bad "response: stable loop must exit 0 ($(head -n 1 "$tmp/e"))"
 "$LW" response $REG --to out --pm 70 >/dev/null 2>&1
 [ $? = 1 ] && ok || bad "response: --pm 70 missed (62.7 deg) must exit 1"
-# the regulator with its output capacitor's series resistance gone: the zero
-# that rescued the phase is gone, the loop rings up (unstable)
-"$LW" response $REG --to out --set esr=1m --step >"$tmp/o" 2>/dev/null
+# the regulator with 10 nF at its output instead of 2.2 uF: the closed-loop
+# pair moves into the right half-plane (+173 kHz +- j1.68 MHz): unstable
+"$LW" response $REG --to out --set cout=10n --step >"$tmp/o" 2>/dev/null
 rc=$?
-"$LW" check $REG --set esr=1m --json 2>/dev/null | $PY -c "import json,sys; sys.exit(0 if json.load(sys.stdin)['stable'] is False else 1)" &&
+"$LW" check $REG --set cout=10n --json 2>/dev/null | $PY -c "import json,sys; sys.exit(0 if json.load(sys.stdin)['stable'] is False else 1)" &&
     [ $rc = 1 ] && grep -q "UNSTABLE" "$tmp/o" && ! grep -q "^Step response" "$tmp/o" && ok ||
     bad "response on an unstable loop: exit $rc, a sentence, no step"
-"$LW" response $REG --to out --set esr=1m --json >"$tmp/u.json" 2>/dev/null
+"$LW" response $REG --to out --set cout=10n --json >"$tmp/u.json" 2>/dev/null
 $PY -c "import json,sys; d=json.load(open(sys.argv[1])); assert d['step'] is None and d['stable'] is False" "$tmp/u.json" &&
     ok || bad "response --json on an unstable loop: step must be null"
 
