@@ -160,7 +160,7 @@ static void text_roots(FILE *f, const double complex *v, int n, const unsigned c
         if (cimag(p) != 0 && creal(p) != 0)
             fprintf(f, "Q %.3g", cabs(p) / (2 * fabs(creal(p))));
         if (hidden && hidden[k])
-            fprintf(f, "%snot seen by H (cancelled by a zero)", cimag(p) != 0 ? "  " : "");
+            fprintf(f, "%snot seen by H", cimag(p) != 0 ? "  " : "");
         if (!hidden && creal(p) > 0)
             fputs("right half-plane zero", f);
         fputc('\n', f);
@@ -176,8 +176,8 @@ static void text_summary(FILE *f, const response_report *rr)
     double adc = fabs(res->dc);
     const char *dbu = rr->from ? "dB" : "dB\xCE\xA9"; /* dB of an impedance: dB ohm */
     if (res->zero) {
-        fprintf(f, "  H is zero      no path of resistors, capacitors or gm leads from %s%s to "
-                "'%s': the source does not reach it\n", rr->from ? "input '" : "node '",
+        fprintf(f, "  H is zero      no path of resistors, capacitors or gms leads from %s '%s' "
+                "to '%s': the source does not reach it\n", rr->from ? "input" : "node",
                 rr->from ? rr->from : rr->inject, rr->to);
         return;
     }
