@@ -342,6 +342,9 @@ static int parse_options(int argc, char **argv, options *o)
         return usage_error("%s", "sweep takes one source: --inject NODE, not each");
     if (swp && (o->from_node || o->inject) && !o->to_node)
         return usage_error("%s", "sweep --from INPUT or --inject NODE needs --to NODE as well");
+    if (swp && o->to_node && o->nvary == MAX_AXES)
+        return usage_error("%s", "sweep --to NODE reads a response along one --vary, not over a "
+                           "map of two");
     if (o->plot && (!strcmp(o->command, "check") || !strcmp(o->command, "size") ||
                     !strcmp(o->command, "corners")))
         return usage_error("-o draws a picture with gain, roots, polar, sweep, load or "

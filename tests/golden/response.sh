@@ -79,7 +79,9 @@ refuse "-o draws one response; with --inject each" response $REG --to out --inje
 [ ! -e "$tmp/r.png" ] && ok || bad "--inject each -o wrote a picture"
 refuse "sweep takes one source: --inject NODE, not each" sweep $REG --vary esr --from 0.1 --to 1 --to out --inject each
 refuse "sweep --from INPUT or --inject NODE needs --to NODE as well" sweep $REG --vary esr --from 0.1 --to 1 --inject out
-refuse "--to given twice" response $REG --to out --to fb
+refuse "--to NODE given twice" response $REG --to out --to fb
+refuse "sweep --to NODE reads a response along one --vary, not over a map of two" sweep $REG \
+    --vary esr --from 0.1 --to 1 --vary cout --from 1u --to 4u --to out
 
 # ---- exit codes ------------------------------------------------------------
 "$LW" response $REG --to out >"$tmp/o" 2>"$tmp/e"
