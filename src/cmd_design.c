@@ -243,6 +243,9 @@ int cmd_load(const options *o, desc *d, int *code, lw_error *err)
     if (!strcmp(o->node, "gnd"))
         return lw_error_set(err, LW_EINPUT, "--node gnd: ground cannot carry a load; name a "
                             "declared node");
+    if (desc_find_input(d, o->node) >= 0)
+        return lw_error_set(err, LW_EINPUT, "--node %s: '%s' is an input, an ideal source: a "
+                            "load there changes nothing; name a declared node", o->node, o->node);
     int node = desc_find_node(d, o->node);
     if (node < 0) {
         const char **c = malloc(sizeof *c * (size_t)(d->nnodes + 1));

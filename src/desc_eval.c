@@ -280,6 +280,9 @@ int desc_target_find(const desc *d, const char *name, desc_target *t, lw_error *
         memcpy(node, name, l);
         node[l] = '\0';
         int k = desc_find_node(d, node);
+        if (k < 0 && desc_find_input(d, node) >= 0)
+            return lw_error_set(err, LW_EINPUT, "'%s': '%s' is an input, an ideal source with "
+                                "no r or c; change what connects it instead", name, node);
         if (k < 0)
             return lw_error_set(err, LW_EINPUT, "'%s': unknown node '%s'", name, node);
         if (strcmp(dot, ".r") && strcmp(dot, ".c"))
@@ -300,6 +303,9 @@ int desc_target_find(const desc *d, const char *name, desc_target *t, lw_error *
     if (desc_find_node(d, name) >= 0)
         return lw_error_set(err, LW_EINPUT, "'%s' is a node; name its field as %s.r or %s.c",
                             name, name, name);
+    if (desc_find_input(d, name) >= 0)
+        return lw_error_set(err, LW_EINPUT, "'%s' is an input, not a param or an element; name "
+                            "an element that connects it", name);
     int n = d->nparams + d->nelems;
     const char **c = malloc(sizeof *c * (size_t)(n + 1));
     const char *best = NULL;

@@ -80,6 +80,11 @@ refuse "-o draws one response; with --inject each" response $REG --to out --inje
 refuse "sweep takes one source: --inject NODE, not each" sweep $REG --vary esr --from 0.1 --to 1 --to out --inject each
 refuse "sweep --from INPUT or --inject NODE needs --to NODE as well" sweep $REG --vary esr --from 0.1 --to 1 --inject out
 refuse "--to NODE given twice" response $REG --to out --to fb
+# an input is not a node, a param or an element for the other commands either
+refuse "--node vin: 'vin' is an input, an ideal source: a load there changes nothing" \
+    load $REG --node vin --cload 1p..1n
+refuse "'vin.r': 'vin' is an input, an ideal source with no r or c" check $REG --set vin.r=1k
+refuse "'vin' is an input, not a param or an element" sweep $REG --vary vin --from 1 --to 2
 refuse "sweep --to NODE reads a response along one --vary, not over a map of two" sweep $REG \
     --vary esr --from 0.1 --to 1 --vary cout --from 1u --to 4u --to out
 
