@@ -49,7 +49,7 @@ static int nyquist_verdict(check_result *r, lw_error *err)
         scale = fmax(scale, cabs(r->cl[k]));
     int rhp = 0;
     for (int k = 0; k < r->ncl; k++)
-        rhp += creal(r->cl[k]) > 1e-9 * scale;
+        rhp += creal(r->cl[k]) > fmax(1e-9 * cabs(r->cl[k]), 1e-13 * scale);
     r->nyquist_disagrees = r->nq.decided && !r->marginal && r->nq.closed_loop_rhp != rhp;
     return LW_OK;
 }
@@ -263,11 +263,15 @@ static void stability(check_result *r)
     double scale = 0;
     for (int k = 0; k < r->ncl; k++)
         scale = fmax(scale, cabs(r->cl[k]));
-    double tol = 1e-9 * scale;
     r->stable = 1;
     r->marginal = 0;
     for (int k = 0; k < r->ncl; k++) {
-        double re = creal(r->cl[k]);
+        /* on the axis within rounding: the pole's own relative accuracy
+         * (1e-9 of its magnitude), or the absolute accuracy of an
+         * eigenvalue solver for a pole near the origin (about 1e-13 of
+         * the largest); 1e-9 of the largest alone would call a lightly
+         * damped low-frequency pair marginal beside a pole at THz */
+        double re = creal(r->cl[k]), tol = fmax(1e-9 * cabs(r->cl[k]), 1e-13 * scale);
         if (re >= -tol) {
             r->stable = 0;
             if (re <= tol)

@@ -323,6 +323,33 @@ static void test_general_transfer(void **state)
     pencil_free(p);
 }
 
+/* A lightly damped pair far below the fastest pole is stable, not on the
+ * axis: T = wn^2/(s (s + 2 zeta wn)) closes to s^2 + 2 zeta wn s + wn^2
+ * (poles at -zeta wn +- j wn sqrt(1 - zeta^2), closed form), here with
+ * zeta = 0.02 and wn = 1e6 rad/s, beside a node outside the loop whose pole
+ * is at 1e14 rad/s: 1e-9 of that largest pole would be 1e5 rad/s, wider
+ * than the pair's 2e4 rad/s distance from the axis. */
+static void test_damped_pair_beside_fast_pole(void **state)
+{
+    (void)state;
+    const double wn = 1e6, zeta = 0.02, Ca = 1e-12, Cb = 1e-12;
+    double Rb = 1.0 / (2.0 * zeta * wn * Cb), g1 = wn * wn * Ca * Cb / 1e-3;
+    run x;
+    analyse(&x,
+            "node a r=inf c=%.17g\n"
+            "node b r=%.17g c=%.17g\n"
+            "node f r=1 c=10f\n"
+            "gm g1 b -> a %.17g\n"
+            "gm g2 a -> b -1m\n"
+            "gm gf b -> f 1u\n"
+            "loop main negative a b\n",
+            Ca, Rb, Cb, g1);
+    find_root(x.r.cl, x.r.ncl, -zeta * wn + I * wn * sqrt(1 - zeta * zeta), 1e-9);
+    assert_int_equal(x.r.stable, 1);
+    assert_int_equal(x.r.marginal, 0);
+    release(&x);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -336,6 +363,7 @@ int main(void)
         cmocka_unit_test(test_owner_nodes),
         cmocka_unit_test(test_owner_nodes_miller),
         cmocka_unit_test(test_general_transfer),
+        cmocka_unit_test(test_damped_pair_beside_fast_pole),
     };
     return cmocka_run_group_tests_name("poles", tests, NULL, NULL);
 }
