@@ -21,11 +21,14 @@ T(0) comes out near 1e4 (9.3e3 .. 9.9e3); the crossover lies between 6 and
 18 MHz with a phase margin from about 59 degrees (512 nodes) to 88 (8 nodes).
 """
 
+import math
 import os
 import random
 import sys
 
 SIZES = (8, 32, 128, 512)
+MAX_CHAIN = 384    # stages in the loop beyond 512 nodes
+WIRE_LEN = 8       # nodes per interconnect ladder
 
 
 def fmt(v, unit):
@@ -42,12 +45,15 @@ def network(n, seed):
         raise SystemExit("gen_net: N must be a multiple of 4, at least 8")
     rnd = random.Random(seed)
     jit = lambda lo, hi: lo * (hi / lo) ** rnd.random()   # log-uniform
-    k = 3 * n // 4
-    side = n - k
+    # a 'loop' line holds at most 512 tokens, so beyond 512 nodes the loop
+    # keeps MAX_CHAIN stages and the other nodes are interconnect
+    k = min(3 * n // 4, MAX_CHAIN)
+    side = n // 4
+    nwire = n - k - side
     out = ["# chain%d: %d gm-RC stages in one negative loop, %d side nodes,"
            % (n, k, side),
-           "# coupling caps between neighbours (benchmark network, seed %d)"
-           % seed,
+           "# coupling caps between neighbours%s (benchmark network, seed %d)"
+           % (", %d interconnect nodes in RC ladders" % nwire if nwire else "", seed),
            "param cdom = 8p", ""]
     elems, nodes = [], []
     # chain nodes
@@ -61,10 +67,19 @@ def network(n, seed):
         nodes.append(("c%d" % j, r, c))
     # side nodes, each on a chain node; the chain nodes they hang on are
     # spread over the whole chain
-    taps = [min(k - 1, 1 + 3 * t) for t in range(side)]
+    taps = [1 + (3 * t) % (k - 2) for t in range(side)]
     for t, j in enumerate(taps):
         nodes.append(("s%d" % t, jit(1e6, 4e6), jit(0.5e-12, 2e-12)))
         elems.append("res rs%d c%d s%d %s" % (t, j, t, fmt(jit(80e3, 200e3), "")))
+    # interconnect: RC ladders of WIRE_LEN nodes hanging off chain nodes
+    # 2..k-1 in turn, as an extracted layout would add (segments of 20 to
+    # 80 ohm, 1 to 3 fF to ground each: poles far above the loop's band)
+    for w in range(nwire):
+        lad, pos = divmod(w, WIRE_LEN)
+        name = "w%d_%d" % (lad, pos)
+        nodes.append((name, math.inf, jit(1e-15, 3e-15)))
+        prev = "c%d" % (2 + lad % (k - 2)) if pos == 0 else "w%d_%d" % (lad, pos - 1)
+        elems.append("res rw%d_%d %s %s %s" % (lad, pos, prev, name, fmt(jit(20, 80), "")))
     # coupling caps between neighbours
     for j in range(2, k - 1, 5):
         elems.append("cap cx%d c%d c%d %s" % (j, j, j + 1,
@@ -76,7 +91,8 @@ def network(n, seed):
     for j in range(2, k):
         gms.append("gm g%d c%d -> c%d %s" % (j, j - 1, j, fmt(1.0 / nodes[j][1], "")))
     for name, r, c in nodes:
-        out.append("node %-5s r=%s c=%s" % (name, fmt(r, ""), fmt(c, "F")))
+        out.append("node %-5s r=%s c=%s" % (name, "inf" if math.isinf(r) else fmt(r, ""),
+                                            fmt(c, "F")))
     out.append("")
     out += elems
     out.append("")
