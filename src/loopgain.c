@@ -1,14 +1,12 @@
 /* loopgain: exact evaluation of the return ratio and its poles and zeros. */
 #include "loopwise/loopgain.h"
 
-#include <gsl/gsl_complex.h>
-#include <gsl/gsl_complex_math.h>
-#include <gsl/gsl_linalg.h>
 #include <limits.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
+#include "loopwise/linalg.h"
 #include "loopwise/pencil.h"
 
 struct lgain {
@@ -23,11 +21,9 @@ struct lgain {
     pencil_hess *h;           /* O(rank^2) evaluation */
     int full;                 /* 1: evaluate by the LU of the whole network */
     double *Gs, *Cs;          /* D G0 D and D C D */
-    gsl_matrix_complex *Y;
-    gsl_permutation *perm;
-    gsl_vector_complex *rhs, *x;
-    gsl_matrix *Yr;           /* the same at real s, by a real LU */
-    gsl_vector *rr, *xr;
+    double complex *Y, *x;    /* the LU path: Y0(s) and the right-hand side */
+    double *Yr, *xr;          /* the same at real s, by a real LU */
+    int *perm;
     int walked;               /* a point of the exact phase walk is kept */
     double walk_hz, walk_ph;
 };
@@ -41,13 +37,11 @@ void lgain_free(lgain *lg)
     free(lg->u);
     free(lg->Gs);
     free(lg->Cs);
-    gsl_matrix_complex_free(lg->Y);
-    gsl_permutation_free(lg->perm);
-    gsl_vector_complex_free(lg->rhs);
-    gsl_vector_complex_free(lg->x);
-    gsl_matrix_free(lg->Yr);
-    gsl_vector_free(lg->rr);
-    gsl_vector_free(lg->xr);
+    free(lg->Y);
+    free(lg->x);
+    free(lg->Yr);
+    free(lg->xr);
+    free(lg->perm);
     free(lg);
 }
 
@@ -65,18 +59,15 @@ static int lgain_make(int n, const double *G0, const double *C, int in, int out,
     lg->out = out;
     lg->Gs = malloc(sizeof(double) * nn);
     lg->Cs = malloc(sizeof(double) * nn);
-    lg->Y = gsl_matrix_complex_alloc((size_t)n, (size_t)n);
-    lg->perm = gsl_permutation_alloc((size_t)n);
-    lg->rhs = gsl_vector_complex_calloc((size_t)n);
-    lg->x = gsl_vector_complex_alloc((size_t)n);
-    lg->Yr = gsl_matrix_alloc((size_t)n, (size_t)n);
-    lg->rr = gsl_vector_calloc((size_t)n);
-    lg->xr = gsl_vector_alloc((size_t)n);
+    /* the LU path's matrices are allocated when first used: most checks
+     * never take it at more than a few points */
+    lg->perm = malloc(sizeof(int) * (size_t)n);
+    lg->x = malloc(sizeof *lg->x * (size_t)n);
+    lg->xr = malloc(sizeof(double) * (size_t)n);
     if (u)
         lg->u = calloc(3 * (size_t)n, sizeof(double));
     double *d = malloc(sizeof(double) * (size_t)n);
-    if (!lg->Gs || !lg->Cs || !lg->Y || !lg->perm || !lg->rhs || !lg->x || !lg->Yr || !lg->rr ||
-        !lg->xr || !d || (u && !lg->u)) {
+    if (!lg->Gs || !lg->Cs || !lg->perm || !lg->x || !lg->xr || !d || (u && !lg->u)) {
         free(d);
         lgain_free(lg);
         return lw_error_set(err, LW_ENOMEM, "out of memory");
@@ -136,15 +127,9 @@ int lgain_new_vec(int n, const double *G0, const double *C, int in, const double
 }
 
 /* The right-hand side of the LU path: e_out, or D u for a vector break. */
-static void rhs_real(const lgain *lg, gsl_vector *b)
+static double rhs_at(const lgain *lg, int k)
 {
-    if (lg->us)
-        for (int k = 0; k < lg->n; k++)
-            gsl_vector_set(b, (size_t)k, lg->us[k]);
-    else {
-        gsl_vector_set_zero(b);
-        gsl_vector_set(b, (size_t)lg->out, 1.0);
-    }
+    return lg->us ? lg->us[k] : (double)(k == lg->out);
 }
 
 double complex lgain_eval(lgain *lg, double complex s)
@@ -183,22 +168,17 @@ int lgain_walk_recall(const lgain *lg, double *hz, double *ph)
 /* lgain_eval_full on the real axis: the same LU in real arithmetic. */
 static double eval_full_real(lgain *lg, double sr)
 {
-    int n = lg->n, sig;
-    for (int i = 0; i < n; i++) {
-        double *row = lg->Yr->data + (size_t)i * lg->Yr->tda;
-        const double *g = lg->Gs + i * n, *c = lg->Cs + i * n;
-        for (int j = 0; j < n; j++)
-            row[j] = g[j] + sr * c[j];
-    }
-    rhs_real(lg, lg->rr);
-    if (gsl_linalg_LU_decomp(lg->Yr, lg->perm, &sig) != GSL_SUCCESS)
+    int n = lg->n;
+    size_t nn = (size_t)n * (size_t)n;
+    if (!lg->Yr && !(lg->Yr = malloc(sizeof(double) * nn)))
         return NAN;
+    for (size_t k = 0; k < nn; k++)
+        lg->Yr[k] = lg->Gs[k] + sr * lg->Cs[k];
     for (int k = 0; k < n; k++)
-        if (gsl_matrix_get(lg->Yr, (size_t)k, (size_t)k) == 0)
-            return NAN;
-    if (gsl_linalg_LU_solve(lg->Yr, lg->perm, lg->rr, lg->xr) != GSL_SUCCESS)
+        lg->xr[k] = rhs_at(lg, k);
+    if (linalg_solve_real(n, lg->Yr, lg->perm, lg->xr))
         return NAN;
-    return lg->gain * gsl_vector_get(lg->xr, (size_t)lg->in);
+    return lg->gain * lg->xr[lg->in];
 }
 
 double lgain_eval_real(lgain *lg, double s)
@@ -212,37 +192,22 @@ double lgain_eval_real(lgain *lg, double s)
 
 double complex lgain_eval_full(lgain *lg, double complex s)
 {
-    int n = lg->n, sig;
+    int n = lg->n;
+    size_t nn = (size_t)n * (size_t)n;
     if (lg->gain == 0)
         return 0;
     double sr = creal(s), si = cimag(s);
     if (si == 0)
         return eval_full_real(lg, sr);
-    for (int i = 0; i < n; i++) {
-        double *row = lg->Y->data + 2 * (size_t)i * lg->Y->tda;
-        const double *g = lg->Gs + i * n, *c = lg->Cs + i * n;
-        for (int j = 0; j < n; j++) {
-            row[2 * j] = g[j] + sr * c[j];
-            row[2 * j + 1] = si * c[j];
-        }
-    }
-    gsl_vector_complex_set_zero(lg->rhs);
-    for (int k = 0; k < n; k++) {
-        double b = lg->us ? lg->us[k] : (double)(k == lg->out);
-        if (b != 0)
-            gsl_vector_complex_set(lg->rhs, (size_t)k, gsl_complex_rect(b, 0));
-    }
-    if (gsl_linalg_complex_LU_decomp(lg->Y, lg->perm, &sig) != GSL_SUCCESS)
+    if (!lg->Y && !(lg->Y = malloc(sizeof *lg->Y * nn)))
         return NAN;
-    for (int k = 0; k < n; k++) {
-        gsl_complex u = gsl_matrix_complex_get(lg->Y, (size_t)k, (size_t)k);
-        if (GSL_REAL(u) == 0 && GSL_IMAG(u) == 0)
-            return NAN;
-    }
-    if (gsl_linalg_complex_LU_solve(lg->Y, lg->perm, lg->rhs, lg->x) != GSL_SUCCESS)
+    for (size_t k = 0; k < nn; k++)
+        lg->Y[k] = CMPLX(lg->Gs[k] + sr * lg->Cs[k], si * lg->Cs[k]);
+    for (int k = 0; k < n; k++)
+        lg->x[k] = rhs_at(lg, k);
+    if (linalg_solve_complex(n, lg->Y, lg->perm, lg->x))
         return NAN;
-    gsl_complex xi = gsl_vector_complex_get(lg->x, (size_t)lg->in);
-    return lg->gain * (GSL_REAL(xi) + I * GSL_IMAG(xi));
+    return lg->gain * lg->x[lg->in];
 }
 
 /* ---- sorting ----------------------------------------------------------- */
@@ -420,43 +385,11 @@ static int open_loop_poles(const double *C, int want_owner, const lgain *lg, lg_
 }
 
 /* 1 when the scaled real matrix A (n x n, row-major) is singular to rounding:
- * smallest singular value below 1e-13 of the largest. */
+ * smallest singular value below 1e-13 of the largest, rows and columns
+ * equilibrated first. */
 static int numerically_singular(const double *A, int n)
 {
-    gsl_matrix *U = gsl_matrix_alloc((size_t)n, (size_t)n), *V = gsl_matrix_alloc((size_t)n, (size_t)n);
-    gsl_vector *S = gsl_vector_alloc((size_t)n), *w = gsl_vector_alloc((size_t)n);
-    double *rs = malloc(sizeof(double) * (size_t)(2 * n));
-    int sing = 1;
-    if (U && V && S && w && rs) {
-        /* equilibrate rows, then columns, by their largest entries: the test
-         * is about the matrix's rank, not about its units */
-        double *cs = rs + n;
-        for (int i = 0; i < n; i++) {
-            rs[i] = 0;
-            for (int j = 0; j < n; j++)
-                rs[i] = fmax(rs[i], fabs(A[i * n + j]));
-            rs[i] = rs[i] > 0 ? 1.0 / rs[i] : 1.0;
-        }
-        for (int j = 0; j < n; j++) {
-            cs[j] = 0;
-            for (int i = 0; i < n; i++)
-                cs[j] = fmax(cs[j], fabs(A[i * n + j]) * rs[i]);
-            cs[j] = cs[j] > 0 ? 1.0 / cs[j] : 1.0;
-        }
-        for (int i = 0; i < n; i++)
-            for (int j = 0; j < n; j++)
-                gsl_matrix_set(U, (size_t)i, (size_t)j, rs[i] * A[i * n + j] * cs[j]);
-        if (gsl_linalg_SV_decomp(U, V, S, w) == GSL_SUCCESS) {
-            double smax = gsl_vector_get(S, 0), smin = gsl_vector_get(S, (size_t)n - 1);
-            sing = !(smin > 1e-13 * smax);
-        }
-    }
-    gsl_matrix_free(U);
-    gsl_matrix_free(V);
-    gsl_vector_free(S);
-    gsl_vector_free(w);
-    free(rs);
-    return sing;
+    return linalg_singular(n, A, 1e-13);
 }
 
 /* Whether s = 0 can be a root at all: Y0(0) = G0 singular for a pole, the
@@ -655,7 +588,7 @@ static int classify_zeros(lgain *lg, lg_tf *tf, int method, lw_error *err)
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
     for (;;) {
-        rc = pencil_zero_candidates(p, &lg->io, method, cand, &nc, &used, err);
+        rc = pencil_hess_zero_candidates(p, lg->h, &lg->io, method, cand, &nc, &used, err);
         if (rc)
             break;
         tf->nzeros = 0;

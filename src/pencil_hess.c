@@ -2,25 +2,17 @@
  * evaluation of a transfer and the closed-loop poles. See pencil.h. */
 #include "loopwise/pencil.h"
 
-#include <gsl/gsl_blas.h>
-#include <gsl/gsl_eigen.h>
 #include <gsl/gsl_linalg.h>
+#include <gsl/gsl_vector.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "loopwise/eigvals.h"
+#include "loopwise/linalg.h"
 #include "pencil_impl.h"
 
 /* ---- O(rank^2) evaluation through the Hessenberg form ------------------------ */
-
-struct pencil_hess {
-    int r;
-    double *H;             /* r x r upper Hessenberg, row-major */
-    double *b, *c;
-    double d0;
-    double *work;          /* 2 (r x r + r): real and imaginary parts */
-};
 
 void pencil_hess_free(pencil_hess *h)
 {
@@ -37,14 +29,13 @@ int pencil_hess_new(const pencil *p, const pencil_io *io, pencil_hess **out, lw_
     *out = NULL;
     int r = p->r, rc = LW_OK;
     pencil_hess *h = calloc(1, sizeof *h);
-    gsl_vector *bal = r ? gsl_vector_alloc((size_t)r) : NULL;
     if (h) {
         h->r = r;
-        h->H = malloc(sizeof(double) * (size_t)(r * r + 1));
-        h->b = malloc(sizeof(double) * (size_t)(2 * r + 2));
-        h->work = malloc(sizeof(double) * 2 * (size_t)(r * r + r + 1));
+        h->H = linalg_alloc(sizeof(double) * (size_t)(r * r + 1));
+        h->b = linalg_alloc(sizeof(double) * (size_t)(2 * r + 2));
+        h->work = linalg_alloc(sizeof(double) * 2 * (size_t)(r * r + r + 1));
     }
-    if (!h || !h->H || !h->b || !h->work || (r && !bal)) {
+    if (!h || !h->H || !h->b || !h->work) {
         rc = lw_error_set(err, LW_ENOMEM, "out of memory");
         goto done;
     }
@@ -55,24 +46,35 @@ int pencil_hess_new(const pencil *p, const pencil_io *io, pencil_hess **out, lw_
         goto done;
     }
     if (r > 0) {
-        /* balance first (a diagonal similarity D^-1 M D, Parlett and Reinsch):
-         * the Householder steps then keep the small entries of a matrix whose
-         * rows span many decades, which the evaluation needs near s = 0 */
+        /* balanced first (a diagonal similarity D^-1 M D, Parlett and
+         * Reinsch): the Householder steps then keep the small entries of a
+         * matrix whose rows span many decades, which the evaluation needs
+         * near s = 0. GSL's balancing, not LAPACK's dgebal: on the 512-node
+         * benchmark chain T from dgebal's scaling was off by 2e-9 at the
+         * crossover (GSL's: 3e-11), enough for the spot check to send every
+         * evaluation to the O(n^3) LU. Then the controller Hessenberg form, b = beta e_1
+         * (Van Dooren and Verhaegen, 1985): closing the loop changes the
+         * first row only, and the zeros' pencil is Hessenberg-triangular
+         * as it stands. */
+        memcpy(h->H, p->M, sizeof(double) * (size_t)r * (size_t)r);
         gsl_matrix_view A = gsl_matrix_view_array(h->H, (size_t)r, (size_t)r);
-        gsl_matrix_memcpy(&A.matrix, p->M);
+        gsl_vector *bal = gsl_vector_alloc((size_t)r);
+        if (!bal) {
+            rc = lw_error_set(err, LW_ENOMEM, "out of memory");
+            goto done;
+        }
         gsl_linalg_balance_matrix(&A.matrix, bal);
         for (int a = 0; a < r; a++) {
             h->b[a] /= gsl_vector_get(bal, (size_t)a);
             h->c[a] *= gsl_vector_get(bal, (size_t)a);
         }
-        /* H = U^T M U, and b, c rotated alike */
-        int st = eigvals_hessenberg_form(r, h->H, h->b, 2);
+        gsl_vector_free(bal);
+        int st = eigvals_controller_form(r, h->H, h->b, h->c);
         if (st)
             rc = st < 0 ? lw_error_set(err, LW_ENOMEM, "out of memory")
                         : lw_error_set(err, LW_ENUMERIC, "Hessenberg reduction failed");
     }
 done:
-    gsl_vector_free(bal);
     if (rc) {
         pencil_hess_free(h);
         return rc;
@@ -214,7 +216,9 @@ int pencil_hess_feedback_eigen(const pencil_hess *h, double gain, double complex
     if (r == 0)
         return LW_OK;
     /* 1 + T = (1 + gain d0) (1 + kappa c^T (sI - H)^-1 b), kappa = gain/(1 + gain d0),
-     * and det(sI - H + kappa b c^T) = det(sI - H) (1 + kappa c^T (sI - H)^-1 b). */
+     * and det(sI - H + kappa b c^T) = det(sI - H) (1 + kappa c^T (sI - H)^-1 b).
+     * With b = beta e_1 only the first row of H changes: the matrix stays
+     * upper Hessenberg and needs no new reduction. */
     if (!(fabs(den) > 1e-9 * fmax(1.0, fabs(gain * h->d0))))
         return LW_OK;
     double kappa = gain / den;
@@ -233,13 +237,14 @@ int pencil_hess_feedback_eigen(const pencil_hess *h, double gain, double complex
     }
     if (!(fabs(kappa) * sqrt(nb * nc) <= 1e6 * nh))
         return LW_OK;
-    double *A = malloc(sizeof(double) * (size_t)(r * r));
+    double *A = linalg_alloc(sizeof(double) * (size_t)(r * r));
     if (!A)
         return lw_error_set(err, LW_ENOMEM, "out of memory");
-    for (int a = 0; a < r; a++)
-        for (int k = 0; k < r; k++)
-            A[a * r + k] = h->H[a * r + k] - kappa * h->b[a] * h->c[k];
-    int rc = pencil_eig_status(eigvals_general(r, A, eig), "the closed-loop poles", err);
+    memcpy(A, h->H, sizeof(double) * (size_t)(r * r));
+    for (int k = 0; k < r; k++)
+        A[k] -= kappa * h->b[0] * h->c[k];
+    int rc = pencil_eig_status(eigvals_hessenberg_balanced(r, A, eig), "the closed-loop poles",
+                               err);
     free(A);
     *ok = rc == LW_OK;
     return rc;

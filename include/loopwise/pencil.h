@@ -65,8 +65,9 @@ int pencil_zero_candidates(const pencil *p, const pencil_io *io, int method, dou
                            int *nz, int *used, lw_error *err);
 
 /* The state-space form of the transfer io: c^T (sI - M)^-1 b + d0, with M
- * in upper Hessenberg form H = U^T M U and b, c rotated alike, so that each
- * evaluation costs O(rank^2). */
+ * balanced and in controller Hessenberg form H = U^T D^-1 M D U, b and c
+ * transformed alike (U^T D^-1 b = beta e_1), so that each evaluation costs
+ * O(rank^2). */
 typedef struct pencil_hess pencil_hess;
 int pencil_hess_new(const pencil *p, const pencil_io *io, pencil_hess **out, lw_error *err);
 void pencil_hess_free(pencil_hess *h);
@@ -74,6 +75,12 @@ void pencil_hess_free(pencil_hess *h);
 double complex pencil_hess_eval(pencil_hess *h, double complex s);
 /* The same at a real s, in real arithmetic. */
 double pencil_hess_eval_real(pencil_hess *h, double s);
+/* pencil_zero_candidates with the evaluator h of the same transfer io at
+ * hand: its controller Hessenberg form is the bordered pencil's
+ * Hessenberg-triangular form, so QZ needs no reduction of its own. */
+int pencil_hess_zero_candidates(const pencil *p, const pencil_hess *h, const pencil_io *io,
+                                int method, double complex *z, int *nz, int *used,
+                                lw_error *err);
 /* Closed-loop poles as the eigenvalues of H - kappa b c^T, the loop closed
  * around the reduced form with T = gain (c^T (sI - H)^-1 b + d0). eig gets
  * rank values; *ok is 0 when the closed loop drops a degree (1 + gain d0 = 0),
