@@ -7,8 +7,8 @@ DESTDIR ?=
 CC ?= cc
 PKGS := gsl lapacke
 OMP := -fopenmp
-DEB_PKGS := build-essential pkg-config libgsl-dev liblapacke-dev libcmocka-dev python3-numpy python3-scipy \
-            gnuplot-nox
+DEB_PKGS := build-essential pkg-config libgsl-dev liblapacke-dev libopenblas-dev libopenblas-pthread-dev \
+            libcmocka-dev python3-numpy python3-scipy gnuplot-nox
 # For 'make fuzz' and 'make sanitize' only.
 FUZZ_PKGS := clang libclang-rt-14-dev valgrind
 PYTHON := /usr/bin/python3
@@ -18,8 +18,27 @@ WARN := -Wall -Wextra -Wshadow -Wconversion -Wstrict-prototypes -Wmissing-protot
 CFLAGS ?= -O2 -g
 ALL_CFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L -DHAVE_INLINE $(WARN) $(CFLAGS) $(OMP) -Iinclude -MMD -MP \
               $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
-LDLIBS := $(OMP) $(shell pkg-config --libs $(PKGS) 2>/dev/null) -lm
-TEST_LDLIBS := $(shell pkg-config --libs cmocka 2>/dev/null) $(LDLIBS)
+# BLAS and LAPACK: Debian's OpenBLAS in its OpenMP variant. Sweeps and
+# Monte Carlo run their points on OpenMP threads, and inside a parallel
+# region this variant runs one BLAS thread per caller; its serial variant is
+# built without locking and gave wrong Monte Carlo results on two threads,
+# and the pthread variant starts a thread pool of its own in every run
+# (measured in the README's speed section).
+# The program links OpenBLAS and LAPACKE statically, which fixes the
+# variant whatever Debian's alternatives point libblas.so.3 at and keeps
+# its start-up as short as with the reference LAPACK (a dynamic OpenBLAS
+# adds about 9 ms of symbol relocation to every run); the test programs
+# link the same variant dynamically, which links faster. GSL's own CBLAS is
+# left out, so GSL's few BLAS calls reach OpenBLAS too.
+MULTIARCH := $(shell $(CC) -print-multiarch 2>/dev/null)
+OPENBLAS_DIR := /usr/lib/$(MULTIARCH)/openblas-pthread
+GSL_LIBS := $(filter-out -lgslcblas,$(shell pkg-config --libs gsl 2>/dev/null))
+LAPACK_STATIC := /usr/lib/$(MULTIARCH)/liblapacke.a $(OPENBLAS_DIR)/libopenblas.a -l:libgfortran.so.5
+LAPACK_SHARED := -llapacke -L$(OPENBLAS_DIR) -Wl,-rpath,$(OPENBLAS_DIR) -Wl,--no-as-needed \
+                 -llapack -lblas -lopenblas -Wl,--as-needed
+LDLIBS := $(OMP) $(GSL_LIBS) $(LAPACK_STATIC) -lm
+SHARED_LDLIBS := $(OMP) $(GSL_LIBS) $(LAPACK_SHARED) -lm
+TEST_LDLIBS := $(shell pkg-config --libs cmocka 2>/dev/null) $(SHARED_LDLIBS)
 
 # Output directory and binary; 'make sanitize' builds into build/asan.
 BUILD ?= build
@@ -82,20 +101,26 @@ golden: $(LW_BIN)
 	@sh tests/golden/across.sh ./$(LW_BIN)
 	@sh tests/golden/response.sh ./$(LW_BIN)
 
+# The reference's numpy runs its BLAS on one thread: its problems are small,
+# and the threads of OpenBLAS's pthread variant would spin on the cores the
+# loopwise runs under test need (measured: the family took 57 s of CPU with
+# them, 12 s without).
+REF_ENV := OPENBLAS_NUM_THREADS=1 LOOPWISE=./loopwise
+
 reference: loopwise
-	@$(PYTHON) tests/ref/numpy_ref.py --selftest
-	@LOOPWISE=./loopwise $(PYTHON) tests/ref/numpy_ref.py
-	@LOOPWISE=./loopwise $(PYTHON) tests/ref/family.py
-	@LOOPWISE=./loopwise $(PYTHON) tests/ref/comp_table.py
-	@$(PYTHON) tests/ref/response_ref.py --selftest
-	@LOOPWISE=./loopwise $(PYTHON) tests/ref/response_ref.py | tail -n 1
+	@OPENBLAS_NUM_THREADS=1 $(PYTHON) tests/ref/numpy_ref.py --selftest
+	@$(REF_ENV) $(PYTHON) tests/ref/numpy_ref.py
+	@$(REF_ENV) $(PYTHON) tests/ref/family.py
+	@$(REF_ENV) $(PYTHON) tests/ref/comp_table.py
+	@OPENBLAS_NUM_THREADS=1 $(PYTHON) tests/ref/response_ref.py --selftest
+	@$(REF_ENV) $(PYTHON) tests/ref/response_ref.py | tail -n 1
 
 # Small drivers print what a library function gives over a whole grid; a
 # Python script compares it with an outside reference: the Clopper-Pearson
 # bounds with scipy and the definition, the reader's byte rules with
 # Python's UTF-8 decoder.
 DRIVER_CC = $(Q)mkdir -p $(BUILD)/tests && echo "  CC      $<" && \
-            $(CC) $(ALL_CFLAGS) -o $@ $< $(BUILD)/libloopwise.a $(LDLIBS)
+            $(CC) $(ALL_CFLAGS) -o $@ $< $(BUILD)/libloopwise.a $(SHARED_LDLIBS)
 
 $(BUILD)/tests/binom_grid: tests/binom/grid.c $(BUILD)/libloopwise.a | $(BUILD)
 	$(DRIVER_CC)
@@ -160,7 +185,7 @@ FUZZ_ARGS ?=
 SAN_FLAGS := -fsanitize=address,undefined -fno-sanitize-recover=all -fno-omit-frame-pointer
 FUZZ_CFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L $(WARN) -O1 -g $(SAN_FLAGS) \
                -fsanitize=fuzzer-no-link -Iinclude -MMD -MP $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
-FUZZ_LDLIBS := $(shell pkg-config --libs $(PKGS) 2>/dev/null) -lm
+FUZZ_LDLIBS := $(GSL_LIBS) $(LAPACK_SHARED) -lm
 FUZZ_OBJ := $(LIB_SRC:src/%.c=build/fuzz/%.o)
 
 fuzz: deps

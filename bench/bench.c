@@ -21,6 +21,7 @@
 #include <unistd.h>
 
 #include "loopwise/design.h"
+#include "loopwise/eigvals.h"
 
 #define TWO_PI 6.283185307179586
 enum { MAX_FILES = 16, MAX_REPS = 100000 };
@@ -321,6 +322,7 @@ int main(int argc, char **argv)
         }
     }
     gsl_set_error_handler_off();
+    eigvals_blas_one_thread();
     char *json = ref_path ? slurp(ref_path) : NULL;
     if (ref_path && !json)
         fprintf(stderr, "bench: cannot read %s; reference columns left empty\n", ref_path);

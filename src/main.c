@@ -8,6 +8,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "loopwise/eigvals.h"
 #include "loopwise/cli.h"
 #include "loopwise/design.h"
 #include "loopwise/figures.h"
@@ -461,6 +462,7 @@ int main(int argc, char **argv)
     if (code)
         return code;
     gsl_set_error_handler_off();
+    eigvals_blas_one_thread();
     lw_error err;
     lw_error_clear(&err);
     desc *d = NULL;
