@@ -1,6 +1,5 @@
 /* eigvals: dense eigenproblems through LAPACKE. See eigvals.h. */
 #include "loopwise/eigvals.h"
-#include "loopwise/linalg.h"
 
 #include <lapacke.h>
 #ifdef _OPENMP
@@ -74,7 +73,7 @@ static int ws_open(ws *w, int n, const double *A, copy_kind kind)
 {
     size_t un = (size_t)n, nn = un * un;
     w->lwork = 64 * n;
-    w->blk = linalg_alloc(sizeof(double) * (nn + 3 * un + (size_t)w->lwork));
+    w->blk = malloc(sizeof(double) * (nn + 3 * un + (size_t)w->lwork));
     if (!w->blk)
         return -1;
     w->T = w->blk;
@@ -250,7 +249,7 @@ int eigvals_vectors(int n, const double *A, double complex *ev, double *xr, doub
     if (info != 0)
         return 1;
     size_t lwork = (size_t)q > 4 * un ? (size_t)q : 4 * un;
-    double *blk = linalg_alloc(sizeof(double) * (nn + 2 * un + lwork));
+    double *blk = malloc(sizeof(double) * (nn + 2 * un + lwork));
     if (!blk)
         return -1;
     double *T = blk, *wr = T + nn, *wi = wr + n, *work = wi + n;
@@ -275,7 +274,7 @@ int eigvals_symmetric(int n, double *A, double *w)
     if (LAPACKE_dsyevd_work(LAPACK_COL_MAJOR, 'V', 'L', n, A, n, w, &q, -1, &iq, -1) != 0)
         return 1;
     size_t lwork = (size_t)q, liwork = (size_t)iq;
-    double *work = linalg_alloc(sizeof(double) * lwork);
+    double *work = malloc(sizeof(double) * lwork);
     lapack_int *iwork = malloc(sizeof(lapack_int) * liwork);
     int rc = -1;
     if (work && iwork)
@@ -293,7 +292,7 @@ int eigvals_pencil_ht(int n, double *A, double *B, double *alphar, double *alpha
         return 0;
     lapack_int info, one = 1, ln = n, rec = 0;
     if (n < QZ_MULTISHIFT_MIN) {
-        double *work = linalg_alloc(sizeof(double) * (size_t)n);
+        double *work = malloc(sizeof(double) * (size_t)n);
         if (!work)
             return -1;
         info = LAPACKE_dhgeqz_work(LAPACK_COL_MAJOR, 'E', 'N', 'N', n, 1, n, A, n, B, n, alphar,
@@ -308,7 +307,7 @@ int eigvals_pencil_ht(int n, double *A, double *B, double *alphar, double *alpha
     if (info != 0)
         return 1;
     lwork = (lapack_int)q > n ? (lapack_int)q : n;
-    double *work = linalg_alloc(sizeof(double) * (size_t)lwork);
+    double *work = malloc(sizeof(double) * (size_t)lwork);
     if (!work)
         return -1;
     dlaqz0_("E", "N", "N", &ln, &one, &ln, A, &ln, B, &ln, alphar, alphai, beta, NULL, &one, NULL,

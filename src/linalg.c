@@ -7,21 +7,6 @@
 #include <stdlib.h>
 #include <string.h>
 
-void *linalg_alloc(size_t bytes)
-{
-    return aligned_alloc(64, (bytes + 63) / 64 * 64 + 64);
-}
-
-void *linalg_calloc(size_t count, size_t size)
-{
-    if (size && count > (size_t)-1 / 2 / size)
-        return NULL;
-    void *p = linalg_alloc(count * size);
-    if (p)
-        memset(p, 0, count * size);
-    return p;
-}
-
 /* Singular values (and with vectors, U and V^T, column-major) of the
  * column-major m x m T, which is overwritten. */
 static int svd(int m, double *T, double *s, double *U, double *VT)
@@ -33,7 +18,7 @@ static int svd(int m, double *T, double *s, double *U, double *VT)
     if (!iwork)
         return -1;
     info = LAPACKE_dgesdd_work(LAPACK_COL_MAJOR, job, m, m, T, m, s, U, m, VT, m, &q, -1, iwork);
-    double *work = info == 0 ? linalg_alloc(sizeof(double) * (size_t)q) : NULL;
+    double *work = info == 0 ? malloc(sizeof(double) * (size_t)q) : NULL;
     int rc = info != 0 ? 1 : !work ? -1 : 0;
     if (!rc)
         rc = LAPACKE_dgesdd_work(LAPACK_COL_MAJOR, job, m, m, T, m, s, U, m, VT, m, work,
@@ -46,7 +31,7 @@ static int svd(int m, double *T, double *s, double *U, double *VT)
 int linalg_inverse_svd(int m, const double *A, double *inv, double tol)
 {
     size_t um = (size_t)m, mm = um * um;
-    double *blk = linalg_alloc(sizeof(double) * (3 * mm + um));
+    double *blk = malloc(sizeof(double) * (3 * mm + um));
     if (!blk)
         return -1;
     double *T = blk, *U = T + mm, *VT = U + mm, *s = VT + mm;
@@ -72,7 +57,7 @@ int linalg_inverse_svd(int m, const double *A, double *inv, double tol)
 int linalg_singular(int n, const double *A, double tol)
 {
     size_t un = (size_t)n, nn = un * un;
-    double *blk = linalg_alloc(sizeof(double) * (nn + 3 * un));
+    double *blk = malloc(sizeof(double) * (nn + 3 * un));
     if (!blk)
         return 1;
     double *T = blk, *rs = T + nn, *cs = rs + n, *s = cs + n;
@@ -100,7 +85,7 @@ int linalg_singular(int n, const double *A, double tol)
 int linalg_qr_basis(int r, int k, double *W, double *Q, double *rdiag)
 {
     size_t ur = (size_t)r;
-    double *tau = linalg_alloc(sizeof(double) * (ur + 64 * ur + 1)), *work = tau + r;
+    double *tau = malloc(sizeof(double) * (ur + 64 * ur + 1)), *work = tau + r;
     if (!tau)
         return -1;
     lapack_int lwork = 64 * r;

@@ -113,7 +113,7 @@ static int make_groups(pencil *p, const double *C)
         off += s * s;
     }
     p->blk_off[p->ngroup] = (int)off;
-    p->qblk = linalg_alloc(sizeof(double) * (off + 1));
+    p->qblk = malloc(sizeof(double) * (off + 1));
     return p->qblk ? 0 : -1;
 }
 
@@ -143,7 +143,7 @@ static int split_capacitance(pencil *p, const double *C, lw_error *err)
         if (p->group_start[g + 1] - p->group_start[g] > smax)
             smax = p->group_start[g + 1] - p->group_start[g];
     col_rec *rec = malloc(sizeof *rec * (size_t)n);
-    double *w = linalg_alloc(sizeof(double) * (size_t)smax);
+    double *w = malloc(sizeof(double) * (size_t)smax);
     if (!rec || !w) {
         rc = lw_error_set(err, LW_ENOMEM, "out of memory");
         goto done;
@@ -212,11 +212,11 @@ static int rotate_g(const pencil *p, const double *G, int scaled, double *Gq)
         size_t s = (size_t)(p->group_start[g + 1] - p->group_start[g]);
         S += s * s;
     }
-    double *W = linalg_alloc(sizeof(double) * un * un);
+    double *W = malloc(sizeof(double) * un * un);
     if (!W)
         return -1;
     if (S * 8 > un * un) {
-        double *Qd = linalg_calloc(un * un, sizeof(double));
+        double *Qd = calloc(un * un, sizeof(double));
         if (!Qd) {
             free(W);
             return -1;
@@ -282,7 +282,7 @@ static int complement_in_nodes(pencil *p, const double *G, lw_error *err, int *r
         if (p->group_start[g + 1] - p->group_start[g] != 1)
             return 1;
     }
-    double *blk = linalg_alloc(sizeof(double) * (2 * un * un + 2 * un * um));
+    double *blk = malloc(sizeof(double) * (2 * un * un + 2 * un * um));
     int *fn = malloc(sizeof(int) * (um + 1));
     *rc = LW_OK;
     if (!blk || !fn) {
@@ -324,15 +324,15 @@ static int eliminate(pencil *p, const double *G, lw_error *err)
 {
     int n = p->n, r = p->r, m = p->m, rc = LW_OK;
     size_t un = (size_t)n, ur = (size_t)r, um = (size_t)m;
-    double *Gq = linalg_alloc(sizeof(double) * un * un);
-    p->M = linalg_alloc(sizeof(double) * (ur * ur + 1));
+    double *Gq = malloc(sizeof(double) * un * un);
+    p->M = malloc(sizeof(double) * (ur * ur + 1));
     if (!Gq || !p->M || rotate_g(p, G, 0, Gq)) {
         rc = lw_error_set(err, LW_ENOMEM, "out of memory");
         goto done;
     }
     if (m > 0) {
-        p->G22inv = linalg_alloc(sizeof(double) * um * um);
-        double *G22 = linalg_alloc(sizeof(double) * um * um);
+        p->G22inv = malloc(sizeof(double) * um * um);
+        double *G22 = malloc(sizeof(double) * um * um);
         if (!p->G22inv || !G22) {
             free(G22);
             rc = lw_error_set(err, LW_ENOMEM, "out of memory");
@@ -358,8 +358,8 @@ static int eliminate(pencil *p, const double *G, lw_error *err)
     for (int i = 0; i < r; i++)
         memcpy(p->M + (size_t)i * ur, Gq + (size_t)i * un, sizeof(double) * ur);
     if (m > 0 && r > 0) {
-        p->Y2 = linalg_alloc(sizeof(double) * um * ur);
-        p->Z2 = linalg_alloc(sizeof(double) * ur * um);
+        p->Y2 = malloc(sizeof(double) * um * ur);
+        p->Z2 = malloc(sizeof(double) * ur * um);
         if (!p->Y2 || !p->Z2) {
             rc = lw_error_set(err, LW_ENOMEM, "out of memory");
             goto done;
@@ -391,8 +391,8 @@ int pencil_new(int n, const double *G, const double *C, pencil **out, lw_error *
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     size_t un = (size_t)n + 1;
     p->n = n;
-    p->d = linalg_alloc(sizeof(double) * un);
-    p->lam = linalg_alloc(sizeof(double) * un);
+    p->d = malloc(sizeof(double) * un);
+    p->lam = malloc(sizeof(double) * un);
     p->group_node = malloc(sizeof(int) * un);
     p->group_col = malloc(sizeof(int) * un);
     p->node_group = malloc(sizeof(int) * un);
@@ -468,7 +468,7 @@ static int owners(const pencil *p, const double *C, const double complex *eig, c
 {
     int n = p->n, r = p->r;
     size_t nr = (size_t)n * (size_t)r;
-    double *blk = linalg_alloc(sizeof(double) * 4 * nr);
+    double *blk = malloc(sizeof(double) * 4 * nr);
     if (!blk)
         return -1;
     double *Z = blk, *X = Z + nr, *L = X + nr, *CX = L + nr;
@@ -529,7 +529,7 @@ int pencil_eigen(const pencil *p, const double *C, double complex *eig, int *own
     if (!owner) /* values only: no Schur vectors */
         return pencil_eig_status(eigvals_general(r, p->M, eig), "the poles", err);
     size_t rr = (size_t)r * (size_t)r;
-    double *V = linalg_alloc(sizeof(double) * 2 * rr);
+    double *V = malloc(sizeof(double) * 2 * rr);
     if (!V)
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     int rc = pencil_eig_status(eigvals_vectors(r, p->M, eig, V, V + rr), "the poles", err);
@@ -567,7 +567,7 @@ static double io_from(const pencil *p, const double *qo, const double *qi, doubl
 double pencil_io_vectors(const pencil *p, const pencil_io *io, double *b, double *c)
 {
     int n = p->n;
-    double *qo = linalg_calloc(2 * (size_t)n + 1, sizeof(double)), *qi = qo ? qo + n : NULL;
+    double *qo = calloc(2 * (size_t)n + 1, sizeof(double)), *qi = qo ? qo + n : NULL;
     if (!qo)
         return NAN;
     if (io->unit) {

@@ -9,7 +9,6 @@
 #include <string.h>
 
 #include "loopwise/eigvals.h"
-#include "loopwise/linalg.h"
 #include "pencil_impl.h"
 
 /* ---- O(rank^2) evaluation through the Hessenberg form ------------------------ */
@@ -31,9 +30,9 @@ int pencil_hess_new(const pencil *p, const pencil_io *io, pencil_hess **out, lw_
     pencil_hess *h = calloc(1, sizeof *h);
     if (h) {
         h->r = r;
-        h->H = linalg_alloc(sizeof(double) * (size_t)(r * r + 1));
-        h->b = linalg_alloc(sizeof(double) * (size_t)(2 * r + 2));
-        h->work = linalg_alloc(sizeof(double) * 2 * (size_t)(r * r + r + 1));
+        h->H = malloc(sizeof(double) * (size_t)(r * r + 1));
+        h->b = malloc(sizeof(double) * (size_t)(2 * r + 2));
+        h->work = malloc(sizeof(double) * 2 * (size_t)(r * r + r + 1));
     }
     if (!h || !h->H || !h->b || !h->work) {
         rc = lw_error_set(err, LW_ENOMEM, "out of memory");
@@ -237,7 +236,7 @@ int pencil_hess_feedback_eigen(const pencil_hess *h, double gain, double complex
     }
     if (!(fabs(kappa) * sqrt(nb * nc) <= 1e6 * nh))
         return LW_OK;
-    double *A = linalg_alloc(sizeof(double) * (size_t)(r * r));
+    double *A = malloc(sizeof(double) * (size_t)(r * r));
     if (!A)
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     memcpy(A, h->H, sizeof(double) * (size_t)(r * r));

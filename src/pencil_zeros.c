@@ -69,7 +69,7 @@ static int zero_dynamics(const pencil *p, const double *b, const double *c, doub
     /* M scaled to unit norm (zeros scale back by nm), the Krylov rows as
      * the columns of W (column-major), and five vectors */
     size_t rr = (size_t)r * (size_t)r;
-    double *Ms = linalg_alloc(sizeof(double) * (2 * rr + 5 * (size_t)r)), *W = Ms ? Ms + rr : NULL;
+    double *Ms = malloc(sizeof(double) * (2 * rr + 5 * (size_t)r)), *W = Ms ? Ms + rr : NULL;
     if (!Ms) {
         rc = lw_error_set(err, LW_ENOMEM, "out of memory");
         goto done;
@@ -165,7 +165,7 @@ static int zero_dynamics(const pencil *p, const double *b, const double *c, doub
         goto done;
     }
     /* N: orthonormal basis of the complement of span(W[:, 0..k-1]) from a QR */
-    double *Q = linalg_alloc(sizeof(double) * (rr + (size_t)k + (size_t)(r * nr + nr * nr) + 1));
+    double *Q = malloc(sizeof(double) * (rr + (size_t)k + (size_t)(r * nr + nr * nr) + 1));
     double *rd = Q ? Q + rr : NULL, *MN = rd ? rd + k : NULL, *Z = MN ? MN + r * nr : NULL;
     if (!Q) {
         rc = lw_error_set(err, LW_ENOMEM, "out of memory");
@@ -289,7 +289,7 @@ static int bordered_qz(const pencil_hess *h, int k, double complex *z, int *nz, 
     int N = k == 0 ? r + 1 : r - k + 1, c0 = k == 0 ? 0 : k - 1;
     double sb = nm / nb, sc = nm / nc;
     size_t NN = (size_t)N * (size_t)N;
-    double *A = linalg_calloc(2 * NN + 3 * (size_t)N, sizeof(double));
+    double *A = calloc(2 * NN + 3 * (size_t)N, sizeof(double));
     if (!A)
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     double *B = A + NN, *ar = B + NN, *ai = ar + N, *be = ai + N;
@@ -333,7 +333,7 @@ int pencil_hess_zero_candidates(const pencil *p, const pencil_hess *h, const pen
     *used = PENCIL_ZEROS_QZ;
     if (r == 0)
         return LW_OK;
-    double *bc = linalg_alloc(sizeof(double) * (size_t)(2 * r));
+    double *bc = malloc(sizeof(double) * (size_t)(2 * r));
     if (!bc)
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     double d0 = pencil_io_vectors(p, io, bc, bc + r);

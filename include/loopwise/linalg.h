@@ -11,15 +11,6 @@
 #define LOOPWISE_LINALG_H
 
 #include <complex.h>
-#include <stddef.h>
-
-/* Memory for the arrays LAPACK and BLAS work on, aligned to 64 bytes (a
- * cache line), released with free(). OpenBLAS's kernels take a different
- * order of operations on differently aligned data; with every base aligned
- * alike, a result does not depend on where malloc happened to put it, so
- * a Monte Carlo run gives the same figures on 1 and 2 threads. */
-void *linalg_alloc(size_t bytes);
-void *linalg_calloc(size_t count, size_t size);
 
 /* The inverse of the m x m A into inv, through A = U S V^T: inv = V S^-1 U^T.
  * Returns 2, with inv untouched, when the smallest singular value is below
