@@ -265,7 +265,13 @@ memcheck: all
 
 # Timings against the numpy/scipy reference; not part of check (bench/run.sh).
 bench: all
-	@sh bench/run.sh
+	@OPENBLAS_DIR=$(OPENBLAS_DIR) sh bench/run.sh
+
+# The benchmark programs link as loopwise does (bench/run.sh builds them).
+$(BUILD)/bench/%: bench/%.c $(BUILD)/libloopwise.a
+	@mkdir -p $(BUILD)/bench
+	@echo "  CC      $<"
+	$(Q)$(CC) $(ALL_CFLAGS) -o $@ $< $(BUILD)/libloopwise.a $(LDLIBS)
 
 -include $(FUZZ_OBJ:.o=.d) build/fuzz/fuzz_check.d
 -include $(LIB_OBJ:.o=.d) $(BUILD)/main.d $(TEST_BIN:=.d) $(BUILD)/tests/binom_grid.d $(BUILD)/tests/text_bytes.d

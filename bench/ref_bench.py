@@ -18,6 +18,8 @@ For each network it times, with numpy/scipy from Debian:
          each value of the swept cap, log spaced, and brentq on the value
          wherever the margin crosses the target (60 degrees), like sweep_run.
   eval   T(jw) at one frequency: form Y0(jw), one numpy.linalg.solve.
+and, once, numpy.linalg.eigvals of a dense 512 x 512 matrix ("eigvals512/s"),
+the yardstick of the 512-node check's target.
 Each measurement is repeated until it has taken --budget seconds (default 0.5)
 or --max-reps runs, and the median per run is reported: a run longer than the
 budget (the large networks) is done once.  Output: one flat JSON
@@ -25,6 +27,7 @@ object on stdout, keys "NAME/OP/FIELD" (NAME is the file name without .loop).
 """
 
 import cmath
+import ctypes
 import json
 import math
 import os
@@ -211,12 +214,38 @@ def timed(fn, budget, max_reps, min_reps=1):
 
 
 def blas_in_use():
-    """The BLAS and LAPACK libraries Debian's alternatives point numpy at."""
+    """The BLAS and LAPACK libraries numpy has loaded (read from the process's
+    own memory map, so LD_LIBRARY_PATH and Debian's alternatives are both
+    accounted for), and OpenBLAS's kernel set when it is OpenBLAS."""
     names = []
-    for lib in ("libblas.so.3", "liblapack.so.3"):
-        link = "/etc/alternatives/%s-x86_64-linux-gnu" % lib
-        names.append(os.path.realpath(link) if os.path.exists(link) else lib + ": unknown")
-    return ", ".join(names)
+    with open("/proc/self/maps", encoding="utf-8") as fh:
+        for line in fh:
+            path = line.split()[-1]
+            base = os.path.basename(path)
+            if base.startswith("lib") and ("blas" in base or "lapack" in base) and path not in names:
+                names.append(path)
+    core = ""
+    for path in names:
+        if "openblas" in os.path.basename(path):
+            try:
+                lib = ctypes.CDLL(path)
+                lib.openblas_get_corename.restype = ctypes.c_char_p
+                core = lib.openblas_get_corename().decode()
+            except (OSError, AttributeError):
+                pass
+    return ", ".join(names), core
+
+
+def dense_eigvals(n, reps=5):
+    """numpy.linalg.eigvals of a dense n x n matrix (seeded normal entries):
+    the yardstick the 512-node check is measured against."""
+    a = np.random.default_rng(12).standard_normal((n, n))
+    times = []
+    for _ in range(reps):
+        t0 = time.monotonic()
+        np.linalg.eigvals(a)
+        times.append(time.monotonic() - t0)
+    return float(np.median(times))
 
 
 def main(argv):
@@ -233,8 +262,10 @@ def main(argv):
         else:
             files.append(a)
     import scipy
+    eig512 = dense_eigvals(512)
+    blas, core = blas_in_use()
     out = {"budget_s": budget, "numpy": np.__version__, "scipy": scipy.__version__,
-           "blas": blas_in_use(),
+           "blas": blas, "blas_core": core, "eigvals512/s": eig512,
            "blas_env": " ".join("%s=%s" % (k, os.environ[k]) for k in sorted(os.environ)
                                 if k.startswith("OPENBLAS")) or "none"}
     for path in files:

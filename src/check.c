@@ -4,6 +4,7 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <time.h>
 
 #define TWO_PI 6.283185307179586
 
@@ -310,26 +311,56 @@ static int sound_margins(const check_opts *o, check_result *r, lw_error *err)
     return rc;
 }
 
+static double seconds(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+/* The progress line: the stage that starts now and the time so far; NULL
+ * clears it. A check of thousands of nodes spends seconds to a minute in
+ * its eigenproblems and scans, with nothing else to show. */
+static void progress(const check_opts *o, const model *m, double t0, const char *stage)
+{
+    if (!o->progress)
+        return;
+    if (stage)
+        fprintf(o->progress, "\rcheck, %d nodes: %-36s %7.1f s", m->n, stage, seconds() - t0);
+    else
+        fprintf(o->progress, "\r%72s\r", "");
+    fflush(o->progress);
+}
+
 int check_run(const desc *d, const model *m, const check_opts *o, check_result *r,
               lw_error *err)
 {
     memset(r, 0, sizeof *r);
+    double t0 = o->progress ? seconds() : 0;
+    progress(o, m, t0, "reduction, poles and zeros of T");
     size_t nn = (size_t)m->n * (size_t)m->n;
     double *G = malloc(sizeof(double) * (2 * nn + 1)), *G2 = G ? G + nn : NULL;
     unsigned char *off = calloc((size_t)m->ngm + 1, 1);
     int rc = G && off ? LW_OK : lw_error_set(err, LW_ENOMEM, "out of memory");
     if (!rc)
         rc = break_analysis(m, off, G, G2, o->want_owner, r, err);
-    if (!rc && o->want_loops)
+    if (!rc && o->want_loops) {
+        progress(o, m, t0, "declared loops");
         rc = declared_loops(d, m, r, G, o->keep_loops, err);
+    }
     if (!rc)
         rc = estimates(d, r, err);
-    if (!rc)
+    if (!rc) {
+        progress(o, m, t0, "margins");
         rc = sound_margins(o, r, err);
+    }
     if (!rc)
         stability(r);
-    if (!rc && o->want_nyquist)
+    if (!rc && o->want_nyquist) {
+        progress(o, m, t0, "Nyquist count");
         rc = nyquist_verdict(r, err);
+    }
+    progress(o, m, t0, NULL);
     if (!rc) {
         if (o->want_loops)
             dominance(d, r);

@@ -85,7 +85,7 @@ static figure_opts fig(const options *o)
  * much as the poles themselves on larger networks. */
 check_opts cli_design_opts(const options *o)
 {
-    check_opts co = { o->fmin, o->fmax, 0, 0, 0, 0 };
+    check_opts co = { o->fmin, o->fmax, 0, 0, 0, 0, NULL };
     return co;
 }
 

@@ -7,6 +7,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "loopwise/eigvals.h"
 #include "loopwise/cli.h"
@@ -471,8 +472,10 @@ int main(int argc, char **argv)
     memset(&r, 0, sizeof r);
     text_file *t = NULL;
     int rc = load(&o, &t, &d, &m, &err);
-    check_opts co = { o.fmin, o.fmax, 1, 1, o.each, 0 };
+    check_opts co = { o.fmin, o.fmax, 1, 1, o.each, 0, NULL };
     co.want_nyquist = !strcmp(o.command, "check") || !strcmp(o.command, "polar");
+    /* a check of this size takes a second or more: say what it is doing */
+    co.progress = m && m->n >= 256 && isatty(fileno(stderr)) ? stderr : NULL;
     int design = !strcmp(o.command, "size") || !strcmp(o.command, "sweep") ||
                  !strcmp(o.command, "load") || !strcmp(o.command, "corners") ||
                  !strcmp(o.command, "montecarlo");

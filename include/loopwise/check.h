@@ -7,6 +7,8 @@
 #ifndef LOOPWISE_CHECK_H
 #define LOOPWISE_CHECK_H
 
+#include <stdio.h>
+
 #include "loopwise/desc.h"
 #include "loopwise/loopgain.h"
 #include "loopwise/margins.h"
@@ -19,6 +21,8 @@ typedef struct check_opts {
     int want_loops;            /* each declared loop's own gain and sign check */
     int keep_loops;            /* keep each loop's own-gain evaluator (for plots) */
     int want_nyquist;          /* the Nyquist count and its cross-check */
+    FILE *progress;            /* not NULL: a line on it names each stage as it starts,
+                                  with the time so far (for a terminal; cleared at the end) */
 } check_opts;
 
 typedef struct check_loop {
