@@ -1,6 +1,7 @@
 /* eigvals: dense eigenproblems through LAPACKE. See eigvals.h. */
 #include "loopwise/eigvals.h"
 
+#include <gsl/gsl_cblas.h>
 #include <lapacke.h>
 #ifdef _OPENMP
 #include <omp.h>
@@ -154,6 +155,41 @@ static void store_hessenberg(int n, const double *T, double *A)
     for (size_t i = 0; i < un; i++)
         for (size_t j = 0; j < un; j++)
             A[i * un + j] = j + 1 >= i ? T[j * un + i] : 0.0;
+}
+
+int eigvals_schur(int n, double *H, double *v, int nv, double complex *ev)
+{
+    ws w;
+    if (n <= 0)
+        return 0;
+    if (ws_open(&w, n, H, COPY_T_HESS))
+        return -1;
+    size_t un = (size_t)n, nn = un * un;
+    double *Z = malloc(sizeof(double) * (nn + un * (size_t)(nv > 0 ? nv : 1)));
+    if (!Z) {
+        free(w.blk);
+        return -1;
+    }
+    double *tmp = Z + nn;
+    int rc = 1;
+    if (LAPACKE_dhseqr_work(LAPACK_COL_MAJOR, 'S', 'I', n, 1, n, w.T, n, w.wr, w.wi, Z, n,
+                            w.work, w.lwork) == 0) {
+        for (size_t i = 0; i < un; i++)
+            for (size_t j = 0; j < un; j++)
+                H[i * un + j] = j + 1 >= i ? w.T[j * un + i] : 0.0;
+        for (int k = 0; k < n; k++)
+            ev[k] = w.wr[k] + I * w.wi[k];
+        /* v -> Z^T v, the vectors side by side as an n x nv column-major matrix */
+        if (nv > 0) {
+            memcpy(tmp, v, sizeof(double) * un * (size_t)nv);
+            cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, n, nv, n, 1.0, Z, n, tmp, n,
+                        0.0, v, n);
+        }
+        rc = 0;
+    }
+    free(Z);
+    free(w.blk);
+    return rc;
 }
 
 int eigvals_hessenberg_form(int n, double *A, double *v, int nv)

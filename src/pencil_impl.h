@@ -37,6 +37,11 @@ struct pencil_hess {
     double *b, *c;
     double d0;
     double *work;          /* 2 (r x r + r): real and imaginary parts */
+    /* From SCHUR_MIN states on, T is evaluated through the real Schur form
+     * H = Z S Z^T instead: one back-substitution per point */
+    double *S;             /* r x r quasi-upper triangular, row-major; NULL below */
+    double *bs, *cs;       /* Z^T b and Z^T c */
+    double complex *eig;   /* the eigenvalues of H, from the same form */
 };
 
 /* The entry (node a, column k) of Q. */

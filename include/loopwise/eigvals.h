@@ -35,6 +35,13 @@ int eigvals_hessenberg(int n, const double *H, double complex *ev);
  * a Hessenberg matrix whose first row was changed, as the closed loop's. */
 int eigvals_hessenberg_balanced(int n, const double *H, double complex *ev);
 
+/* The real Schur form of an upper Hessenberg H (n x n row-major, entries
+ * below the subdiagonal ignored), H = Z S Z^T (dhseqr with Schur vectors):
+ * S replaces H (quasi-upper triangular: 1 x 1 and 2 x 2 blocks on the
+ * diagonal, row-major), each of the nv vectors in v (n values each, one
+ * after another) is replaced by Z^T v, and ev[n] gets the eigenvalues. */
+int eigvals_schur(int n, double *H, double *v, int nv, double complex *ev);
+
 /* Reduces the n x n row-major A in place to upper Hessenberg form
  * H = U^T A U (zeros below the subdiagonal) by Householder reflections, and
  * replaces each of the nv vectors stored one after another in v (n values
