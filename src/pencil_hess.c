@@ -31,7 +31,7 @@ void pencil_hess_free(pencil_hess *h)
  * (no copy, no elimination step, real times complex), which pays for the
  * Schur vectors once a check evaluates T a few hundred times; and the poles
  * come with it. */
-#define SCHUR_MIN 256
+#define SCHUR_MIN 1000
 
 static int schur_form(pencil_hess *h, lw_error *err)
 {
