@@ -18,8 +18,17 @@ typedef struct ffactor {
     double sign;         /* +1 for a zero, -1 for a pole */
 } ffactor;
 
+/* The factors are kept by kind, so that evaluating them needs no branch:
+ * a real root r gives 1 - jw/r; a conjugate pair a +- jb gives the one
+ * factor (1 - w^2/|r|^2) - j w 2a/|r|^2, whose imaginary part keeps its
+ * sign, so that one arctangent gives its continuous phase; a complex root
+ * whose conjugate is not among the roots stays a factor of its own. */
 typedef struct fform {
-    ffactor *f;
+    double *kr;          /* real roots: 1/r; zeros first (nrz), then poles (nrp) */
+    int nrz, nrp;
+    double *pp, *pq;     /* pairs: 1/|r|^2 and 2a/|r|^2; zeros (npz), then poles (npp) */
+    int npz, npp;
+    ffactor *f;          /* lone complex roots */
     int n;
     int origin;
     double logk;         /* log|K| */
