@@ -202,7 +202,7 @@ double complex lgain_eval_full(lgain *lg, double complex s)
     if (!lg->Y && !(lg->Y = malloc(sizeof *lg->Y * nn)))
         return NAN;
     for (size_t k = 0; k < nn; k++)
-        lg->Y[k] = CMPLX(lg->Gs[k] + sr * lg->Cs[k], si * lg->Cs[k]);
+        lg->Y[k] = (lg->Gs[k] + sr * lg->Cs[k]) + I * (si * lg->Cs[k]);
     for (int k = 0; k < n; k++)
         lg->x[k] = rhs_at(lg, k);
     if (linalg_solve_complex(n, lg->Y, lg->perm, lg->x))
