@@ -3,6 +3,7 @@
 #include "loopwise/pencil.h"
 
 #include <math.h>
+#include <string.h>
 
 #include "pencil_impl.h"
 
@@ -10,9 +11,7 @@ int pencil_state_space(const pencil *p, const pencil_io *io, double *A, double *
                        double *d, lw_error *err)
 {
     int r = p->r;
-    for (int i = 0; i < r; i++)
-        for (int j = 0; j < r; j++)
-            A[i * r + j] = gsl_matrix_get(p->M, (size_t)i, (size_t)j);
+    memcpy(A, p->M, sizeof(double) * (size_t)r * (size_t)r);
     *d = r || p->m ? pencil_io_vectors(p, io, b, c) : 0;
     if (isnan(*d))
         return lw_error_set(err, LW_ENOMEM, "out of memory");
