@@ -1,0 +1,36 @@
+/* loopgain_impl: what the two files of the loop-gain module share
+ * (loopgain.c: the evaluator and the closed loop; loopgain_tf.c: the
+ * structure of T). Not part of the library's public interface. */
+#ifndef LOOPWISE_LOOPGAIN_IMPL_H
+#define LOOPWISE_LOOPGAIN_IMPL_H
+
+#include <complex.h>
+
+#include "loopwise/loopgain.h"
+#include "loopwise/pencil.h"
+
+struct lgain {
+    int n, in, out;           /* out = -1: the break is the vector u (lgain_new_vec) */
+    double gain;              /* the LU path's factor: -g d_in d_out, or -d_in for a vector */
+    double hgain;             /* the Hessenberg path's factor: gain, or -1 for a vector
+                                 (pencil_io with node vectors gives v^T Y0^-1 u unscaled) */
+    double *u, *v;            /* a vector break: u and e_in, unscaled; us = D u */
+    double *us;
+    pencil_io io;
+    pencil *p;                /* the reduction of Y0, shared with lg_tf_analyse */
+    pencil_hess *h;           /* O(rank^2) evaluation */
+    int full;                 /* 1: evaluate by the LU of the whole network */
+    double *Gs, *Cs;          /* D G0 D and D C D */
+    double complex *Y, *x;    /* the LU path: Y0(s) and the right-hand side */
+    double *Yr, *xr;          /* the same at real s, by a real LU */
+    int *perm;
+    int walked;               /* a point of the exact phase walk is kept */
+    double walk_hz, walk_ph;
+};
+
+/* Order of lg_sort: by magnitude, then imaginary part (qsort comparator). */
+int lg_cmp_root(const void *pa, const void *pb);
+/* Cleans rounding residue: an imaginary part below 1e-12 of the magnitude is 0. */
+double complex lg_tidy(double complex z);
+
+#endif
