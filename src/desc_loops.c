@@ -84,14 +84,30 @@ int desc_find_hops(pstate *ps, desc_loop *L, const text_line *loop_line)
         for (int e = 0; e < d->nelems; e++)
             if (d->elems[e].kind == ELEM_GM && d->elems[e].a == from && d->elems[e].b == to)
                 L->hops[j][n++] = e;
+        /* the way back of a two-node loop may not be the element it went out
+         * by: a resistor between two nodes is no loop on its own */
+        int back = L->nnodes == 2 && j == 1 && L->nhops[0] == 1;
+        int out_by = back && d->elems[L->hops[0][0]].kind != ELEM_GM ? L->hops[0][0] : -1;
+        int same = 0;
         for (int e = 0; n == 0 && e < d->nelems; e++) {
             const desc_elem *el = &d->elems[e];
             if (el->kind != ELEM_GM && ((el->a == from && el->b == to) ||
                                         (el->a == to && el->b == from))) {
-                L->hops[j][n++] = e;
+                if (e == out_by)
+                    same = 1;
+                else
+                    L->hops[j][n++] = e;
             }
         }
         L->nhops[j] = n;
+        if (n == 0 && same) {
+            ps->ln = loop_line;
+            return desc_at_tok(ps, &loop_line->tok[3 + j], "loop '%s' goes from '%s' to '%s' "
+                               "and back through the same element '%s'; a loop must return by "
+                               "another path: expected a gm %s -> %s, or another res or cap "
+                               "between them", L->name, d->nodes[to].name, d->nodes[from].name,
+                               d->elems[out_by].name, d->nodes[from].name, d->nodes[to].name);
+        }
         if (n == 0) {
             ps->ln = loop_line;
             return desc_at_tok(ps, &loop_line->tok[3 + j], "loop '%s' has no hop from '%s' "
