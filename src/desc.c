@@ -501,3 +501,11 @@ int desc_find_elem(const desc *d, const char *name)
             return k;
     return -1;
 }
+
+const char *desc_elem_end(const desc *d, const desc_elem *e, int b_end)
+{
+    int node = b_end ? e->b : e->a, in = b_end ? e->b_in : e->a_in;
+    if (node != DESC_GND)
+        return d->nodes[node].name;
+    return in >= 0 ? d->inputs[in].name : "gnd";
+}

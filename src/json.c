@@ -168,13 +168,12 @@ void report_check_json(FILE *f, const desc *d, const model *m, const check_resul
         for (int k = 0; k < nw; k++) {
             const design_row *x = &w[k];
             int a = x->kind == ROW_NODE ? x->index : d->elems[x->index].a;
-            int b = x->kind == ROW_NODE ? DESC_GND : d->elems[x->index].b;
             fprintf(f, "%s{\"kind\": \"%s\", \"name\": ", k ? ",\n   " : "", kinds[x->kind]);
             json_string(f, x->kind == ROW_NODE ? d->nodes[a].name : d->elems[x->index].name);
             fputs(", \"between\": [", f);
             json_string(f, d->nodes[a].name);
             fputs(", ", f);
-            json_string(f, b == DESC_GND ? "gnd" : d->nodes[b].name);
+            json_string(f, x->kind == ROW_NODE ? "gnd" : desc_elem_end(d, &d->elems[x->index], 1));
             fprintf(f, "], \"value\": ");
             json_number(f, x->value);
             fputs(", \"pm_change_double_deg\": ", f);

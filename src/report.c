@@ -246,7 +246,7 @@ static void section_nodes(FILE *f, const desc *d, const check_result *r)
             const desc_elem *e = &d->elems[x->index];
             name = e->name;
             snprintf(what, sizeof what, "%s %s-%s", x->kind == ROW_CAP ? "cap" : "res",
-                     d->nodes[e->a].name, e->b == DESC_GND ? "gnd" : d->nodes[e->b].name);
+                     desc_elem_end(d, e, 0), desc_elem_end(d, e, 1));
         }
         si_format(x->value, x->kind == ROW_RES ? "\xCE\xA9" : "F", v, sizeof v);
         change_text(x->pm_double, a, sizeof a);

@@ -159,6 +159,9 @@ const char *desc_elem_kind_name(desc_elem_kind k);
 int desc_find_node(const desc *d, const char *name);
 int desc_find_input(const desc *d, const char *name);
 int desc_find_elem(const desc *d, const char *name);
+/* The name at one end of an element (b_end 0: a, the IN of a gm; 1: b):
+ * the node, the input it is tied to, or "gnd". */
+const char *desc_elem_end(const desc *d, const desc_elem *e, int b_end);
 /* The break (desc_break.c). desc_break_name resolves the name on a 'break'
  * line among what is declared so far (a gm, or a node that controls one);
  * desc_break_choose picks the break when no line named it. */

@@ -24,7 +24,9 @@ same() { # WHAT CMD FILE...: the command's output on FILE and on its moved form
     ra=$?
     "$LW" "$@" "$tmp/moved.loop" >"$tmp/b" 2>/dev/null
     rb=$?
-    sed "s|$tmp/moved.loop|$R|g" "$tmp/b" >"$tmp/b2"
+    # the compensation table names the input an element is tied to (below)
+    sed -e "s|$tmp/moved.loop|$R|g" -e 's/\(cap\|res\) \([a-z0-9_]*\)-vx  /\1 \2-gnd /' \
+        -e 's/"between": \["\([a-z0-9_]*\)", "vx"\]/"between": ["\1", "gnd"]/' "$tmp/b" >"$tmp/b2"
     if [ "$ra" = "$rb" ] && [ -s "$tmp/a" ] && cmp -s "$tmp/a" "$tmp/b2"; then ok
     else bad "$what: an input changed the output (exit $ra vs $rb)"; diff "$tmp/a" "$tmp/b2" | head -n 4; fi
 }
@@ -41,8 +43,18 @@ same "montecarlo" ea montecarlo --samples 200 --seed 3 --json
 sed -e '/^input vin/d; /^gm  g_sup/d; /^\(res\|cap\) /s/ vin / gnd /' $REG >"$tmp/reg_gnd.loop"
 "$LW" check $REG --json >"$tmp/a" 2>/dev/null
 "$LW" check "$tmp/reg_gnd.loop" --json >"$tmp/b" 2>/dev/null
-sed "s|$tmp/reg_gnd.loop|$REG|g" "$tmp/b" | cmp -s - "$tmp/a" && ok ||
+sed -e 's/"between": \["\([a-z0-9_]*\)", "vin"\]/"between": ["\1", "gnd"]/' "$tmp/a" >"$tmp/a2"
+sed "s|$tmp/reg_gnd.loop|$REG|g" "$tmp/b" | cmp -s - "$tmp/a2" && ok ||
     bad "regulator: its supply elements on gnd give other figures"
+# ... and the compensation table names the input, not gnd, at the end of an element tied
+# to it (the file says 'cap cgs gate vin', 'res ro_ea gate vin', 'res ro_p out vin')
+for e in cgs ro_ea ro_p; do
+    end=$(awk -v e=$e '$2 == e { print $3 "-" $4 }' $REG)
+    case $end in *-vin) ok ;; *) bad "$REG: $e is no longer tied to vin" ;; esac
+    "$LW" check $REG | grep -Eq "^  $e +(cap|res) $end " && ok || bad "check: $e is not shown as $end"
+    grep -q "\"name\": \"$e\", \"between\": \[\"${end%-vin}\", \"vin\"\]" "$tmp/a" && ok ||
+        bad "check --json: $e is not between ${end%-vin} and vin"
+done
 
 # ---- bad requests: exit 2, a message, nothing on stdout, no file ------------
 # refuse_nofile WANT ARGS...: as refuse, with --csv and -o given: neither written
