@@ -254,6 +254,7 @@ static void mc_text(FILE *f, const options *o, const desc *d, const mc_result *r
     }
     fputc('\n', f);
     report_pinned_text(f, d, 0);
+    report_held_text(f, d, -1);
     fprintf(f, "\n  %-15s %-9s %-9s %-9s %-9s %-9s %-9s %-9s %-9s %-9s\n", "", "mean", "sigma",
             "min", "1%", "5%", "median", "95%", "99%", "max");
     stats_row(f, "phase margin \xC2\xB0", &r->pm, 0);

@@ -15,22 +15,23 @@
 
 void figure_axis_label(FILE *s, const char *axis, const char *what, const char *unit)
 {
+    /* a value without a unit is labelled by its name alone, as the text's
+     * tables head its column */
     char xl[160];
-    snprintf(xl, sizeof xl, "%s (%s)", what,
-             !*unit ? "value" : !strcmp(unit, "\xCE\xA9") ? "ohm" : unit);
+    if (*unit)
+        snprintf(xl, sizeof xl, "%s (%s)", what, !strcmp(unit, "\xCE\xA9") ? "ohm" : unit);
+    else
+        snprintf(xl, sizeof xl, "%s", what);
     fprintf(s, "set %slabel ", axis);
     plot_quote(s, xl);
     fputs(" noenhanced\n", s);
 }
 
-/* A value with its unit and SI prefix; a plain number without a unit (an
- * "m" alone would read as metres). */
+/* A value with its SI prefix and unit, as the text's tables write it (a
+ * value without a unit keeps the prefix: "10 m", as in the table). */
 static const char *tic_text(double v, const char *unit, char *buf, size_t n)
 {
-    if (*unit)
-        return si_format(v, unit, buf, n);
-    snprintf(buf, n, "%g", v);
-    return buf;
+    return si_format(v, unit, buf, n);
 }
 
 /* Tick labels that a reader can interpolate between: on a log axis 1-2-5

@@ -60,7 +60,7 @@ static void gain_text(double g, char *buf, size_t size)
     else if (g == 0)
         snprintf(buf, size, "0 V/V");
     else
-        snprintf(buf, size, "%+.4g V/V (%.1f dB)", g, 20.0 * log10(fabs(g)));
+        snprintf(buf, size, "%+.4g V/V (%.1f dB)", g, units_no_neg_zero(20.0 * log10(fabs(g)), 1));
 }
 
 static void section_loops(FILE *f, const desc *d, const model *m, const check_result *r)
@@ -81,7 +81,8 @@ static void section_loops(FILE *f, const desc *d, const model *m, const check_re
                 d->loops[l].negative ? "negative" : "positive", g, at, verdict);
     }
     if (isfinite(r->dominance_db))
-        fprintf(f, "  negative loops over positive loops at DC: %.1f dB%s\n", r->dominance_db,
+        fprintf(f, "  negative loops over positive loops at DC: %.1f dB%s\n",
+                units_no_neg_zero(r->dominance_db, 1),
                 r->dominance_db < 6 ? "  (less than 2x: the positive loop is strong)" : "");
 }
 
@@ -134,7 +135,7 @@ static void section_gain(FILE *f, const desc *d, const model *m, const check_res
         fprintf(f, "  DC gain         0: the break gm is switched off\n");
     else
         fprintf(f, "  DC gain         %+.5g V/V (%.2f dB)%s\n", tf->dc,
-                20.0 * log10(fabs(tf->dc)), tf->dc < 0 ? "  (net positive feedback)" : "");
+                units_no_neg_zero(20.0 * log10(fabs(tf->dc)), 2), tf->dc < 0 ? "  (net positive feedback)" : "");
     if (mg->ncross == 0) {
         fprintf(f, "  crossover       none: |T| stays %s 1 from %s to %s, so the phase margin "
                 "is undefined\n", mg->why == CROSS_ABOVE ? "above" : "below",
@@ -149,7 +150,7 @@ static void section_gain(FILE *f, const desc *d, const model *m, const check_res
                 "in the band\n");
     else
         fprintf(f, "  gain margin     %.2f dB, where the phase reaches -180\xC2\xB0 (%s)\n",
-                mg->phase[mg->best_phase].value,
+                units_no_neg_zero(mg->phase[mg->best_phase].value, 2),
                 si_format(mg->phase[mg->best_phase].hz, "Hz", a, sizeof a));
     fprintf(f, "  band            %s to %s\n", si_format(mg->fmin_hz, "Hz", a, sizeof a),
             si_format(mg->fmax_hz, "Hz", b, sizeof b));

@@ -32,6 +32,22 @@ void report_pinned_text(FILE *f, const desc *d, int ranges)
         fputc('\n', f);
 }
 
+void report_held_text(FILE *f, const desc *d, int skip)
+{
+    int n = 0;
+    char a[32];
+    for (int k = 0; k < d->nparams; k++) {
+        const desc_param *p = &d->params[k];
+        if (k == skip || !p->spread.has_range || p->spread.dist != DIST_NONE)
+            continue;
+        fprintf(f, "%s %s = %s", n++ ? "," : "  held at their nominal value (a corner range, "
+                "no distribution):", p->name,
+                si_format(p->value, report_unit_of(p->unit), a, sizeof a));
+    }
+    if (n)
+        fputc('\n', f);
+}
+
 void report_pinned_json(FILE *f, const desc *d, int ranges)
 {
     int n = 0;
@@ -254,6 +270,7 @@ void report_size_mc(FILE *f, const desc *d, const char *name, desc_target t,
             "draws at every value): %d Monte Carlo runs\n", si_format(r->lo, unit, a, sizeof a),
             si_format(r->hi, unit, b, sizeof b), SIZE_MC_GRID, r->runs);
     report_pinned_text(f, d, 0);
+    report_held_text(f, d, t.kind == TARGET_PARAM ? t.index : -1);
     tuned_spread(f, d, t, name, 0);
     fputc('\n', f);
     if (r->met)

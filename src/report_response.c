@@ -14,6 +14,12 @@ static double db(double v)
     return v > 0 && isfinite(v) ? 20.0 * log10(v) : NAN;
 }
 
+/* The same for the text, where a level a hair below 0 dB prints as 0.00 */
+static double db_text(double v)
+{
+    return units_no_neg_zero(db(v), 2);
+}
+
 /* "V/V" or "Ω": the unit of H, and of y for a unit step ("V" per 1 V or 1 A). */
 static const char *h_unit(const response_report *rr)
 {
@@ -187,25 +193,25 @@ static void text_summary(FILE *f, const response_report *rr)
         fprintf(f, "  DC             H(0) = 0: no DC path from the source (a zero at s = 0)\n");
     else if (rr->from)
         fprintf(f, "  DC             H(0) = %s (%.2f dB): rejection %.2f dB\n",
-                h_value(rr, res->dc, a, sizeof a), db(adc), -db(adc));
+                h_value(rr, res->dc, a, sizeof a), db_text(adc), db_text(1.0 / adc));
     else
         fprintf(f, "  DC             H(0) = %s (%.2f dB\xCE\xA9)\n", h_value(rr, res->dc, a, sizeof a),
-                db(adc));
+                db_text(adc));
     fprintf(f, "  at high f      H(\xE2\x88\x9E) = %s%s\n", h_value(rr, res->hinf, a, sizeof a),
             res->hinf != 0 ? " (a direct path: resistive or capacitive)" : "");
     if (!(res->peak_value > 0))
         fprintf(f, "  peak           none: |H| is 0\n");
     else if (isnan(res->peak_hz))
         fprintf(f, "  peak           %.2f %s (%s), approached as f grows without bound\n",
-                db(res->peak_value), dbu, h_value(rr, res->peak_value, a, sizeof a));
+                db_text(res->peak_value), dbu, h_value(rr, res->peak_value, a, sizeof a));
     else if (res->peak_hz == 0)
         fprintf(f, "  peak           at DC: |H| never rises above |H(0)|\n");
     else
-        fprintf(f, "  peak           %.2f %s (%s) at %s%s%s\n", db(res->peak_value), dbu,
+        fprintf(f, "  peak           %.2f %s (%s) at %s%s%s\n", db_text(res->peak_value), dbu,
                 h_value(rr, res->peak_value, a, sizeof a), si_format(res->peak_hz, "Hz", b, sizeof b),
                 adc > 0 && isfinite(adc) ? ", " : "",
                 adc > 0 && isfinite(adc)
-                    ? (snprintf(c, sizeof c, "%.2f dB over DC", db(res->peak_value / adc)), c) : "");
+                    ? (snprintf(c, sizeof c, "%.2f dB over DC", db_text(res->peak_value / adc)), c) : "");
     if (!isnan(res->bandwidth_hz))
         fprintf(f, "  bandwidth      %s (|H| 3 dB below its DC value)\n",
                 si_format(res->bandwidth_hz, "Hz", a, sizeof a));

@@ -75,3 +75,9 @@ char *pct_format(double v, char *buf, size_t size)
     snprintf(buf, size, fabs(v) >= 1000 ? "%.0f%%" : "%.3g%%", v);
     return buf;
 }
+
+double units_no_neg_zero(double v, int decimals)
+{
+    /* -0.04 printed with one decimal is "-0.0": a sign with nothing behind it */
+    return fabs(v) < 0.5 * pow(10.0, -decimals) ? 0.0 : v;
+}

@@ -15,6 +15,10 @@
  * and as the JSON member "pinned": [names]. */
 void report_pinned_text(FILE *f, const desc *d, int ranges);
 void report_pinned_json(FILE *f, const desc *d, int ranges);
+/* Monte Carlo's header line for the params with a corner range and no
+ * distribution: they are not drawn, and keep their value (the file's, or a
+ * --set's) in every sample; skip is a param left out (the one sized), or -1. */
+void report_held_text(FILE *f, const desc *d, int skip);
 
 /* again: the reproduce line of the limiting corner at the answer; density:
  * capacitance per square micrometre (--density) for the area of a

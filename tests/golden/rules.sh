@@ -128,6 +128,13 @@ grep -q "pinned by --set, not combined: temp = 300" "$tmp/o" && ok || bad "corne
 "$LW" montecarlo $R --samples 20 --seed 1 --set ib=10u >"$tmp/o" 2>/dev/null
 grep -q "pinned by --set, not drawn: ib = 10" "$tmp/o" && ! grep -q "varied:.* ib " "$tmp/o" && ok ||
     bad "montecarlo: a pinned param is drawn"
+# temp has a corner range and no distribution: Monte Carlo holds it, and says so
+"$LW" montecarlo $R --samples 20 --seed 1 >"$tmp/o" 2>/dev/null
+grep -q "^  held at their nominal value (a corner range, no distribution): temp = 300$" "$tmp/o" &&
+    ! grep -q "varied:.* temp " "$tmp/o" && ok || bad "montecarlo: a param with only a corner range is not said to be held"
+"$LW" size $R --tune ccomp --over montecarlo --samples 200 --seed 1 --yield 0.9 >"$tmp/o" 2>/dev/null
+grep -q "^  held at their nominal value (a corner range, no distribution): temp = 300$" "$tmp/o" && ok ||
+    bad "size --over montecarlo: a param with only a corner range is not said to be held"
 
 # ---- fault 5: load ------------------------------------------------------------
 # The points are spaced in the added load: SPEC section 4's log spacing
@@ -293,6 +300,12 @@ grep -q "answer          cm = [0-9.]* [fpn]F$" "$tmp/o" && ok || bad "size: a pa
 grep -q "^  3 mS " "$tmp/o" && ok || bad "sweep: a param feeding a gm prints in S"
 "$LW" sweep $G/nulling.loop --vary k --from 1 --to 3 --points 3 >"$tmp/o" 2>/dev/null
 grep -q "^  3  *[0-9]" "$tmp/o" && ok || bad "sweep: a param inside a product prints without a unit"
+
+# the margin picture's value axis in the units of the table: k has none, so its ticks
+# carry the SI prefix as the table's rows do ('500 m'), and its label is the name alone
+"$LW" sweep $G/nulling.loop --vary k --from 0.5 --to 3 --points 5 -o "$tmp/k.png" --keep-script "$tmp/kk" >"$tmp/o" 2>/dev/null
+grep -q "^  500 m  " "$tmp/o" && grep -q "^set xtics ('500 m' 0.5, '700 m' 0.7, '1' 1, " "$tmp/kk/plot.gp" &&
+    grep -q "^set xlabel 'k' noenhanced" "$tmp/kk/plot.gp" && ok || bad "sweep -o: the value axis is not in the table's units"
 
 echo "rules: $pass passed, $fail failed"
 echo "$pass passed, $fail failed"

@@ -19,6 +19,12 @@ for f in tests/bad/*.loop; do
     rm -f "$tmp/out.csv"
 done
 
+# A level a hair below 0 dB prints as 0.0, never -0.0: a loop of gains -0.999 and -1
+# (1k at each node) has an own DC gain of 0.999, 20 log10 0.999 = -0.0087 dB.
+printf 'node a r=1k c=1p\nnode b r=1k c=2p\ngm g1 a -> b -0.999m\ngm g2 b -> a 1m\nloop l negative a b\n' >"$tmp/unity.loop"
+"$LW" check "$tmp/unity.loop" >"$tmp/o" 2>/dev/null
+grep -q "+0.999 V/V (0.0 dB)" "$tmp/o" && ! grep -q -- "-0\.0 dB\|-0\.00 dB" "$tmp/o" && ok || bad "a negative zero in dB"
+
 # A failed run leaves an existing output file untouched.
 echo "keep me" >"$tmp/keep.csv"
 "$LW" gain tests/bad/unknown_node.loop --csv "$tmp/keep.csv" >/dev/null 2>&1
