@@ -385,6 +385,9 @@ static int parse_options(int argc, char **argv, options *o)
         return usage_error("%s", "--each goes with 'gain -o'");
     if (o->keep_script && !o->plot)
         return usage_error("%s", "--keep-script goes with -o");
+    lw_error kerr;
+    if (o->keep_script && plot_keep_dir_check(o->keep_script, &kerr))
+        return usage_error("%s", kerr.msg);
     if (!strcmp(o->command, "size") && !o->ntune)
         return usage_error("%s", "size needs --tune NAME (and --pm DEG)");
     if (o->ntune && strcmp(o->command, "size"))

@@ -2,6 +2,7 @@
 #include "loopwise/plot.h"
 
 #include <errno.h>
+#include <libgen.h>
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
@@ -40,7 +41,16 @@ void plot_quote(FILE *f, const char *text)
     fputc('\'', f);
 }
 
+/* The script names its files relative to the job directory, where gnuplot
+ * runs: a script kept with --keep-script then runs where it is kept. */
 const char *plot_path(plot_job *job, const char *name)
+{
+    (void)job;
+    return name;
+}
+
+/* The full path of a file in the job directory, for the program itself. */
+static const char *job_file(plot_job *job, const char *name)
 {
     snprintf(job->pathbuf, sizeof job->pathbuf, "%s/%s", job->dir, name);
     return job->pathbuf;
@@ -49,8 +59,8 @@ const char *plot_path(plot_job *job, const char *name)
 static void remove_job_files(plot_job *job)
 {
     for (int k = 0; k < job->nfiles; k++)
-        unlink(plot_path(job, job->names[k]));
-    unlink(plot_path(job, "plot.gp"));
+        unlink(job_file(job, job->names[k]));
+    unlink(job_file(job, "plot.gp"));
     unlink(job->image);
     rmdir(job->dir);
 }
@@ -90,7 +100,7 @@ int plot_begin(const char *out_path, int width, int height, plot_job **out, lw_e
         return lw_error_set(err, LW_ENUMERIC, "cannot make a temporary directory for the plot");
     }
     snprintf(job->image, sizeof job->image, "%s/plot.%s", job->dir, svg ? "svg" : "png");
-    job->script = fopen(plot_path(job, "plot.gp"), "w");
+    job->script = fopen(job_file(job, "plot.gp"), "w");
     if (!job->script) {
         plot_abort(job);
         return lw_error_set(err, LW_ENUMERIC, "cannot write the plot script");
@@ -101,7 +111,7 @@ int plot_begin(const char *out_path, int width, int height, plot_job **out, lw_e
     else
         fprintf(job->script, "set terminal pngcairo size %d,%d enhanced font 'Sans,10' "
                 "background '#ffffff'\n", width, height);
-    fprintf(job->script, "set output '%s'\nset encoding utf8\n", job->image);
+    fprintf(job->script, "set output 'plot.%s'\nset encoding utf8\n", svg ? "svg" : "png");
     *out = job;
     return LW_OK;
 }
@@ -117,7 +127,7 @@ FILE *plot_data(plot_job *job, const char *name, lw_error *err)
         lw_error_set(err, LW_ENUMERIC, "too many plot data files");
         return NULL;
     }
-    FILE *f = fopen(plot_path(job, name), "w");
+    FILE *f = fopen(job_file(job, name), "w");
     if (!f) {
         lw_error_set(err, LW_ENUMERIC, "cannot write plot data");
         return NULL;
@@ -127,12 +137,12 @@ FILE *plot_data(plot_job *job, const char *name, lw_error *err)
     return f;
 }
 
-/* Starts gnuplot on the script with stdin closed and stdout/stderr into a
- * log in the job directory. Returns its exit status, 127 when not found. */
+/* Starts gnuplot on the script in the job directory (the script's names
+ * are relative to it) with stdin closed and stdout/stderr into a log there.
+ * Returns its exit status, 127 when not found. */
 static int run_gnuplot(plot_job *job)
 {
-    char script[PLOT_PATH_MAX + 64], log[PLOT_PATH_MAX + 64];
-    snprintf(script, sizeof script, "%s/plot.gp", job->dir);
+    char log[PLOT_PATH_MAX + 64];
     snprintf(log, sizeof log, "%s/gnuplot.log", job->dir);
     fflush(NULL);
     pid_t pid = fork();
@@ -147,7 +157,9 @@ static int run_gnuplot(plot_job *job)
         FILE *nul = fopen("/dev/null", "r");
         if (nul)
             dup2(fileno(nul), 0);
-        char *argv[] = { "gnuplot", script, NULL };
+        if (chdir(job->dir) != 0)
+            _exit(126);
+        char *argv[] = { "gnuplot", "plot.gp", NULL };
         execvp("gnuplot", argv);
         _exit(127);
     }
@@ -184,13 +196,45 @@ static int copy_to(const char *from, const char *dir, const char *name)
     return fclose(f) || rc ? -1 : 0;
 }
 
+int plot_keep_dir_check(const char *dir, lw_error *err)
+{
+    struct stat sb;
+    if (!*dir)
+        return lw_error_set(err, LW_EINPUT, "--keep-script '': expected a directory");
+    if (strlen(dir) > PLOT_PATH_MAX - 64)
+        return lw_error_set(err, LW_EINPUT, "--keep-script: the directory name is too long "
+                            "(at most %d bytes)", PLOT_PATH_MAX - 64);
+    if (stat(dir, &sb) == 0) {
+        if (!S_ISDIR(sb.st_mode))
+            return lw_error_set(err, LW_EINPUT, "--keep-script '%s': it exists and is not a "
+                                "directory; name a directory to keep the script in", dir);
+        if (access(dir, W_OK | X_OK) != 0)
+            return lw_error_set(err, LW_EINPUT, "--keep-script '%s': the directory is not "
+                                "writable", dir);
+        return LW_OK;
+    }
+    /* not there yet: made (one level) when the picture is drawn, so its
+     * parent must be a writable directory */
+    char copy[PLOT_PATH_MAX];
+    snprintf(copy, sizeof copy, "%s", dir);
+    const char *parent = dirname(copy);
+    if (stat(parent, &sb) != 0 || !S_ISDIR(sb.st_mode))
+        return lw_error_set(err, LW_EINPUT, "--keep-script '%s': '%s' is not an existing "
+                            "directory; name a directory that exists, or a new one inside an "
+                            "existing one", dir, parent);
+    if (access(parent, W_OK | X_OK) != 0)
+        return lw_error_set(err, LW_EINPUT, "--keep-script '%s': cannot make it, '%s' is not "
+                            "writable", dir, parent);
+    return LW_OK;
+}
+
 static int keep_files(plot_job *job, const char *keep_dir, lw_error *err)
 {
     if (mkdir(keep_dir, 0755) != 0 && errno != EEXIST)
         return lw_error_set(err, LW_EINPUT, "--keep-script '%s': %s", keep_dir, strerror(errno));
-    int bad = copy_to(plot_path(job, "plot.gp"), keep_dir, "plot.gp");
+    int bad = copy_to(job_file(job, "plot.gp"), keep_dir, "plot.gp");
     for (int k = 0; k < job->nfiles; k++)
-        bad |= copy_to(plot_path(job, job->names[k]), keep_dir, job->names[k]);
+        bad |= copy_to(job_file(job, job->names[k]), keep_dir, job->names[k]);
     return bad ? lw_error_set(err, LW_EINPUT, "--keep-script '%s': cannot copy the files", keep_dir)
                : LW_OK;
 }
@@ -222,6 +266,9 @@ int plot_finish(plot_job *job, const char *keep_dir, lw_error *err)
                           "check the gnuplot-nox package", st, job->out_path);
         goto done;
     }
+    /* the kept files first: when they cannot be written, no image either */
+    if (keep_dir && (rc = keep_files(job, keep_dir, err)))
+        goto done;
     outfile *of;
     if ((rc = outfile_open(job->out_path, &of, err)))
         goto done;
@@ -230,12 +277,9 @@ int plot_finish(plot_job *job, const char *keep_dir, lw_error *err)
         rc = lw_error_set(err, LW_EINPUT, "cannot write '%s'", job->out_path);
         goto done;
     }
-    if ((rc = outfile_commit(of, err)))
-        goto done;
-    if (keep_dir)
-        rc = keep_files(job, keep_dir, err);
+    rc = outfile_commit(of, err);
 done:
-    unlink(plot_path(job, "gnuplot.log"));
+    unlink(job_file(job, "gnuplot.log"));
     remove_job_files(job);
     free(job->out_path);
     free(job);

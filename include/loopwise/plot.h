@@ -28,8 +28,14 @@ int plot_begin(const char *out_path, int width, int height, plot_job **job, lw_e
 FILE *plot_script(plot_job *job);
 /* Opens a data file NAME in the job's directory; the job closes it. */
 FILE *plot_data(plot_job *job, const char *name, lw_error *err);
-/* The full path of a job file, for the script (a safe, program-made path). */
+/* A job file's name as the script gives it: relative to the job directory,
+ * where gnuplot runs (a program-made name, safe in a script), so that a
+ * script kept with --keep-script runs in the directory it is kept in. */
 const char *plot_path(plot_job *job, const char *name);
+/* Whether --keep-script DIR can be written (an existing writable directory,
+ * or a new one inside one), checked before anything is computed or written:
+ * LW_EINPUT with a message that says what is wrong. */
+int plot_keep_dir_check(const char *dir, lw_error *err);
 /* Runs gnuplot, moves the image to out_path, copies data and script to
  * keep_dir when not NULL. LW_ENUMERIC (exit 3) when gnuplot is missing or
  * fails; the message names the package to install. */

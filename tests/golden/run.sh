@@ -153,6 +153,25 @@ for cmd in "roots $R" "polar $R" "gain $R --each" "sweep $R --vary rser --from 5
 done
 "$LW" gain $R -o "$tmp/k.png" --keep-script "$tmp/keep" >/dev/null 2>&1 &&
     [ -s "$tmp/keep/plot.gp" ] && [ -s "$tmp/keep/net.dat" ] && ok || bad "--keep-script"
+# The kept script runs where it is kept: its data files beside it, named relatively, and
+# 'gnuplot plot.gp' there draws the very picture -o wrote (no trace of the private
+# temporary directory, which is gone).
+for cmd in "gain $R" "roots $R" "polar $R" "sweep $R --vary rser --from 540 --to 54k --points 5" \
+           "load $R --node brb --cload 0.1p..10p --points 5" "montecarlo $R --samples 50 --seed 1" \
+           "response cases/regulator.loop --to out --step"; do
+    rm -rf "$tmp/kk" "$tmp/kk.png"
+    "$LW" $cmd -o "$tmp/kk.png" --keep-script "$tmp/kk" >/dev/null 2>&1
+    ( cd "$tmp/kk" && ! grep -q "loopwise-plot-\|$tmp" plot.gp && gnuplot plot.gp 2>/dev/null ) &&
+        cmp -s "$tmp/kk.png" "$tmp/kk/plot.png" && ok || bad "$cmd: the kept script does not run where it is kept"
+done
+# A --keep-script directory that cannot be made is refused before anything is written
+# (exit 2, nothing on stdout, no picture); so is a file in its place.
+for k in /nonexistent/dir "$tmp/kk.png"; do
+    rm -f "$tmp/c.png"
+    "$LW" gain $R -o "$tmp/c.png" --keep-script "$k" >"$tmp/o" 2>"$tmp/e"
+    [ $? = 2 ] && [ ! -s "$tmp/o" ] && [ ! -e "$tmp/c.png" ] && grep -q -- "--keep-script '$k'" "$tmp/e" && ok ||
+        bad "--keep-script $k: exit, output or picture"
+done
 "$LW" gain $R -o "$tmp/x.pdf" >"$tmp/o" 2>"$tmp/e"
 [ $? = 2 ] && [ ! -s "$tmp/o" ] && grep -q "must end in .png or .svg" "$tmp/e" && ok || bad "-o with a wrong extension"
 
