@@ -146,11 +146,33 @@ static void csv_num(FILE *f, double v, const char *sep)
         fputs(sep, f);
 }
 
-/* One line per closed-loop pole (a pair once), as 'check' lists them. */
+/* A closed-loop pole in the right half-plane, by check's rule (check.c):
+ * beyond its own rounding, 1e-9 of its magnitude or 1e-13 of the largest. */
+static int rhp_pole(double complex p, double scale)
+{
+    return creal(p) > fmax(1e-9 * cabs(p), 1e-13 * scale);
+}
+
+static int rhp_count(const double complex *v, int n)
+{
+    double scale = 0;
+    int c = 0;
+    for (int k = 0; k < n; k++)
+        scale = fmax(scale, cabs(v[k]));
+    for (int k = 0; k < n; k++)
+        c += rhp_pole(v[k], scale);
+    return c;
+}
+
+/* One line per closed-loop pole (a pair once), as 'check' lists them, a
+ * pole in the right half-plane marked as check marks it. */
 static void text_roots(FILE *f, const double complex *v, int n, const unsigned char *hidden)
 {
     char re[32], im[32];
     int row = 0;
+    double scale = 0;
+    for (int k = 0; k < n; k++)
+        scale = fmax(scale, cabs(v[k]));
     for (int k = 0; k < n; k++) {
         if (cimag(v[k]) < 0)
             continue;
@@ -165,8 +187,10 @@ static void text_roots(FILE *f, const double complex *v, int n, const unsigned c
         }
         if (cimag(p) != 0 && creal(p) != 0)
             fprintf(f, "Q %.3g", cabs(p) / (2 * fabs(creal(p))));
+        if (hidden && rhp_pole(p, scale))
+            fprintf(f, "%sRIGHT HALF-PLANE", cimag(p) != 0 ? "  " : "");
         if (hidden && hidden[k])
-            fprintf(f, "%snot seen by H", cimag(p) != 0 ? "  " : "");
+            fprintf(f, "%snot seen by H", cimag(p) != 0 || rhp_pole(p, scale) ? "  " : "");
         if (!hidden && creal(p) > 0)
             fputs("right half-plane zero", f);
         fputc('\n', f);
@@ -279,6 +303,17 @@ static void text_response(FILE *f, const desc *d, const response_report *rr)
     else
         fprintf(f, "loopwise response: %s  current into '%s', read at '%s' (ohm), loop closed\n\n",
                 d->path, rr->inject, rr->to);
+    /* an unstable loop is said first: every figure below is of a steady
+     * state the circuit never reaches */
+    int rhp = rhp_count(rr->cl, rr->ncl);
+    if (!rr->stable && rhp)
+        fprintf(f, "The closed loop is UNSTABLE: %d pole%s in the right half-plane (marked "
+                "below), so y(t) grows without bound and there is no step response. The "
+                "figures and the table are H on the j\xCF\x89 axis, a steady state the circuit "
+                "never reaches.\n\n", rhp, rhp > 1 ? "s lie" : " lies");
+    else if (!rr->stable)
+        fputs("The closed loop is MARGINAL: a pole sits on the j\xCF\x89 axis (within "
+              "rounding), so y(t) does not settle and there is no step response.\n\n", f);
     text_summary(f, rr);
     fputs("\nClosed-loop poles (s/2\xCF\x80)\n", f);
     text_roots(f, rr->cl, rr->ncl, res->tf.hidden);
@@ -298,17 +333,9 @@ static void text_response(FILE *f, const desc *d, const response_report *rr)
     if (res->suspect)
         fputs("\nAccuracy warning: the poles and zeros found do not reproduce the exact H "
               "everywhere; confirm the peak with a finer --fmin/--fmax band.\n", f);
-    int rhp = 0;
-    for (int k = 0; k < rr->ncl; k++)
-        rhp += creal(rr->cl[k]) > 0;
-    if (!rr->stable && rhp)
-        fprintf(f, "\nThe closed loop is UNSTABLE: %d pole%s in the right half-plane, so y(t) "
-                "grows without bound and there is no step response. The table is H on the "
-                "j\xCF\x89 axis, a steady state the circuit never reaches.\n", rhp,
-                rhp > 1 ? "s lie" : " lies");
-    else if (!rr->stable)
-        fputs("\nThe closed loop is MARGINAL: a pole sits on the j\xCF\x89 axis (within "
-              "rounding), so y(t) does not settle and there is no step response.\n", f);
+    if (!rr->stable)
+        fprintf(f, "\nVerdict: the closed loop is %s (see the top): no step response.\n",
+                rhp ? "UNSTABLE" : "MARGINAL");
 }
 
 void report_response(FILE *f, const desc *d, const response_report *rr, out_format fmt)

@@ -112,6 +112,22 @@ rc=$?
 "$LW" check $REG --set cout=10n --json 2>/dev/null | $PY -c "import json,sys; sys.exit(0 if json.load(sys.stdin)['stable'] is False else 1)" &&
     [ $rc = 1 ] && grep -q "UNSTABLE" "$tmp/o" && ! grep -q "^Step response" "$tmp/o" && ok ||
     bad "response on an unstable loop: exit $rc, a sentence, no step"
+# ... said before the figures and the table, and its right-half-plane poles marked in the
+# pole list as check marks them (the pair above: one row)
+"$LW" check $REG --set cout=10n --json >"$tmp/u_check.json" 2>/dev/null
+$PY - "$tmp/o" "$tmp/u_check.json" <<'PYEOF' && ok || bad "response on an unstable loop: the sentence first, the poles marked"
+import json, sys
+text = open(sys.argv[1]).read().split("\n")
+cl = json.load(open(sys.argv[2]))["closed_loop_poles"]
+rhp = [p for p in cl if p["re_hz"] > 0 and p["im_hz"] >= 0]
+assert len(rhp) == 1 and abs(rhp[0]["re_hz"] - 173e3) < 1e3, rhp
+first = next(i for i, l in enumerate(text) if "UNSTABLE" in l)
+assert first < text.index("Closed-loop poles (s/2\u03c0)") < next(i for i, l in enumerate(text) if l.startswith("  frequency"))
+assert text[first].startswith("The closed loop is UNSTABLE: 2 poles lie in the right half-plane")  # the pair
+poles = text[text.index("Closed-loop poles (s/2\u03c0)") + 1:text.index("Zeros of H (s/2\u03c0)")]
+assert sum("RIGHT HALF-PLANE" in l for l in poles) == len(rhp), poles
+assert "173 kHz" in [l for l in poles if "RIGHT HALF-PLANE" in l][0], poles
+PYEOF
 "$LW" response $REG --to out --set cout=10n --json >"$tmp/u.json" 2>/dev/null
 $PY -c "import json,sys; d=json.load(open(sys.argv[1])); assert d['step'] is None and d['stable'] is False" "$tmp/u.json" &&
     ok || bad "response --json on an unstable loop: step must be null"
