@@ -328,6 +328,7 @@ int size_run(desc *d, desc_target t, double lo, double hi, design_goal g, const 
         return LW_OK;
     }
     r->met = 1;
+    r->at_lo = first == 0;
     double value = sw.pts[first].value;
     for (int k = 0; k < sw.ncross; k++)
         if (sw.cross[k].rises && sw.cross[k].value <= value) {

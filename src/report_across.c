@@ -147,7 +147,8 @@ void report_size_corners(FILE *f, const desc *d, const char *name, desc_target t
         json_number(f, r->value);
         fputs(", ", f);
         report_point_fields(f, p);
-        fprintf(f, ", \"met\": %s,\n \"limiting_corner\": ", r->met ? "true" : "false");
+        fprintf(f, ", \"met\": %s, \"met_at_low_end\": %s,\n \"limiting_corner\": ",
+                r->met ? "true" : "false", r->met && r->at_lo ? "true" : "false");
         values_json(f, d, cr->params, cr->nparams, cr->values + w * cr->nparams);
         fprintf(f, ", \"limiting_index\": %d, \"analyses\": %d, \"area_um2\": ", w + 1,
                 r->analyses);
@@ -175,7 +176,11 @@ void report_size_corners(FILE *f, const desc *d, const char *name, desc_target t
     report_pinned_text(f, d, 1);
     tuned_spread(f, d, t, name, 1);
     fputc('\n', f);
-    if (r->met)
+    if (r->met && r->at_lo)
+        fprintf(f, "  answer          %s = %s, the lower end of the range: every corner meets "
+                "the %s there\n", name, si_format_digits(r->value, unit, 5, a, sizeof a),
+                design_goal_word(g));
+    else if (r->met)
         fprintf(f, "  answer          %s = %s: the smallest value at which every corner meets "
                 "the %s\n", name, si_format_digits(r->value, unit, 5, a, sizeof a),
                 design_goal_word(g));
@@ -217,7 +222,12 @@ void report_size_corners(FILE *f, const desc *d, const char *name, desc_target t
         fprintf(f, "  ... and %d more corners, each with a larger margin\n",
                 cr->ncorners - SHOWN_CORNERS);
     fprintf(f, "  reproduce it: %s\n", again);
-    if (r->met)
+    if (r->met && r->at_lo)
+        fprintf(f, "\nVerdict: every corner already meets the %s at the lower end of the range, "
+                "%s = %s: the smallest value that meets it lies below; widen --within (e.g. "
+                "--within %s..%s).\n", design_goal_word(g), name, si_format(r->value, unit, a,
+                sizeof a), si_word(r->lo / 100, b, sizeof b), si_word(r->hi, gt, sizeof gt));
+    else if (r->met)
         fprintf(f, "\nVerdict: %s = %s meets the %s at every corner; corner #%d limits there.\n",
                 name, si_format(r->value, unit, a, sizeof a), design_goal_word(g), w + 1);
     else

@@ -267,7 +267,8 @@ void report_size(FILE *f, const desc *d, const char *name, desc_target t, const 
         json_number(f, p->value);
         fputs(", ", f);
         report_point_fields(f, p);
-        fprintf(f, ", \"met\": %s, \"window_high\": ", r->met ? "true" : "false");
+        fprintf(f, ", \"met\": %s, \"met_at_low_end\": %s, \"window_high\": ", r->met ? "true" : "false",
+                r->met && r->at_lo ? "true" : "false");
         json_number(f, r->window ? r->hi_value : NAN);
         fputs(", \"area_um2\": ", f);
         json_number(f, is_cap && density > 0 ? p->value / density : NAN);
@@ -290,7 +291,8 @@ void report_size(FILE *f, const desc *d, const char *name, desc_target t, const 
     fprintf(f, "\n  searched %s to %s (log grid of 81 points, refined to 1e-6)\n\n",
             si_format(r->lo, unit, a, sizeof a), si_format(r->hi, unit, b, sizeof b));
     if (r->met) {
-        fprintf(f, "  answer          %s = %s\n", name, si_format(p->value, unit, a, sizeof a));
+        fprintf(f, "  answer          %s = %s%s\n", name, si_format(p->value, unit, a, sizeof a),
+                r->at_lo ? ", the lower end of the range" : "");
         if (r->window && !isnan(r->hi_value))
             fprintf(f, "  note            the target is met only up to %s = %s: a window, not "
                     "a threshold\n", name, si_format(r->hi_value, unit, b, sizeof b));
@@ -323,8 +325,15 @@ void report_size(FILE *f, const desc *d, const char *name, desc_target t, const 
         fprintf(f, "  limited by      the second pole at %s%s%s%s, near the crossover\n",
                 si_format(p->p2_hz, "Hz", a, sizeof a), p->p2_node >= 0 ? " (node '" : "",
                 p->p2_node >= 0 ? d->nodes[p->p2_node].name : "", p->p2_node >= 0 ? "')" : "");
-    fprintf(f, "\nVerdict: %s\n", r->met ? "the target is met." : "no value in the range meets "
-            "the target; widen --within or change another value.");
+    if (r->met && r->at_lo)
+        fprintf(f, "\nVerdict: the target is already met at the lower end of the range, %s = %s: "
+                "the smallest value that meets it lies below; widen --within (e.g. --within "
+                "%s..%s).\n",
+                name, si_format(r->lo, unit, a, sizeof a), si_word(r->lo / 100, b, sizeof b),
+                si_word(r->hi, c, sizeof c));
+    else
+        fprintf(f, "\nVerdict: %s\n", r->met ? "the target is met." : "no value in the range meets "
+                "the target; widen --within or change another value.");
 }
 
 /* What to do when a load inside the loop costs too much margin depends on

@@ -208,6 +208,7 @@ int size_corners_run(desc *d, desc_target t, double lo, double hi, int levels, d
         if (k == 0) {
             value = b;
             r->met = 1;
+            r->at_lo = 1;
             break;
         }
         /* W < 0 at the grid point below (corner c fails there), W >= 0 at b:

@@ -81,3 +81,27 @@ double units_no_neg_zero(double v, int decimals)
     /* -0.04 printed with one decimal is "-0.0": a sign with nothing behind it */
     return fabs(v) < 0.5 * pow(10.0, -decimals) ? 0.0 : v;
 }
+
+char *si_word(double v, char *buf, size_t size)
+{
+    /* the file's number syntax with ASCII prefixes (u for micro), so that a
+     * suggested command line can be typed or pasted anywhere */
+    static const char ascii_prefix[] = "fpnum kMGT";
+    double a = fabs(v);
+    if (!(a >= 1e-15 && a < 1e15)) {
+        snprintf(buf, size, "%.6g", v);
+        return buf;
+    }
+    int e = (int)floor(log10(a) / 3.0);
+    double m = v / pow(10.0, 3.0 * e);
+    if (fabs(m) >= 999999.5) { /* rounding carried into the next prefix */
+        e++;
+        m /= 1000.0;
+    }
+    char p = ascii_prefix[e + 5];
+    if (p == ' ')
+        snprintf(buf, size, "%.6g", m);
+    else
+        snprintf(buf, size, "%.6g%c", m, p);
+    return buf;
+}

@@ -116,6 +116,7 @@ typedef struct size_result {
     int window;             /* met only between lo_value and hi_value */
     double hi_value;        /* upper end of the window (NAN when none) */
     double lo, hi;          /* the range searched */
+    int at_lo;              /* met already at lo: the smallest value lies below the range */
 } size_result;
 
 int size_run(desc *d, desc_target t, double lo, double hi, design_goal g, const check_opts *o,

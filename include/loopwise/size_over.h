@@ -25,6 +25,8 @@ typedef struct size_corners_result {
     int nominal_worst;       /* the worst corner there */
     int analyses;            /* whole analyses the search ran */
     int switches;            /* times the corner being solved for changed */
+    int at_lo;               /* every corner meets already at lo: the smallest value
+                                lies below the range */
 } size_corners_result;
 
 /* The worst-case margin W(v) = min over corners of the distance to the goal

@@ -17,6 +17,10 @@ char *si_format_digits(double v, const char *unit, int digits, char *buf, size_t
  * from 1000 on ("2218%") rather than an exponent. */
 char *pct_format(double v, char *buf, size_t size);
 
+/* v as one word in the file's number syntax: up to 6 significant digits and
+ * an ASCII SI prefix, no unit ("2.5p", "10u", "47k"), for suggested
+ * command lines. */
+char *si_word(double v, char *buf, size_t size);
 /* v, or 0 when it prints as zero with `decimals` decimals: printf then shows
  * "0.0", never "-0.0". */
 double units_no_neg_zero(double v, int decimals);
