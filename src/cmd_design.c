@@ -268,7 +268,8 @@ int cmd_load(const options *o, desc *d, int *code, lw_error *err)
     load_result r;
     if ((rc = load_run(d, node, lo, hi, o->points ? o->points : 25, goal(o), &co, &r, err)))
         return rc;
-    report_load(stdout, d, &r, lo, hi, goal(o), o->json ? OUT_JSON : OUT_TEXT);
+    report_load(stdout, d, &r, lo, hi, goal(o), o->sets, o->nsets,
+                o->json ? OUT_JSON : OUT_TEXT);
     *code = r.failed ? 1 : 0;
     if (o->plot && r.inside) {
         figure_opts fo = fig(o);

@@ -356,8 +356,53 @@ int size_run(desc *d, desc_target t, double lo, double hi, design_goal g, const 
 
 void load_result_free(load_result *r)
 {
-    if (r)
-        sweep_result_free(&r->sw);
+    if (!r)
+        return;
+    sweep_result_free(&r->sw);
+    free(r->met_lo);
+    free(r->met_hi);
+    r->met_lo = r->met_hi = NULL;
+    r->nmet = 0;
+}
+
+/* The boundary between grid points k-1 and k where the goal starts (rises)
+ * or stops being met: the refined crossing there, or the grid point on the
+ * met side when none was refined (the goal also asks for stability, which
+ * the crossings of the margin do not see). */
+static double met_edge(const sweep_result *sw, int k, int rises)
+{
+    double a = sw->pts[k - 1].value, b = sw->pts[k].value;
+    for (int c = 0; c < sw->ncross; c++)
+        if (sw->cross[c].rises == rises && sw->cross[c].value >= a && sw->cross[c].value <= b)
+            return sw->cross[c].value;
+    return rises ? b : a;
+}
+
+/* The load ranges that meet the goal, from the grid and its crossings; the
+ * margin need not fall as the load grows (a load can also split a pole pair
+ * or slow a pole that was limiting), so every range is kept. */
+static int met_ranges(load_result *r, design_goal g, lw_error *err)
+{
+    const sweep_result *sw = &r->sw;
+    r->met_lo = malloc(sizeof(double) * (size_t)(sw->npts + 1));
+    r->met_hi = malloc(sizeof(double) * (size_t)(sw->npts + 1));
+    if (!r->met_lo || !r->met_hi)
+        return lw_error_set(err, LW_ENOMEM, "out of memory");
+    int open = 0;
+    for (int k = 0; k < sw->npts; k++) {
+        int m = design_meets(&sw->pts[k], g);
+        if (m && !open) {
+            r->met_lo[r->nmet] = k == 0 ? sw->pts[0].value : met_edge(sw, k, 1);
+            open = 1;
+        } else if (!m && open) {
+            r->met_hi[r->nmet++] = met_edge(sw, k, 0);
+            open = 0;
+        }
+    }
+    if (open)
+        r->met_hi[r->nmet++] = sw->pts[sw->npts - 1].value;
+    r->max_load_f = r->nmet ? r->met_hi[r->nmet - 1] : NAN;
+    return LW_OK;
 }
 
 /* The node is inside the loop when extra capacitance there changes T.
@@ -418,6 +463,53 @@ static int seen_resistance(desc *d, int node, double *rs, lw_error *err)
     return rc;
 }
 
+/* The compensation that helps most with the worst load in place: the
+ * compensation table at that load (design_table.c), its cap and res rows
+ * first (the values a designer sizes), then the capacitance to ground at
+ * another node; a change helps when it gains more than 0.05 degrees (the
+ * table's own threshold for "the largest gain"). */
+static int load_advice(desc *d, desc_target t, double c, const check_opts *o, load_result *r,
+                       lw_error *err)
+{
+    r->advice_index = -1;
+    desc_saved saved = desc_target_save(d, t);
+    desc_target_set(d, t, c, err);
+    model *m = NULL;
+    check_result cr;
+    int have = 0;
+    design_row *w = NULL;
+    int rc = desc_eval(d, err);
+    if (!rc)
+        rc = model_new(d, &m, err);
+    if (!rc && !(rc = check_run(d, m, o, &cr, err)))
+        have = 1;
+    if (!rc)
+        rc = design_node_table(d, o, &cr, err);
+    int n = rc ? 0 : design_table_rows(d, &cr, &w);
+    if (n < 0)
+        rc = lw_error_set(err, LW_ENOMEM, "out of memory");
+    for (int pass = 0; pass < 2 && r->advice_index < 0; pass++)
+        for (int k = 0; k < n; k++) {
+            const design_row *x = &w[k];
+            if ((pass == 0) != (x->kind != ROW_NODE) || (x->kind == ROW_NODE && x->index == r->node))
+                continue;
+            int half = !(x->pm_double >= x->pm_half) && !isnan(x->pm_half);
+            double gain = half ? x->pm_half : x->pm_double;
+            if (gain > 0.05 && (r->advice_index < 0 || gain > r->advice_gain)) {
+                r->advice_kind = (int)x->kind;
+                r->advice_index = x->index;
+                r->advice_half = half;
+                r->advice_gain = gain;
+            }
+        }
+    free(w);
+    if (have)
+        check_result_free(&cr);
+    model_free(m);
+    desc_target_restore(d, t, saved);
+    return rc;
+}
+
 int load_run(desc *d, int node, double lo, double hi, int npts, design_goal g, const check_opts *o,
              load_result *r, lw_error *err)
 {
@@ -441,15 +533,13 @@ int load_run(desc *d, int node, double lo, double hi, int npts, design_goal g, c
         if (!rc) {
             r->failed = r->sw.failed;
             r->met = !r->sw.missed;
-            if (r->met)
-                r->max_load_f = hi;
-            else if (design_meets(&r->sw.pts[0], g))
-                for (int k = 0; k < r->sw.ncross; k++)
-                    if (!r->sw.cross[k].rises) {
-                        r->max_load_f = r->sw.cross[k].value;
-                        break;
-                    }
+            rc = met_ranges(r, g, err);
         }
+        int w = rc ? -1 : sweep_smallest_margin(&r->sw);
+        r->worst_load = w >= 0 ? r->sw.pts[w].value : hi;
+        r->advice_index = -1;
+        if (!rc && !r->met)
+            rc = load_advice(d, t, c0 + r->worst_load, o, r, err);
     } else if (!rc) {
         /* outside: every load leaves the loop as it is */
         r->met = design_meets(&r->nominal, g);
@@ -457,5 +547,7 @@ int load_run(desc *d, int node, double lo, double hi, int npts, design_goal g, c
     }
     gsl_set_error_handler(old);
     desc_eval(d, err);
+    if (rc)
+        load_result_free(r);
     return rc;
 }

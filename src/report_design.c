@@ -336,16 +336,71 @@ void report_size(FILE *f, const desc *d, const char *name, desc_target t, const 
                 "the target; widen --within or change another value.");
 }
 
+/* The user's --set NAME=EXPR that sets `what` itself (a NODE.c the
+ * suggestion sets anew), compared by the name before '='. */
+static int sets_name(const char *set, const char *what)
+{
+    size_t n = strlen(what);
+    return !strncmp(set, what, n) && set[n] == '=';
+}
+
+/* The suggested size command: the user's own --set values, the load as
+ * added capacitance on top of the node's own (NODE.c = own + load, both
+ * in the file's number syntax), and the value the compensation table ranks
+ * highest at that load. */
+static void size_suggestion(FILE *f, const desc *d, const load_result *r,
+                            const char *const *sets, int nsets)
+{
+    const char *name = d->nodes[r->node].name;
+    char field[DESC_MAX_NAME + 8], own[32], load[32], tune[DESC_MAX_NAME + 8];
+    snprintf(field, sizeof field, "%s.c", name);
+    if (r->advice_index < 0)
+        snprintf(tune, sizeof tune, "NAME");
+    else if (r->advice_kind == ROW_NODE)
+        snprintf(tune, sizeof tune, "%s.c", d->nodes[r->advice_index].name);
+    else
+        snprintf(tune, sizeof tune, "%s", d->elems[r->advice_index].name);
+    fputs("    loopwise size ", f);
+    report_shell_word(f, d->path);
+    for (int k = 0; k < nsets; k++)
+        if (!sets_name(sets[k], field)) {
+            fputs(" --set ", f);
+            report_shell_word(f, sets[k]);
+        }
+    si_word(r->worst_load, load, sizeof load);
+    if (r->c_node > 0)
+        fprintf(f, " --set %s=%s+%s", field, si_word(r->c_node, own, sizeof own), load);
+    else
+        fprintf(f, " --set %s=%s", field, load);
+    fprintf(f, " --tune %s\n", tune);
+    if (r->advice_index >= 0) {
+        const char *what = r->advice_kind == ROW_NODE ? "the capacitance to ground at"
+                           : r->advice_kind == ROW_CAP ? "cap" : "res";
+        char a[32];
+        fprintf(f, "  (at %s the compensation table ranks %s '%s' first: %s it gains %+.2f\xC2\xB0)\n",
+                si_format(r->worst_load, "F", a, sizeof a), what,
+                r->advice_kind == ROW_NODE ? d->nodes[r->advice_index].name
+                                           : d->elems[r->advice_index].name,
+                r->advice_half ? "halving" : "doubling", r->advice_gain);
+    } else {
+        fputs("  (no value in the compensation table gains margin at that load: NAME is the "
+              "value to size)\n", f);
+    }
+}
+
 /* What to do when a load inside the loop costs too much margin depends on
  * what drives the node. A stage whose control node already drives other
  * gm (matched current sources, say) can be copied once more to feed the
  * load from outside the loop; an amplifier's own output cannot move, so it
- * is compensated for the load (a capacitor across its driving stage, or
- * from the node to ground, is the one to size) or isolated by a buffer. */
-static void load_remedy(FILE *f, const desc *d, int node, double c_load)
+ * is compensated for the load (the value the compensation table ranks
+ * highest with that load in place is the one to size) or isolated by a
+ * buffer. */
+static void load_remedy(FILE *f, const desc *d, const load_result *r, const char *const *sets,
+                        int nsets)
 {
+    int node = r->node;
     const char *name = d->nodes[node].name;
-    int drv = -1, sib = -1, comp = -1, outside = 0;
+    int drv = -1, sib = -1, outside = 0;
     for (int e = 0; e < d->nelems && !outside; e++) {
         const desc_elem *x = &d->elems[e];
         if (x->kind != ELEM_GM || x->b != node)
@@ -380,32 +435,47 @@ static void load_remedy(FILE *f, const desc *d, int node, double c_load)
                 d->nodes[d->elems[drv].a].name, d->elems[sib].name);
         return;
     }
-    for (int e = 0; e < d->nelems && drv >= 0 && comp < 0; e++) {
-        const desc_elem *x = &d->elems[e];
-        int in = d->elems[drv].a;
-        if (x->kind == ELEM_CAP && ((x->a == node && (x->b == in || x->b == DESC_GND)) ||
-                                    (x->b == node && x->a == in)))
-            comp = e;
-    }
-    char c[32], *w = c;
-    si_format(d->nodes[node].c + c_load, "F", c, sizeof c);
-    for (const char *q = c; *q; q++) /* "24 pF" -> "24pF", one word */
-        if (*q != ' ')
-            *w++ = *q;
-    *w = '\0';
     if (drv >= 0)
         fprintf(f, "  '%s' is the output of the loop's own stage '%s': it cannot leave the "
                 "loop.\n", name, d->elems[drv].name);
-    fputs("  Compensate for the load: size the compensation with it in place, e.g.\n"
-          "    loopwise size ", f);
-    report_shell_word(f, d->path);
-    fprintf(f, " --set %s.c=%s --tune %s\n"
-            "  or isolate the load from the loop with a buffer.\n", name, c,
-            comp >= 0 ? d->elems[comp].name : "NAME");
+    char a[32];
+    fprintf(f, "  Compensate for the load: size the compensation with the load that costs the "
+            "most margin (%s) in place, e.g.\n", si_format(r->worst_load, "F", a, sizeof a));
+    size_suggestion(f, d, r, sets, nsets);
+    fputs("  or isolate the load from the loop with a buffer.\n", f);
+}
+
+/* The verdict over the load ranges that meet the goal: the margin may rise
+ * with the load as well as fall, so every range is named, and the side
+ * where loads miss says which way the margin goes there. */
+static void load_verdict(FILE *f, const load_result *r, double lo, double hi, design_goal g)
+{
+    char a[32], b[32];
+    if (r->nmet == 0) {
+        fprintf(f, "Verdict: no load from %s to %s meets the %.4g\xC2\xB0 %s.\n",
+                si_format(lo, "F", a, sizeof a), si_format(hi, "F", b, sizeof b), g.pm_deg,
+                design_goal_word(g));
+        return;
+    }
+    fprintf(f, "Verdict: the %.4g\xC2\xB0 %s is met for loads", g.pm_deg, design_goal_word(g));
+    for (int k = 0; k < r->nmet && k < 4; k++)
+        fprintf(f, "%s from %s to %s", k == 0 ? "" : k + 1 == r->nmet ? " and" : ",",
+                si_format(r->met_lo[k], "F", a, sizeof a), si_format(r->met_hi[k], "F", b, sizeof b));
+    fprintf(f, "%s.\n", r->nmet > 4 ? ", and more (see the table)" : "");
+    if (r->met_lo[0] > lo)
+        fprintf(f, "  Loads below %s miss it: the margin rises as the load grows there.\n",
+                si_format(r->met_lo[0], "F", a, sizeof a));
+    if (r->max_load_f < hi)
+        fprintf(f, "  The largest load that meets it is %s (below the %s asked for): the margin "
+                "falls as the load grows beyond it.\n", si_format(r->max_load_f, "F", a, sizeof a),
+                si_format(hi, "F", b, sizeof b));
+    else
+        fprintf(f, "  The largest load that meets it is the %s asked for.\n",
+                si_format(hi, "F", a, sizeof a));
 }
 
 void report_load(FILE *f, const desc *d, const load_result *r, double lo, double hi,
-                 design_goal g, out_format fmt)
+                 design_goal g, const char *const *sets, int nsets, out_format fmt)
 {
     const char *node = d->nodes[r->node].name;
     char a[32], b[32], c[32];
@@ -420,6 +490,15 @@ void report_load(FILE *f, const desc *d, const load_result *r, double lo, double
         fputs("],\n \"max_load_f\": ", f);
         json_number(f, r->inside ? r->max_load_f : NAN);
         fprintf(f, ", \"met\": %s", r->met ? "true" : "false");
+        fputs(", \"met_ranges\": [", f);
+        for (int k = 0; r->inside && k < r->nmet; k++) {
+            fputs(k ? ", [" : "[", f);
+            json_number(f, r->met_lo[k]);
+            fputs(", ", f);
+            json_number(f, r->met_hi[k]);
+            fputc(']', f);
+        }
+        fputc(']', f);
         fputs(", \"resistance_seen_ohm\": ", f);
         json_number(f, r->inside ? NAN : r->r_seen);
         fputs(",\n \"settling\": [", f);
@@ -486,12 +565,6 @@ void report_load(FILE *f, const desc *d, const load_result *r, double lo, double
                 "stay inside the loop for this load.\n", g.pm_deg, si_format(hi, "F", a, sizeof a));
         return;
     }
-    if (isnan(r->max_load_f))
-        fprintf(f, "Verdict: even %s is below the %.4g\xC2\xB0 %s.\n", si_format(lo, "F", a, sizeof a),
-                g.pm_deg, design_goal_word(g));
-    else
-        fprintf(f, "Verdict: the largest load meeting %.4g\xC2\xB0 is %s (below the %s asked "
-                "for).\n", g.pm_deg, si_format(r->max_load_f, "F", a, sizeof a),
-                si_format(hi, "F", b, sizeof b));
-    load_remedy(f, d, r->node, hi);
+    load_verdict(f, r, lo, hi, g);
+    load_remedy(f, d, r, sets, nsets);
 }

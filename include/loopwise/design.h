@@ -128,6 +128,15 @@ typedef struct load_result {
     sweep_result sw;        /* margins over the load (inside) */
     double max_load_f;      /* largest load meeting the goal, NAN when none does */
     int met;                /* the whole range meets the goal */
+    double *met_lo, *met_hi; /* the load ranges that meet the goal, ascending (inside);
+                                their ends are the refined crossings */
+    int nmet;
+    /* when some load misses (inside): the load with the smallest margin, and
+     * the compensation table's row that helps most there (-1: none helps);
+     * advice_kind is a design_row_kind, advice_half 1 when halving helps */
+    double worst_load;
+    int advice_kind, advice_index, advice_half;
+    double advice_gain;     /* degrees gained by that change */
     double r_seen;          /* resistance seen at the node (outside), inf when none */
     double c_node;          /* the node's own capacitance to ground */
     design_point nominal;   /* the margins without a load (outside: at every load) */

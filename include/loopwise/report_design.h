@@ -34,7 +34,10 @@ void report_sweep(FILE *f, const desc *d, const char *name, desc_target t,
  * density: capacitance per square micrometre, or NAN. */
 void report_size(FILE *f, const desc *d, const char *name, desc_target t, const size_result *r,
                  const check_result *at, design_goal g, double density, out_format fmt);
+/* sets: the command line's --set values, repeated in the suggested size
+ * command (a --set of the loaded node's c is replaced by its own value plus
+ * the load). */
 void report_load(FILE *f, const desc *d, const load_result *r, double lo, double hi,
-                 design_goal g, out_format fmt);
+                 design_goal g, const char *const *sets, int nsets, out_format fmt);
 
 #endif

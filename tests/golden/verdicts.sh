@@ -47,6 +47,117 @@ PYEOF
 $PY -c "import json,sys; d=json.load(open(sys.argv[1])); assert d['met'] and not d['met_at_low_end'] and d['value'] > 1, d" "$tmp/s2.json" &&
     ok || bad "size: a range whose lower end misses is flagged as met there"
 
+# ---- load: the margin may rise with the load ------------------------------
+# Two equal stages of gain a = 10 (R = 10k, C = 1p): T = a^2 / ((1 + s/p1)(1 + s/p2)),
+# p2 = 1/(R C), p1 = 1/(R (C + CL)) with the load CL at x. |T(jw)| = 1 is a quadratic
+# in w^2, and the margin 180 - atan(w/p1) - atan(w/p2) rises with CL (the poles split):
+# loads below the CL* where it is 60 deg miss, every load above meets.
+cat >"$tmp/twopole.loop" <<'LOOP'
+param a = 10
+node x r=10k c=1p
+node y r=10k c=1p
+gm g1 x -> y -a/10k
+gm g2 y -> x a/10k
+loop l negative x y
+LOOP
+"$LW" load "$tmp/twopole.loop" --node x --cload 1p..1n --pm 60 --json >"$tmp/l.json" 2>/dev/null
+"$LW" load "$tmp/twopole.loop" --node x --cload 1p..1n --pm 60 >"$tmp/l.txt" 2>/dev/null
+rc=$?
+$PY - "$tmp/l.json" "$tmp/l.txt" <<'PYEOF' && ok || bad "load: a margin that rises with the load"
+import json, math, sys
+from scipy.optimize import brentq
+d, text = json.load(open(sys.argv[1])), open(sys.argv[2]).read()
+R, C, a = 10e3, 1e-12, 10.0
+def pm(cl):
+    p1, p2 = 1 / (R * (C + cl)), 1 / (R * C)
+    # (1 + u/p1^2)(1 + u/p2^2) = a^4, u = w^2
+    A, B, K = 1 / (p1 * p2) ** 2, 1 / p1 ** 2 + 1 / p2 ** 2, 1 - a ** 4
+    u = (-B + math.sqrt(B * B - 4 * A * K)) / (2 * A)
+    w = math.sqrt(u)
+    return 180 - math.degrees(math.atan(w / p1) + math.atan(w / p2))
+cl_star = brentq(lambda c: pm(c) - 60, 1e-12, 1e-9, xtol=1e-20, rtol=1e-12)
+for p in d["points"]:
+    assert abs(p["phase_margin_deg"] - pm(p["value"])) < 1e-6, (p, pm(p["value"]))
+assert d["met"] is False and d["max_load_f"] == 1e-9, d["max_load_f"]
+assert len(d["met_ranges"]) == 1, d["met_ranges"]
+lo, hi = d["met_ranges"][0]
+assert abs(lo / cl_star - 1) < 1e-5 and hi == 1e-9, (lo, cl_star)
+want = "Verdict: the 60\u00b0 target is met for loads from %.3g pF to 1 nF." % (cl_star * 1e12)
+assert want in text, want
+assert "  Loads below %.3g pF miss it: the margin rises as the load grows there." % (cl_star * 1e12) in text
+assert "  The largest load that meets it is the 1 nF asked for." in text
+assert "even 1 pF" not in text
+PYEOF
+[ $rc = 1 ] && ok || bad "load: some loads miss a given --pm: exit $rc, expected 1"
+# the same loop with the margin falling: loads on node x of the equal-pole loop above
+# cannot be made to fall, so a load at y of a loop whose x already dominates (x at
+# 1 nF) closes the met range from above: 60 deg at the CL* of the mirrored closed form
+sed -e 's/^node x r=10k c=1p/node x r=10k c=1n/' "$tmp/twopole.loop" >"$tmp/falls.loop"
+"$LW" load "$tmp/falls.loop" --node y --cload 1p..1n --pm 60 --json >"$tmp/f.json" 2>/dev/null
+$PY - "$tmp/f.json" <<'PYEOF' && ok || bad "load: a margin that falls with the load"
+import json, math, sys
+from scipy.optimize import brentq
+d = json.load(open(sys.argv[1]))
+R, a = 10e3, 10.0
+def pm(cl):
+    p1, p2 = 1 / (R * 1e-9), 1 / (R * (1e-12 + cl))
+    A, B, K = 1 / (p1 * p2) ** 2, 1 / p1 ** 2 + 1 / p2 ** 2, 1 - a ** 4
+    w = math.sqrt((-B + math.sqrt(B * B - 4 * A * K)) / (2 * A))
+    return 180 - math.degrees(math.atan(w / p1) + math.atan(w / p2))
+cl_star = brentq(lambda c: pm(c) - 60, 1e-12, 1e-9, xtol=1e-20, rtol=1e-12)
+assert d["met"] is False and len(d["met_ranges"]) == 1, d["met_ranges"]
+lo, hi = d["met_ranges"][0]
+assert lo == 1e-12 and abs(hi / cl_star - 1) < 1e-5 and d["max_load_f"] == hi, (hi, cl_star)
+PYEOF
+
+# ---- load: the suggested size command ---------------------------------------
+# An invented regulator: amplifier (amp), pass stage (out), divider; a small parasitic
+# cgd across the pass stage and the compensation ccomp at the amplifier output. The
+# suggestion repeats the user's --set, adds the worst load to the node's own 20 pF, and
+# tunes the cap or res the compensation table ranks highest at that load.
+cat >"$tmp/reg.loop" <<'LOOP'
+param gma = 200u
+node fb  r=100k c=0.5p
+node amp r=1M   c=0.5p
+node out r=2k   c=20p
+gm ga  fb  -> amp gma
+gm gp  amp -> out -20m
+cap cgd   amp out 0.2p
+cap ccomp amp gnd 20p
+res rtop  out fb  100k
+loop reg negative fb amp out
+LOOP
+for own in "" 30p; do
+    extra=
+    [ -n "$own" ] && extra="--set out.c=$own"
+    "$LW" load "$tmp/reg.loop" --node out --cload 1n..100n --points 5 --set gma=150u --set 'rtop=2*50k' $extra --json >"$tmp/r.json" 2>/dev/null
+    "$LW" load "$tmp/reg.loop" --node out --cload 1n..100n --points 5 --set gma=150u --set 'rtop=2*50k' $extra >"$tmp/r.txt" 2>/dev/null
+    $PY - "$LW" "$tmp/reg.loop" "$tmp/r.json" "$tmp/r.txt" "${own:-20p}" <<'PYEOF' && ok || bad "load: the suggested size command (own c ${own:-20p})"
+import json, shlex, subprocess, sys
+lw, loop, d, text, own = sys.argv[1], sys.argv[2], json.load(open(sys.argv[3])), open(sys.argv[4]).read(), sys.argv[5]
+worst = min(d["points"], key=lambda p: p["phase_margin_deg"])["value"]
+line = [l for l in text.split("\n") if l.startswith("    loopwise size ")]
+assert len(line) == 1, text
+args = shlex.split(line[0])
+# the user's --set values, quoted for the shell, and no second out.c
+assert args[3:7] == ["--set", "gma=150u", "--set", "rtop=2*50k"], args
+assert "'rtop=2*50k'" in line[0]
+sets = [args[k + 1] for k in range(len(args)) if args[k] == "--set"]
+assert [s for s in sets if s.startswith("out.c=")] == ["out.c=%s+%s" % (own, "%gn" % (worst * 1e9))], (sets, worst)
+tune = args[args.index("--tune") + 1]
+# the table at that load, from check: the cap or res with the largest gain either way
+chk = subprocess.run([lw, "check", loop, "--json"] + sum((["--set", s] for s in sets), []),
+                     capture_output=True, text=True)
+table = json.loads(chk.stdout)["compensation_table"]
+gain = lambda r: max(v for v in (r["pm_change_double_deg"], r["pm_change_half_deg"]) if v is not None)
+best = max((r for r in table if r["kind"] != "node"), key=gain)
+assert tune == best["name"] == "ccomp" and gain(best) > 0.05, (tune, best)
+# and the suggestion runs
+run = subprocess.run([lw] + args[1:], capture_output=True, text=True)
+assert run.returncode in (0, 1) and run.stdout.startswith("loopwise size: "), run.stderr
+PYEOF
+done
+
 echo "verdicts: $pass passed, $fail failed"
 echo "$pass passed, $fail failed"
 [ "$fail" = 0 ]
