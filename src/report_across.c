@@ -185,11 +185,18 @@ void report_size_corners(FILE *f, const desc *d, const char *name, desc_target t
                 "the %s\n", name, si_format_digits(r->value, unit, 5, a, sizeof a),
                 design_goal_word(g));
     else
-        fprintf(f, "  TARGET NOT REACHABLE in the range at corner #%d; it comes nearest at "
-                "%s = %s\n", w + 1, name, si_format(r->value, unit, a, sizeof a));
-    fprintf(f, "  limiting corner #%d: ", w + 1);
+        fprintf(f, "  TARGET NOT REACHABLE in the range: the worst corner comes nearest at "
+                "%s = %s\n", name, si_format_digits(r->value, unit, 5, a, sizeof a));
+    fprintf(f, "  %s corner #%d: ", r->met ? "limiting" : "worst there,", w + 1);
     values_text(f, d, cr->params, cr->nparams, cr->values + w * cr->nparams);
     fputc('\n', f);
+    /* the best worst case is often where two corners cross: name the other */
+    if (!r->met && cr->ncorners > 1) {
+        int c2 = cr->order[0] != w ? cr->order[0] : cr->order[1];
+        double d1 = design_goal_distance(p, g), d2 = design_goal_distance(&cr->pts[c2], g);
+        if (c2 != w && fabs(d2 - d1) < 0.01)
+            fprintf(f, "  and corner #%d, as near: the two limit together there\n", c2 + 1);
+    }
     margins_lines(f, p, " (at that corner)");
     area_line(f, um2, density);
     fprintf(f, "  search          at the file's value %s = %s the worst corner is #%d; the "
@@ -230,9 +237,14 @@ void report_size_corners(FILE *f, const desc *d, const char *name, desc_target t
     else if (r->met)
         fprintf(f, "\nVerdict: %s = %s meets the %s at every corner; corner #%d limits there.\n",
                 name, si_format(r->value, unit, a, sizeof a), design_goal_word(g), w + 1);
-    else
+    else if (isnan(p->pm_deg))
         fprintf(f, "\nVerdict: no value in the range meets the %s at every corner; widen "
                 "--within or change another value.\n", design_goal_word(g));
+    else
+        fprintf(f, "\nVerdict: no value in the range meets the %s at every corner; the best "
+                "worst case is %.2f\xC2\xB0 (corner #%d) at %s = %s; widen --within or change "
+                "another value.\n", design_goal_word(g), p->pm_deg, w + 1, name,
+                si_format(r->value, unit, a, sizeof a));
 }
 
 void report_size_mc(FILE *f, const desc *d, const char *name, desc_target t,

@@ -2,6 +2,7 @@
 #include "loopwise/size_over.h"
 
 #include <gsl/gsl_errno.h>
+#include <gsl/gsl_min.h>
 #include <gsl/gsl_roots.h>
 #include <math.h>
 #include <stdlib.h>
@@ -161,6 +162,73 @@ static int scan_corner(corner_ctx *x, int c, int k0, double lo, double hi, int *
     return SIZE_OVER_GRID;
 }
 
+typedef struct worst_ctx {
+    corner_ctx *x;
+    int failed;
+} worst_ctx;
+
+/* -W(v), W the worst corner's distance to the goal, on ln v: the
+ * minimiser's objective. */
+static double worst_fn(double lnv, void *vp)
+{
+    worst_ctx *c = vp;
+    int w, rc = LW_OK;
+    double wd = all_corners(c->x, exp(lnv), &w, &rc);
+    if (rc) {
+        c->failed = 1;
+        return 0;
+    }
+    return -wd;
+}
+
+/* When no value meets the goal at every corner: the value in lo..hi where
+ * the worst corner comes nearest, max over v of W(v) = min over corners of
+ * the distance. W is only piecewise smooth (its best is often where two
+ * corners cross), so the whole grid is scanned and the best grid point's
+ * bracket refined by Brent's minimiser (golden sections where a parabola
+ * does not fit) to a relative 1e-6 in v. */
+static int best_worst_case(corner_ctx *x, double lo, double hi, double *value)
+{
+    int best = 0, w, rc = LW_OK;
+    double bw = -INFINITY, wk[SIZE_OVER_GRID];
+    for (int k = 0; k < SIZE_OVER_GRID; k++) {
+        wk[k] = all_corners(x, grid_value(lo, hi, k, SIZE_OVER_GRID), &w, &rc);
+        if (rc)
+            return rc;
+        if (wk[k] > bw) {
+            bw = wk[k];
+            best = k;
+        }
+    }
+    *value = grid_value(lo, hi, best, SIZE_OVER_GRID);
+    if (best == 0 || best == SIZE_OVER_GRID - 1 ||
+        !(wk[best] > wk[best - 1] && wk[best] > wk[best + 1]))
+        return LW_OK; /* at an end of the range, or flat: the grid point stands */
+    worst_ctx c = { x, 0 };
+    gsl_function F = { worst_fn, &c };
+    gsl_min_fminimizer *m = gsl_min_fminimizer_alloc(gsl_min_fminimizer_brent);
+    if (!m)
+        return lw_error_set(x->err, LW_ENOMEM, "out of memory");
+    double a = log(grid_value(lo, hi, best - 1, SIZE_OVER_GRID));
+    double b = log(grid_value(lo, hi, best + 1, SIZE_OVER_GRID));
+    int st = gsl_min_fminimizer_set_with_values(m, &F, log(*value), -wk[best], a, -wk[best - 1],
+                                                b, -wk[best + 1]);
+    for (int it = 0; st == GSL_SUCCESS && !c.failed && it < 100; it++) {
+        if ((st = gsl_min_fminimizer_iterate(m)) != GSL_SUCCESS)
+            break;
+        if (gsl_min_test_interval(gsl_min_fminimizer_x_lower(m), gsl_min_fminimizer_x_upper(m),
+                                  1e-6, 0) == GSL_SUCCESS)
+            break;
+    }
+    double xm = gsl_min_fminimizer_x_minimum(m), fm = gsl_min_fminimizer_f_minimum(m);
+    gsl_min_fminimizer_free(m);
+    if (c.failed)
+        return LW_EINPUT;
+    if (fm <= -wk[best])
+        *value = exp(xm);
+    return LW_OK;
+}
+
 int size_corners_run(desc *d, desc_target t, double lo, double hi, int levels, design_goal g,
                      const check_opts *o, size_corners_result *r, lw_error *err)
 {
@@ -189,8 +257,9 @@ int size_corners_run(desc *d, desc_target t, double lo, double hi, int levels, d
         if (rc)
             break;
         if (k == SIZE_OVER_GRID) {
-            /* corner c meets nowhere from grid point k0 up: not reachable */
-            value = grid_value(lo, hi, best, SIZE_OVER_GRID);
+            /* corner c meets nowhere from grid point k0 up: not reachable;
+             * report where the worst case comes nearest */
+            rc = best_worst_case(&x, lo, hi, &value);
             break;
         }
         double b = grid_value(lo, hi, k, SIZE_OVER_GRID);
@@ -237,11 +306,11 @@ int size_corners_run(desc *d, desc_target t, double lo, double hi, int levels, d
         break;
     }
     /* every corner at the answer, ranked: the first is the one that limits */
-    int w;
+    int w = -1;
     if (!rc)
         all_corners(&x, value, &w, &rc);
     r->value = value;
-    r->limiting = c;
+    r->limiting = r->met ? c : w; /* unreachable: the worst corner there */
     r->analyses = x.analyses;
     gsl_set_error_handler(old);
     desc_eval(d, err);

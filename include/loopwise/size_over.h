@@ -15,12 +15,12 @@ enum { SIZE_OVER_GRID = 81, SIZE_MC_GRID = 9 };
 
 typedef struct size_corners_result {
     int met;
-    double value;            /* the answer when met; else where the limiting corner came
-                                nearest the goal */
+    double value;            /* the answer when met; else the value where the worst
+                                corner comes nearest the goal (max of the worst case) */
     double lo, hi;           /* the range searched */
     corner_result corners;   /* every corner analysed at value, worst first */
     int limiting;            /* the corner that limits: solved for last (met), or the
-                                one that meets nowhere above where it was taken up */
+                                worst corner at value (not met) */
     double nominal_value;    /* the value the search started from */
     int nominal_worst;       /* the worst corner there */
     int analyses;            /* whole analyses the search ran */
@@ -38,7 +38,9 @@ typedef struct size_corners_result {
  * the grid point below. Inside that bracket it solves the failing corner's
  * own margin for its root (Brent), checks every corner at the root, and
  * repeats with the corner that still fails; the answer is where all meet,
- * and the corner solved for last is the one that limits. */
+ * and the corner solved for last is the one that limits. When no value
+ * meets, W is scanned on the whole grid and its largest value refined by
+ * Brent's minimiser: the value where the worst case comes nearest. */
 int size_corners_run(desc *d, desc_target t, double lo, double hi, int levels, design_goal g,
                      const check_opts *o, size_corners_result *r, lw_error *err);
 void size_corners_free(size_corners_result *r);

@@ -47,6 +47,33 @@ PYEOF
 $PY -c "import json,sys; d=json.load(open(sys.argv[1])); assert d['met'] and not d['met_at_low_end'] and d['value'] > 1, d" "$tmp/s2.json" &&
     ok || bad "size: a range whose lower end misses is flagged as met there"
 
+# ---- size --over corners, target out of reach: where the worst case is best -----
+# The ring with its first stage's gain times v^b, b in -1..1: the loop gain is 1.5^3 v
+# at one corner and 1.5^3 / v at the other, so the worst-case margin is largest at v = 1,
+# where both corners have the ring's 180 - 3 atan(sqrt(1.5^2 - 1)) = 35.43 deg: below
+# 60 deg, so the target is out of reach, and the answer must be v = 1 (refined, not a
+# grid value: the log grid from 13m to 130 does not hold 1), with both corners named.
+sed -e 's|^gm g1 n1 -> n2  -a/10k|gm g1 n1 -> n2  -a*v^b/10k|' \
+    -e 's|^param a = 1.5 .*|param a = 1.5\nparam v = 1.3\nparam b = 0 corners -1..1|' $RING >"$tmp/ringv.loop"
+"$LW" size "$tmp/ringv.loop" --tune v --over corners --json >"$tmp/v.json" 2>/dev/null
+"$LW" size "$tmp/ringv.loop" --tune v --over corners >"$tmp/v.txt" 2>/dev/null
+rc=$?
+$PY - "$tmp/v.json" "$tmp/v.txt" <<'PYEOF' && ok || bad "size --over corners: the best worst case when out of reach"
+import json, math, sys
+d, text = json.load(open(sys.argv[1])), open(sys.argv[2]).read()
+pm = 180 - 3 * math.degrees(math.atan(math.sqrt(1.5 ** 2 - 1)))
+assert d["met"] is False and abs(d["value"] - 1) < 1e-5, d["value"]
+assert abs(d["phase_margin_deg"] - pm) < 1e-3, d["phase_margin_deg"]
+# the reported margin is the worst corner's at that value
+assert d["phase_margin_deg"] == min(c["phase_margin_deg"] for c in d["corners"])
+assert d["limiting_index"] == d["corners"][0]["index"]
+assert "  TARGET NOT REACHABLE in the range: the worst corner comes nearest at v = 1\n" in text
+assert "  and corner #%d, as near: the two limit together there\n" % (3 - d["limiting_index"]) in text
+assert ("Verdict: no value in the range meets the reference at every corner; the best worst case "
+        "is %.2f\u00b0 (corner #%d) at v = 1;" % (pm, d["limiting_index"])) in text
+PYEOF
+[ $rc = 1 ] && ok || bad "size --over corners out of reach: exit $rc, expected 1"
+
 # ---- load: the margin may rise with the load ------------------------------
 # Two equal stages of gain a = 10 (R = 10k, C = 1p): T = a^2 / ((1 + s/p1)(1 + s/p2)),
 # p2 = 1/(R C), p1 = 1/(R (C + CL)) with the load CL at x. |T(jw)| = 1 is a quadratic
