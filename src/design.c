@@ -234,7 +234,7 @@ static int sweep_point(desc *d, desc_target t, double v, const check_opts *o,
     if (rc)
         return rc;
     design_point_from(&r, v, pt);
-    rc = design_probe_point(m, &r, probe, pt, err);
+    rc = design_probe_point(m, &r, probe, o, pt, err);
     check_result_free(&r);
     model_free(m);
     return rc;

@@ -6,8 +6,11 @@
 #include "loopwise/step.h"
 
 int design_probe_point(const model *m, const check_result *r, const sweep_probe *p,
-                       design_point *pt, lw_error *err)
+                       const check_opts *o, design_point *pt, lw_error *err)
 {
+    /* the peak of |H| over the band the command line gives, as 'response'
+     * reads it (--fmin/--fmax) */
+    response_opts ro = { o ? o->fmin_hz : 0, o ? o->fmax_hz : 0 };
     response *rs = NULL;
     response_result res;
     step_form *sf = NULL;
@@ -16,7 +19,7 @@ int design_probe_point(const model *m, const check_result *r, const sweep_probe 
     if (!rc)
         rc = response_source(rs, p->src, err);
     if (!rc)
-        rc = response_analyse(rs, r->cl, r->ncl, NULL, &res, err);
+        rc = response_analyse(rs, r->cl, r->ncl, &ro, &res, err);
     if (rc) {
         response_free(rs);
         return rc;

@@ -103,7 +103,19 @@ static void json_response(FILE *f, const response_report *rr)
     json_number(f, db(res->peak_value));
     fputs(", \"over_dc_db\": ", f);
     json_number(f, adc > 0 && isfinite(adc) ? db(res->peak_value / adc) : NAN);
-    fputs("},\n \"bandwidth_hz\": ", f);
+    fputs("},\n \"local_peak\": ", f);
+    if (isnan(res->local_peak_hz)) {
+        fputs("null", f);
+    } else {
+        fputs("{\"hz\": ", f);
+        json_number(f, res->local_peak_hz);
+        fputs(", \"value\": ", f);
+        json_number(f, res->local_peak_value);
+        fputs(", \"db\": ", f);
+        json_number(f, db(res->local_peak_value));
+        fputc('}', f);
+    }
+    fputs(",\n \"bandwidth_hz\": ", f);
     json_number(f, res->bandwidth_hz);
     fputs(", \"fmin_hz\": ", f);
     json_number(f, res->fmin_hz);
@@ -225,9 +237,21 @@ static void text_summary(FILE *f, const response_report *rr)
             res->hinf != 0 ? " (a direct path: resistive or capacitive)" : "");
     if (!(res->peak_value > 0))
         fprintf(f, "  peak           none: |H| is 0\n");
-    else if (isnan(res->peak_hz))
-        fprintf(f, "  peak           %.2f %s (%s), approached as f grows without bound\n",
-                db_text(res->peak_value), dbu, h_value(rr, res->peak_value, a, sizeof a));
+    else if (isnan(res->peak_hz)) {
+        /* |H| rises to a direct path's level at f -> inf: the worst value a
+         * designer meets is the largest below the top of his band */
+        fprintf(f, "  peak           %.2f %s (%s), approached as f grows without bound: the "
+                "largest |H| in your band\n                 depends on where it ends; give "
+                "--fmax for it\n", db_text(res->peak_value), dbu,
+                h_value(rr, res->peak_value, a, sizeof a));
+        if (!isnan(res->local_peak_hz))
+            fprintf(f, "  local peak     %.2f %s (%s) at %s, the largest hump of |H| at a finite "
+                    "frequency\n", db_text(res->local_peak_value), dbu,
+                    h_value(rr, res->local_peak_value, a, sizeof a),
+                    si_format(res->local_peak_hz, "Hz", b, sizeof b));
+        else
+            fputs("  local peak     none: |H| has no hump at a finite frequency\n", f);
+    }
     else if (res->peak_hz == 0)
         fprintf(f, "  peak           at DC: |H| never rises above |H(0)|\n");
     else

@@ -329,6 +329,8 @@ static int peak_and_bandwidth(response *rs, response_result *res, double wlo, do
     double dc = fabs(res->dc);
     res->peak_value = dc;
     res->peak_hz = 0;
+    res->local_peak_value = 0;
+    res->local_peak_hz = NAN;
     for (int k = 0; k + 1 < n; k++) {
         if (!(sl[k] > 0 && sl[k + 1] <= 0))
             continue;
@@ -336,6 +338,10 @@ static int peak_and_bandwidth(response *rs, response_result *res, double wlo, do
         double v = cabs(response_eval(rs, I * wp));
         if (!(v >= fmax(mag[k], mag[k + 1]) * (1 - 1e-9)))
             res->suspect = 1; /* the structure's slope disagrees with the exact H */
+        if (isfinite(v) && v > res->local_peak_value) {
+            res->local_peak_value = v;
+            res->local_peak_hz = wp / TWO_PI;
+        }
         if (isfinite(v) && v > res->peak_value * (1 + 1e-12)) {
             res->peak_value = v;
             res->peak_hz = wp / TWO_PI;
@@ -414,6 +420,7 @@ int response_analyse(response *rs, const double complex *cl, int ncl, const resp
     }
     if (res->zero) {
         res->bandwidth_hz = NAN;
+        res->local_peak_hz = NAN;
         return LW_OK;
     }
     /* the scan starts below every root whatever --fmin says: the peak is

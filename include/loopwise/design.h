@@ -91,9 +91,10 @@ typedef struct sweep_result {
 
 
 /* design_probe.c: the probe's figures at one point: the step's overshoot and
- * 1% settling time (when the loop is stable) and the peak of |H| in dB. */
+ * 1% settling time (when the loop is stable) and the peak of |H| in dB, over
+ * the band of o's fmin_hz/fmax_hz (0: automatic) as 'response' reads it. */
 int design_probe_point(const model *m, const check_result *r, const sweep_probe *p,
-                       design_point *pt, lw_error *err);
+                       const check_opts *o, design_point *pt, lw_error *err);
 
 int sweep_run(desc *d, desc_target t, double from, double to, int npts, int lin,
               design_goal g, const check_opts *o, sweep_result *r, lw_error *err);

@@ -79,6 +79,11 @@ typedef struct response_result {
     double fmin_hz, fmax_hz;   /* the band */
     double peak_hz;            /* NAN: |H| only approaches its largest value as f -> inf */
     double peak_value;         /* the largest |H| */
+    double local_peak_hz;      /* the largest local maximum of |H| at 0 < f < the top of the
+                                  scan (NAN when |H| has none: then local_peak_value is 0);
+                                  where the peak is only approached as f -> inf, the
+                                  largest |H| a finite frequency reaches on a hump */
+    double local_peak_value;
     double bandwidth_hz;       /* NAN when |H| never falls to |H(0)|/sqrt(2), or H(0) is 0 or inf */
     int suspect;               /* the factored form disagrees with the exact H */
 } response_result;

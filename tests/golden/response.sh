@@ -216,5 +216,51 @@ head -n 1 "$tmp/sw.csv" | grep -q ',stable,overshoot_pct,settle_1pct_s,peak_db$'
 "$LW" sweep $SO --vary rout --from 44.3k --to 199k --points 4 --to out >"$tmp/o" 2>/dev/null
 grep -q "overshoot   settles 1%  peak |H|" "$tmp/o" && ok || bad "sweep --to: the text table's columns"
 
+# --fmin/--fmax bound the peak of sweep --to as they bound response's: with --fmax 1 MHz
+# below the resonance wn sqrt(1 - 2 zeta^2) (zeta 0.2 to 0.6 here: 1.13 to 1.92 MHz),
+# |H| still rises at the top of the band, so the peak is |H(j 2 pi 1 MHz)| =
+# 1 / |1 - u^2 + 2 j zeta u|, u = 1 MHz / 2 MHz (closed form of the second-order loop).
+"$LW" sweep $SO --vary rout --from 66.3k --to 199k --points 4 --to out --fmax 1M --json >"$tmp/swf.json" 2>"$tmp/e"
+$PY - "$tmp/swf.json" <<'PYEOF' && ok || bad "sweep --to: --fmax bounds the peak $(head -n 1 "$tmp/e")"
+import json, math, sys
+d = json.load(open(sys.argv[1]))
+wn, c, u = 2 * math.pi * 2e6, 1e-12, 0.5
+for p in d["points"]:
+    z = 1 / (2 * wn * p["value"] * c)
+    assert 0.19 < z < 0.61, z
+    want = -20 * math.log10(abs(complex(1 - u * u, 2 * z * u)))
+    assert abs(p["peak_db"] - want) < 1e-6, (z, p["peak_db"], want)
+PYEOF
+# ... and each point's peak is what response gives with the same band
+"$LW" response $SO --to out --set rout=66.3k --fmax 1M --json >"$tmp/rf.json" 2>/dev/null
+$PY -c "import json,sys; a=json.load(open(sys.argv[1]))['points'][0]['peak_db']; b=json.load(open(sys.argv[2]))['peak']['db']; assert abs(a-b) < 1e-9, (a, b)" "$tmp/swf.json" "$tmp/rf.json" &&
+    ok || bad "sweep --to --fmax and response --fmax disagree on the peak"
+
+# A peak only approached as f grows without bound (a capacitive path from the supply to
+# the output): the text says the worst value in the band needs --fmax, and gives the
+# largest hump at a finite frequency; the reference checks both against its own |H|.
+(cat $REG; echo "cap cft out vin 2p"; echo "#% response --to out --from vin") >"$tmp/regft.loop"
+LOOPWISE=$LW $PY tests/ref/response_ref.py "$tmp/regft.loop" >"$tmp/rr" 2>&1 && ok ||
+    bad "the supply's feedthrough against the reference: $(grep -v '^PASS' "$tmp/rr" | head -n 3)"
+"$LW" response "$tmp/regft.loop" --to out --json >"$tmp/ft.json" 2>/dev/null
+"$LW" response "$tmp/regft.loop" --to out >"$tmp/ft.txt" 2>/dev/null
+$PY - "$tmp/ft.json" "$tmp/ft.txt" <<'PYEOF' && ok || bad "response: a peak at infinity and the local peak in the text"
+import json, sys
+d, text = json.load(open(sys.argv[1])), open(sys.argv[2]).read()
+# at infinity the caps are shorts: cft (2p) against the output's own 10p, H = 2/12
+assert d["peak"]["hz"] is None and abs(d["peak"]["value"] - 2 / 12) < 1e-9, d["peak"]
+lp = d["local_peak"]
+assert lp is not None and lp["value"] < d["peak"]["value"], lp
+assert ("  peak           -15.56 dB (0.1667 V/V), approached as f grows without bound: the "
+        "largest |H| in your band\n                 depends on where it ends; give --fmax for it\n") in text
+line = [l for l in text.split("\n") if l.startswith("  local peak     ")]
+assert line == ["  local peak     %.2f dB (%.4g V/V) at %.3g kHz, the largest hump of |H| at a "
+                "finite frequency" % (lp["db"], lp["value"], lp["hz"] / 1e3)], (line, lp)
+PYEOF
+# with --fmax above the hump (and below where |H| climbs past it), the peak is the hump
+"$LW" response "$tmp/regft.loop" --to out --fmax 2M --json >"$tmp/ft2.json" 2>/dev/null
+$PY -c "import json,sys; a=json.load(open(sys.argv[1])); b=json.load(open(sys.argv[2])); assert abs(b['peak']['hz']/a['local_peak']['hz']-1) < 1e-6 and abs(b['peak']['value']/a['local_peak']['value']-1) < 1e-9, (a['local_peak'], b['peak'])" "$tmp/ft.json" "$tmp/ft2.json" &&
+    ok || bad "response --fmax: the peak in the band is the local peak"
+
 echo "response: $pass passed, $fail failed"
 [ "$fail" = 0 ]

@@ -417,6 +417,20 @@ def compare(path, args, exe, tally):
         tally.check(abs(hv - pk["value"]) <= 1e-9 * hv and hv >= top * (1 - 1e-9),
                     L + "peak", "reported %r at %r Hz; |H| there %r; grid max %r"
                     % (pk["value"], pk["hz"], hv, top))
+    # the largest hump of |H| at a finite frequency: |H| there, a local maximum
+    # (|H| lower a little on each side), and no higher hump on the dense grid
+    humps = [mags[k] for k in range(1, len(mags) - 1)
+             if mags[k] > max(mags[k - 1], mags[k + 1]) * (1 + 1e-9)]
+    lp = d["local_peak"]
+    if lp is None:
+        tally.check(not humps, L + "no local peak", "grid humps %r" % humps[:3])
+    else:
+        hv = abs(ref.H(1j * TWO_PI * lp["hz"]))
+        side = max(abs(ref.H(1j * TWO_PI * lp["hz"] * f)) for f in (1 - 1e-3, 1 + 1e-3))
+        tally.check(abs(hv - lp["value"]) <= 1e-9 * hv and hv >= side and
+                    all(h <= hv * (1 + 1e-6) for h in humps), L + "local peak",
+                    "reported %r at %r Hz; |H| there %r, beside %r; grid humps %r"
+                    % (lp["value"], lp["hz"], hv, side, humps[:3]))
     bw = d["bandwidth_hz"]
     if bw is not None:
         hb = abs(ref.H(1j * TWO_PI * bw))
