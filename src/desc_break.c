@@ -186,3 +186,108 @@ int desc_break_choose(desc *d, lw_error *err)
     }
     return no_common_gm(d, err);
 }
+
+/* 1 when element e is a hop of some declared loop: a loop's own return
+ * path, not a local loop around one stage. */
+static int any_loop_hop(const desc *d, int e)
+{
+    for (int l = 0; l < d->nloops; l++)
+        if (loop_has_hop(&d->loops[l], e))
+            return 1;
+    return 0;
+}
+
+/* The res and cap elements at node x (inputs and gnd ends count as
+ * elements too), and whether a gm touches it. */
+static int passive_degree(const desc *d, int x, int *gm_touch)
+{
+    int n = 0;
+    *gm_touch = 0;
+    for (int e = 0; e < d->nelems; e++) {
+        const desc_elem *el = &d->elems[e];
+        if (el->a != x && el->b != x)
+            continue;
+        if (el->kind == ELEM_GM)
+            *gm_touch = 1;
+        else
+            n++;
+    }
+    return n;
+}
+
+/* A chain of res and cap elements from node i to node o through nodes that
+ * carry nothing else (a Miller capacitor, alone or in series with its
+ * nulling resistor), none of them a hop of a declared loop: its elements
+ * into chain (at most max), their count as the return, 0 when none. */
+static int bridge_between(const desc *d, int i, int o, int *chain, int max)
+{
+    for (int e = 0; e < d->nelems; e++) {
+        const desc_elem *el = &d->elems[e];
+        if (el->kind == ELEM_GM || (el->a != i && el->b != i) || any_loop_hop(d, e))
+            continue;
+        int n = 0, prev = e, at = el->a == i ? el->b : el->a;
+        if (n < max)
+            chain[n++] = e;
+        /* walk on while the node reached is a plain link of two elements */
+        for (int guard = 0; at != DESC_GND && at != o && guard < max; guard++) {
+            int gm_touch, next = -1;
+            if (passive_degree(d, at, &gm_touch) != 2 || gm_touch)
+                break;
+            for (int k = 0; k < d->nelems && next < 0; k++)
+                if (k != prev && d->elems[k].kind != ELEM_GM &&
+                    (d->elems[k].a == at || d->elems[k].b == at))
+                    next = k;
+            if (next < 0 || any_loop_hop(d, next) || n >= max)
+                break;
+            chain[n++] = next;
+            prev = next;
+            at = d->elems[next].a == at ? d->elems[next].b : d->elems[next].a;
+        }
+        if (at == o)
+            return n;
+    }
+    return 0;
+}
+
+int desc_break_bridge(const desc *d, int *gm, int *chain, int max)
+{
+    int gms[64], ng;
+    if (d->brk >= 0) {
+        gms[0] = d->brk;
+        ng = 1;
+    } else {
+        ng = desc_break_gms(d, d->brk_node, NULL) <= 64 ? desc_break_gms(d, d->brk_node, gms) : 0;
+    }
+    for (int k = 0; k < ng; k++) {
+        const desc_elem *g = &d->elems[gms[k]];
+        int n = g->b == DESC_GND ? 0 : bridge_between(d, g->a, g->b, chain, max);
+        if (n) {
+            *gm = gms[k];
+            return n;
+        }
+    }
+    return 0;
+}
+
+int desc_break_suggest(const desc *d)
+{
+    if (d->nloops == 0)
+        return -1;
+    const desc_loop *L0 = &d->loops[0];
+    int chain[16];
+    for (int j = 0; j < L0->nnodes; j++) {
+        int node = L0->nodes[j], all = desc_break_gms(d, node, NULL) > 0;
+        for (int l = 1; l < d->nloops && all; l++)
+            all = loop_has_node(&d->loops[l], node);
+        /* not itself the input of a bridged stage */
+        for (int e = 0; e < d->nelems && all; e++) {
+            const desc_elem *g = &d->elems[e];
+            if (g->kind == ELEM_GM && g->a == node && g->b != DESC_GND &&
+                bridge_between(d, node, g->b, chain, 16))
+                all = 0;
+        }
+        if (all)
+            return node;
+    }
+    return -1;
+}

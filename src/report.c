@@ -105,6 +105,25 @@ static void nyquist_line(FILE *f, const check_result *r)
                                  : ", as the closed-loop poles say");
 }
 
+void report_break_note(FILE *f, const desc *d, const char *indent)
+{
+    /* said only where a node of the outer loop lies outside every such
+     * bridge: in a loop of two nodes a capacitor across one stage spans the
+     * whole loop, and no break leaves it closed */
+    int chain[8], gm, n = desc_break_bridge(d, &gm, chain, 8), s = desc_break_suggest(d);
+    if (n == 0 || s < 0)
+        return;
+    const desc_elem *g = &d->elems[gm];
+    fprintf(f, "%snote: %s ", indent, n > 1 ? "a chain" : d->elems[chain[0]].kind == ELEM_CAP
+            ? "a capacitor" : "a resistor");
+    for (int k = 0; k < n; k++)
+        fprintf(f, "%s'%s'", k ? " + " : "", d->elems[chain[k]].name);
+    fprintf(f, " joins %s and %s across gm '%s', so opening the loop there opens that local "
+            "loop too and the margin is not the outer loop's; ", d->nodes[g->a].name,
+            d->nodes[g->b].name, g->name);
+    fprintf(f, "add 'break %s' to open the outer loop at a node\n", d->nodes[s].name);
+}
+
 static void section_gain(FILE *f, const desc *d, const model *m, const check_result *r)
 {
     const lg_tf *tf = &r->tf;
@@ -125,6 +144,7 @@ static void section_gain(FILE *f, const desc *d, const model *m, const check_res
         fprintf(f, "\nLoop gain T, opened at gm '%s' (%s -> %s)\n", brk->name,
                 d->nodes[brk->a].name, d->nodes[brk->b].name);
     }
+    report_break_note(f, d, "  ");
     if (tf->origin < 0)
         fprintf(f, "  DC gain         unbounded: T grows as 1/s^%d at low frequency (an "
                 "integrator in the loop)\n", -tf->origin);

@@ -4,6 +4,7 @@
 #include <math.h>
 #include <string.h>
 
+#include "loopwise/report.h"
 #include "loopwise/units.h"
 
 enum { SHOWN_CORNERS = 8 };
@@ -173,6 +174,7 @@ void report_size_corners(FILE *f, const desc *d, const char *name, desc_target t
     fprintf(f, "  searched %s to %s (log grid of %d points, each corner solved to 1e-7): "
             "%d analyses\n", si_format(r->lo, unit, a, sizeof a),
             si_format(r->hi, unit, b, sizeof b), SIZE_OVER_GRID, r->analyses);
+    report_break_note(f, d, "  ");
     report_pinned_text(f, d, 1);
     tuned_spread(f, d, t, name, 1);
     fputc('\n', f);
@@ -291,6 +293,7 @@ void report_size_mc(FILE *f, const desc *d, const char *name, desc_target t,
     fprintf(f, "  searched %s to %s (log grid of %d values, then bisection to 1e-4, the same "
             "draws at every value): %d Monte Carlo runs\n", si_format(r->lo, unit, a, sizeof a),
             si_format(r->hi, unit, b, sizeof b), SIZE_MC_GRID, r->runs);
+    report_break_note(f, d, "  ");
     report_pinned_text(f, d, 0);
     report_held_text(f, d, t.kind == TARGET_PARAM ? t.index : -1);
     tuned_spread(f, d, t, name, 0);
@@ -377,10 +380,12 @@ void report_size_pair(FILE *f, const desc *d, const char *const names[2],
     fprintf(f, "loopwise size: %s  tune %s (the value that costs area) and %s together, %s\n",
             d->path, names[0], names[1], report_goal_text(g, gt, sizeof gt));
     fprintf(f, "  searched %s %s to %s (log grid of %d values, refined to 1e-5) and %s %s to "
-            "%s (log grid of %d values, best refined): %d analyses\n\n", names[0],
+            "%s (log grid of %d values, best refined): %d analyses\n", names[0],
             si_format(r->alo, ua, a, sizeof a), si_format(r->ahi, ua, b, sizeof b),
             SIZE_PAIR_GRID_A, names[1], si_format(r->blo, ub, c, sizeof c),
             si_format(r->bhi, ub, e, sizeof e), SIZE_PAIR_GRID_B, r->analyses);
+    report_break_note(f, d, "  ");
+    fputc('\n', f);
     if (r->met)
         fprintf(f, "  answer          %s = %s, %s = %s (%s chosen for the largest margin at "
                 "this %s)\n", names[0], si_format_digits(r->a, ua, 5, a, sizeof a), names[1],
@@ -487,8 +492,10 @@ void report_map(FILE *f, const desc *d, const char *const names[2], const desc_t
         return;
     }
     char a[32], b[32], gt[160];
-    fprintf(f, "loopwise sweep: %s  map of %s (rows) against %s (columns), %d x %d points, %s\n\n",
+    fprintf(f, "loopwise sweep: %s  map of %s (rows) against %s (columns), %d x %d points, %s\n",
             d->path, names[0], names[1], n, n, report_goal_text(g, gt, sizeof gt));
+    report_break_note(f, d, "  ");
+    fputc('\n', f);
     fprintf(f, "  phase margin in degrees (* below the %s, NO unstable, - no crossover)\n",
             design_goal_word(g));
     fputs("  ", f);

@@ -4,6 +4,7 @@
 #include <math.h>
 #include <string.h>
 
+#include "loopwise/report.h"
 #include "loopwise/units.h"
 
 #define TWO_PI 6.283185307179586
@@ -212,6 +213,7 @@ void report_sweep(FILE *f, const desc *d, const char *name, desc_target t,
                 d->nodes[r->probe.to].name, r->probe.src.kind == RESP_INPUT ? "input" :
                 "a current into", r->probe.src.kind == RESP_INPUT
                 ? d->inputs[r->probe.src.index].name : d->nodes[r->probe.src.index].name);
+    report_break_note(f, d, "  ");
     fputc('\n', f);
     text_points(f, r, unit, name, g);
     fputc('\n', f);
@@ -288,8 +290,10 @@ void report_size(FILE *f, const desc *d, const char *name, desc_target t, const 
             g.pm_deg);
     if (!isnan(g.gm_db))
         fprintf(f, " and gain margin >= %.4g dB", g.gm_db);
-    fprintf(f, "\n  searched %s to %s (log grid of 81 points, refined to 1e-6)\n\n",
+    fprintf(f, "\n  searched %s to %s (log grid of 81 points, refined to 1e-6)\n",
             si_format(r->lo, unit, a, sizeof a), si_format(r->hi, unit, b, sizeof b));
+    report_break_note(f, d, "  ");
+    fputc('\n', f);
     if (r->met) {
         fprintf(f, "  answer          %s = %s%s\n", name, si_format(p->value, unit, a, sizeof a),
                 r->at_lo ? ", the lower end of the range" : "");

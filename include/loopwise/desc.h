@@ -171,6 +171,16 @@ int desc_break_choose(desc *d, lw_error *err);
 /* The gms whose IN is node (the break of 'break NODE'), in file order, into
  * gms (may be NULL); returns their count. */
 int desc_break_gms(const desc *d, int node, int *gms);
+/* A local loop the break opens too: a chain of res and cap elements (a
+ * Miller capacitor, alone or with its nulling resistor, through nodes that
+ * carry nothing else, none a hop of a declared loop) from the IN to the OUT
+ * of a gm of the break. Its elements into chain (at most max) and the gm
+ * into *gm; returns their count, 0 when the break opens no such loop. */
+int desc_break_bridge(const desc *d, int *gm, int *chain, int max);
+/* A node of the outer loop to break at instead: on every declared loop, the
+ * input of a gm, and not bridged to that gm's output itself (the first in
+ * the first loop's order); -1 when none. */
+int desc_break_suggest(const desc *d);
 
 /* Fills err->src with source line `line` for the caret display. */
 void desc_error_source(const desc *d, lw_error *err);

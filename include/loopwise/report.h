@@ -20,6 +20,11 @@ typedef struct report_target {
  * unbounded, the phase never reaching -180 + 360 m, meets any --gm). */
 int report_check_status(const check_result *r, report_target t);
 
+/* One note line (after indent) when the break also opens a local loop
+ * around its stage (desc_break_bridge), naming a node of the outer loop to
+ * break at instead; nothing otherwise. */
+void report_break_note(FILE *f, const desc *d, const char *indent);
+
 void report_check_text(FILE *f, const desc *d, const model *m, const check_result *r,
                        report_target t);
 void report_check_json(FILE *f, const desc *d, const model *m, const check_result *r);

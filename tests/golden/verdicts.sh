@@ -11,6 +11,49 @@ LW=${1:-./loopwise}
 G=tests/golden
 RING=$G/ring3.loop
 
+# ---- a break inside a local loop ---------------------------------------------
+# A two-stage amplifier in unity feedback with its Miller capacitor across the second
+# stage, the second stage declared first (cases/miller.loop), so that without a break
+# line the loop is opened at g2, whose IN and OUT the capacitor joins. Opened at the node inn (the IN of
+# g1, tied to out by the feedback wire, with no capacitance), T is the textbook
+# two-stage transfer (exact for this network, from memory):
+#   T(s) = gm1 R1 gm2 R2 (1 - s Cc/gm2) / (1 + a s + b s^2),
+#   a = R1 (C1 + Cc) + R2 (C2 + Cc) + gm2 R1 R2 Cc,  b = R1 R2 (C1 C2 + Cc (C1 + C2)),
+# the outer loop's; the default break gives another margin, and check, size and sweep say so.
+# (cases/miller.loop, whose values the closed form below repeats)
+grep -v '^#' cases/miller.loop >"$tmp/miller.loop"
+note="  note: a capacitor 'cc' joins x1 and out across gm 'g2', so opening the loop there opens that local loop too and the margin is not the outer loop's; add 'break inn' to open the outer loop at a node"
+"$LW" check "$tmp/miller.loop" >"$tmp/m.txt" 2>/dev/null
+grep -qxF "$note" "$tmp/m.txt" && grep -q "^Loop gain T, opened at gm 'g2' (x1 -> out)$" "$tmp/m.txt" &&
+    ok || bad "check: no note on a break across a Miller capacitor"
+for cmd in "size --tune cc" "sweep --vary cc --from 0.4p --to 1.6p --points 3"; do
+    "$LW" $cmd "$tmp/miller.loop" >"$tmp/m2.txt" 2>/dev/null
+    grep -qxF "$note" "$tmp/m2.txt" && ok || bad "$cmd: no note on a break across a Miller capacitor"
+done
+(cat "$tmp/miller.loop"; echo "break inn") >"$tmp/miller_inn.loop"
+"$LW" check "$tmp/miller_inn.loop" >"$tmp/m3.txt" 2>/dev/null
+! grep -q "note: " "$tmp/m3.txt" && ok || bad "check: a note on the suggested break"
+"$LW" check "$tmp/miller_inn.loop" --json >"$tmp/inn.json" 2>/dev/null
+"$LW" check "$tmp/miller.loop" --json >"$tmp/g2.json" 2>/dev/null
+$PY - "$tmp/inn.json" "$tmp/g2.json" <<'PYEOF' && ok || bad "the suggested break gives the outer loop's margin"
+import json, math, sys
+import numpy as np
+inn, g2 = json.load(open(sys.argv[1])), json.load(open(sys.argv[2]))
+gm1, gm2, R1, C1, R2, C2, Cc = 100e-6, 2e-3, 1e6, 100e-15, 50e3, 3e-12, 0.8e-12
+A0 = gm1 * R1 * gm2 * R2
+a = R1 * (C1 + Cc) + R2 * (C2 + Cc) + gm2 * R1 * R2 * Cc
+b = R1 * R2 * (C1 * C2 + Cc * (C1 + C2))
+# |T(jw)| = 1: A0^2 (1 + (w Cc/gm2)^2) = (1 - b w^2)^2 + (a w)^2, a polynomial in u = w^2
+poly = [b * b, a * a - 2 * b - A0 * A0 * (Cc / gm2) ** 2, 1 - A0 * A0]
+u = max(r.real for r in np.roots(poly) if abs(r.imag) < 1e-9 * abs(r) and r.real > 0)
+w = math.sqrt(u)
+pm = 180 - math.degrees(math.atan(w * Cc / gm2)) - math.degrees(math.atan2(a * w, 1 - b * w * w))
+assert abs(inn["dc_loop_gain"] - A0) < 1e-9 * A0, inn["dc_loop_gain"]
+assert abs(inn["crossover_hz"] - w / (2 * math.pi)) < 1e-7 * inn["crossover_hz"], (inn["crossover_hz"], w / (2 * math.pi))
+assert abs(inn["phase_margin_deg"] - pm) < 1e-6, (inn["phase_margin_deg"], pm)
+assert g2["break"] == "g2" and abs(g2["phase_margin_deg"] - pm) > 1, (g2["phase_margin_deg"], pm)
+PYEOF
+
 # ---- size: a target already met at the lower end of the range -------------
 # a = 1.05 gives 180 - 3 atan(sqrt(1.05^2 - 1)) = 126.7 deg, and a = 1.02 (below the
 # range) 145.9 deg: the smallest a meeting 60 deg lies below 1.05 (it is 1, where the
