@@ -386,6 +386,9 @@ static void size_suggestion(FILE *f, const desc *d, const load_result *r,
                 r->advice_kind == ROW_NODE ? d->nodes[r->advice_index].name
                                            : d->elems[r->advice_index].name,
                 r->advice_half ? "halving" : "doubling", r->advice_gain);
+    } else if (d->nnodes > 64) {
+        fputs("  (the compensation table, which would rank the values, is computed up to 64 "
+              "nodes: NAME is the value to size)\n", f);
     } else {
         fputs("  (no value in the compensation table gains margin at that load: NAME is the "
               "value to size)\n", f);
