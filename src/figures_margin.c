@@ -168,11 +168,20 @@ int figure_margin(const figure_opts *fo, const desc *d, const char *what, const 
     if (w >= 0) {
         const design_point *p = &sw->pts[w];
         double at = lin ? (p->value - x0) / (x1 - x0) : log(p->value / x0) / log(x1 / x0);
+        /* below the goal line, a crossing's label may stand where this one
+         * would (the smallest margin next to the goal): one line lower per such label */
+        int under = 0;
+        for (int k = 0; k < sw->ncross; k++) {
+            const design_crossing *c = &sw->cross[k];
+            double ca = lin ? (c->value - x0) / (x1 - x0) : log(c->value / x0) / log(x1 / x0);
+            int below = c->rises ? ca < 0.6 : ca > 0.4;
+            under += below && fabs(ca - at) < 0.35 && fabs(p->pm_deg - g.pm_deg) < 0.08 * (yhi - ylo);
+        }
         snprintf(text, sizeof text, "smallest margin %.1f\xC2\xB0 at %s", p->pm_deg,
                  si_format(p->value, unit, a, sizeof a));
         fprintf(s, "set label \"%s\" at graph %.6f, first %.6g %s offset %d,%.1f noenhanced "
                 "tc rgb '%s' front\n", text, fmin(fmax(at, 0.001), 0.999), p->pm_deg,
-                at > 0.5 ? "right" : "left", at > 0.5 ? -2 : 2, -1.4, PLOT_INK);
+                at > 0.5 ? "right" : "left", at > 0.5 ? -2 : 2, -1.4 - 1.3 * under, PLOT_INK);
         fprintf(s, "set label 900 '' at %.10g, first %.6g point pt 12 ps 3 lw 2 lc rgb '%s' "
                 "front\n", p->value, p->pm_deg, PLOT_ACCENT);
     }

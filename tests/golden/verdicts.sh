@@ -159,6 +159,16 @@ assert "  The largest load that meets it is the 1 nF asked for." in text
 assert "even 1 pF" not in text
 PYEOF
 [ $rc = 1 ] && ok || bad "load: some loads miss a given --pm: exit $rc, expected 1"
+# its picture from just below CL*: the crossing's label and the smallest margin's, both
+# under the goal line at the left, stand on different lines
+"$LW" load "$tmp/twopole.loop" --node x --cload 130p..1n --pm 60 -o "$tmp/tp.png" --keep-script "$tmp/ktp" >/dev/null 2>&1
+$PY - "$tmp/ktp/plot.gp" <<'PYEOF' && ok || bad "load -o: the crossing's and the smallest margin's labels overlap"
+import re, sys
+gp = open(sys.argv[1]).read()
+ys = [float(re.search(r'"%s[^"]*".* offset -?[0-9.]+,(-?[0-9.]+)' % w, gp).group(1))
+      for w in ("rises through 60", "smallest margin")]
+assert ys[0] < 0 and ys[1] < 0 and abs(ys[0] - ys[1]) >= 1.2, ys
+PYEOF
 # the same loop with the margin falling: loads on node x of the equal-pole loop above
 # cannot be made to fall, so a load at y of a loop whose x already dominates (x at
 # 1 nF) closes the met range from above: 60 deg at the CL* of the mirrored closed form
