@@ -464,10 +464,12 @@ static int seen_resistance(desc *d, int node, double *rs, lw_error *err)
 }
 
 /* The compensation that helps most with the worst load in place: the
- * compensation table at that load (design_table.c), its cap and res rows
- * first (the values a designer sizes), then the capacitance to ground at
- * another node; a change helps when it gains more than 0.05 degrees (the
- * table's own threshold for "the largest gain"). */
+ * compensation table at that load (design_table.c), its cap rows first
+ * (the values a designer sizes for compensation), then the capacitance to
+ * ground at another node, and a res only when no capacitance helps (a
+ * resistor usually sets a bias or an output voltage too); a change helps
+ * when it gains more than 0.05 degrees (the table's own threshold for
+ * "the largest gain"). */
 static int load_advice(desc *d, desc_target t, double c, const check_opts *o, load_result *r,
                        lw_error *err)
 {
@@ -488,10 +490,11 @@ static int load_advice(desc *d, desc_target t, double c, const check_opts *o, lo
     int n = rc ? 0 : design_table_rows(d, &cr, &w);
     if (n < 0)
         rc = lw_error_set(err, LW_ENOMEM, "out of memory");
-    for (int pass = 0; pass < 2 && r->advice_index < 0; pass++)
+    static const design_row_kind order[3] = { ROW_CAP, ROW_NODE, ROW_RES };
+    for (int pass = 0; pass < 3 && r->advice_index < 0; pass++)
         for (int k = 0; k < n; k++) {
             const design_row *x = &w[k];
-            if ((pass == 0) != (x->kind != ROW_NODE) || (x->kind == ROW_NODE && x->index == r->node))
+            if (x->kind != order[pass] || (x->kind == ROW_NODE && x->index == r->node))
                 continue;
             int half = !(x->pm_double >= x->pm_half) && !isnan(x->pm_half);
             double gain = half ? x->pm_half : x->pm_double;
