@@ -106,7 +106,8 @@ int main(int argc, char **argv)
         }
     }
     if (rc) {
-        lw_error_print(&err, strcmp(o.file, "-") ? o.file : "<stdin>", stderr);
+        if (err.msg[0]) /* empty: printed already by the command (a part's file, say) */
+            lw_error_print(&err, strcmp(o.file, "-") ? o.file : "<stdin>", stderr);
         code = exit_code(rc);
         goto done;
     }

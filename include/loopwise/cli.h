@@ -75,9 +75,12 @@ int cmd_polar(const options *o, const desc *d, const model *m, const check_resul
               lw_error *err);
 int cmd_corners(const options *o, desc *d, int *code, lw_error *err);
 /* nominal: the analysis with the --set values and no spread (the operating
- * point the histogram marks). */
-int cmd_montecarlo(const options *o, const desc *d, const text_file *t,
-                   const check_result *nominal, int *code, lw_error *err);
+ * point the histogram marks). With --part, only that part's samples; with
+ * --merge, the parts' samples (mc_parts.h). An error about a part's file is
+ * printed here (it names that file): the status comes back with an empty
+ * err->msg. */
+int cmd_montecarlo(const options *o, desc *d, const text_file *t, const check_result *nominal,
+                   int *code, lw_error *err);
 int cmd_size(const options *o, desc *d, const text_file *t, int *code, lw_error *err);
 int cmd_sweep(const options *o, desc *d, const text_file *t, int *code, lw_error *err);
 
