@@ -101,6 +101,7 @@ golden: $(LW_BIN)
 	@sh tests/golden/across.sh ./$(LW_BIN)
 	@sh tests/golden/response.sh ./$(LW_BIN)
 	@sh tests/golden/help.sh ./$(LW_BIN)
+	@sh tests/golden/parts.sh ./$(LW_BIN)
 
 # The reference's numpy runs its BLAS on one thread: its problems are small,
 # and the threads of OpenBLAS's pthread variant would spin on the cores the

@@ -165,7 +165,7 @@ const cli_option cli_options[] = {
       "needs --samples-out", NULL },
     { "--samples-out", NULL, OPT_SAMPLES_OUT, "PATH", VAL_PATH, NULL, B(MONTECARLO), NULL,
       "write one CSV row per sample evaluated (its index, drawn values and margins), for "
-      "--merge", NULL },
+      "--merge (- for standard output, instead of the report)", NULL },
     { "--merge", NULL, OPT_MERGE, "PART.csv...", VAL_PATHS, NULL, B(MONTECARLO), NULL,
       "report on the samples of these --samples-out files (every index once) exactly as one "
       "run over all of them would; every word after it up to the next option is a file", NULL },

@@ -366,7 +366,9 @@ int cmd_montecarlo(const options *o, desc *d, const text_file *t, const check_re
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
     int yield_met = !o->yield_given || r.lower95 >= o->yield;
-    if (o->json) {
+    if (o->samples_out && !strcmp(o->samples_out, "-")) {
+        /* the samples on standard output instead of the report, as --csv - */
+    } else if (o->json) {
         printf("{\"samples\": %d, ", r.nsamples);
         if (o->part_m)
             printf("\"part\": {\"k\": %d, \"m\": %d, \"samples_total\": %d}, ", o->part_k,
