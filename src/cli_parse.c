@@ -14,7 +14,6 @@
 
 #include "cli_impl.h"
 
-#define LOOPWISE_VERSION "0.2.0"
 
 /* The command of the line when argv[1] names one (for the hint and the
  * suggestions), or -1. */
