@@ -231,9 +231,10 @@ int cli_help_roff(FILE *f)
         }
         fputs("[\\fIoptions\\fR]\n.PP\n", f);
         rc |= roff_text(f, k->about);
-        fputs("\n.PP\nOptions:\n.RS\n", f);
+        fputs("\n.PP\nOptions, besides those of\n.BR OPTIONS :\n.RS\n", f);
         for (int j = 0; j < cli_noptions; j++)
-            if (shown(&cli_options[j], (cli_cmd)c))
+            if (shown(&cli_options[j], (cli_cmd)c) &&
+                cli_option_commands(cli_options[j].id) != CMDS_ALL)
                 rc |= roff_option(f, &cli_options[j]);
         fputs(".RE\n.PP\nExit code 1 when ", f);
         rc |= roff_text(f, k->exit1);

@@ -105,11 +105,13 @@ const cli_option cli_options[] = {
       "the param, element, NODE.r or NODE.c to size; twice: the one that costs area first, "
       "then the one chosen for the largest margin", NULL },
     { "--within", NULL, OPT_WITHIN, "LO..HI", VAL_TEXT, NULL, B(SIZE),
-      "value/100 .. value*100", "the range searched (the k-th --within goes with the k-th --tune)", NULL },
+      "value/100 .. value*100",
+      "the range searched (the k-th --within goes with the k-th --tune)", NULL },
     { "--density", NULL, OPT_DENSITY, "D", VAL_TEXT, NULL, B(SIZE), NULL,
       "capacitance per area, e.g. 2fF/um2, to report the area of the capacitor sized", NULL },
     { "--over", NULL, OPT_OVER, "corners|montecarlo", VAL_CHOICE, "corners montecarlo", B(SIZE),
-      NULL, "size for every corner, or for a Monte Carlo yield (with --samples, --seed, --yield)", NULL },
+      NULL, "size for every corner, or for a Monte Carlo yield (with --samples, --seed, --yield)",
+      NULL },
     { "--levels", NULL, OPT_LEVELS, "K", VAL_NUMBER, NULL, B(SIZE), "2, the ends",
       "with --over corners: values of each corner range, evenly spaced, ends included, 2 to "
       "100", "--levels goes with 'corners' or 'size --over corners'" },
@@ -148,7 +150,8 @@ const cli_option cli_options[] = {
     { "--step", NULL, OPT_STEP, NULL, VAL_NONE, NULL, B(RESPONSE), NULL,
       "show the step response in the text (and draw it with -o); JSON always has it", NULL },
     /* load */
-    { "--node", NULL, OPT_NODE, "N", VAL_NODE, NULL, B(LOAD), NULL, "the node that takes the load", NULL },
+    { "--node", NULL, OPT_NODE, "N", VAL_NODE, NULL, B(LOAD), NULL, "the node that takes the load",
+      NULL },
     { "--cload", NULL, OPT_CLOAD, "LO..HI", VAL_TEXT, NULL, B(LOAD), NULL,
       "the capacitance added at the node, e.g. 1p..1n", NULL },
     /* Monte Carlo */
