@@ -44,6 +44,16 @@ for c in $("$LW" --complete "loopwise " | grep -v -e '^help$' -e '^-'); do
     done
 done
 
+# loopwise(5)'s annotated example is a description the program accepts, and
+# what the page says of it holds: a negative loop, measured at g1.
+sed -n '/^\.SH EXAMPLE/,/^\.EE/p' "$D$P/share/man/man5/loopwise.5" | sed -n '/^\.EX/,/^\.EE/p' |
+    sed '1d;$d' | sed "s/\\\\-/-/g; s/\\\\(aq/'/g" >"$tmp/example.loop"
+"$LW" check "$tmp/example.loop" --json >"$tmp/example.json" 2>"$tmp/e" && ok ||
+    bad "loopwise(5)'s example: $(head -n 1 "$tmp/e")"
+$PY -c 'import json,sys; d=json.load(open(sys.argv[1])); assert d["break"] == "g1" and d["loops"][0]["sign"] == "negative" and d["stable"]' "$tmp/example.json" && ok || bad "loopwise(5)'s example: break, sign or stability"
+"$LW" corners "$tmp/example.loop" >/dev/null 2>&1 && "$LW" response "$tmp/example.loop" --to out \
+    >/dev/null 2>&1 && ok || bad "loopwise(5)'s example: corners or response refused"
+
 # Only the entry points are exported: every defined global symbol is one
 # that loopwise.h declares.
 H="$D$P/include/loopwise/loopwise.h"
