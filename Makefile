@@ -227,7 +227,11 @@ $(BUILD)/dist/libloopwise.a: $(LIB_OBJ)
 # pkg-config: the libraries the build links (LDLIBS: GSL, LAPACK(E), OpenMP,
 # libm), for a program linking the static library. Written by install, for
 # the PREFIX and LIBDIR of that install.
-PC_LINES := 'prefix=$(PREFIX)' 'libdir=$(LIBDIR)' 'includedir=$(INCLUDEDIR)' '' \
+# libdir and includedir are written from ${prefix} when they lie under it, so
+# that --define-variable=prefix=... (or pkgconf's --define-prefix) finds a
+# staged or moved install.
+PC_LINES := 'prefix=$(PREFIX)' 'libdir=$(patsubst $(PREFIX)/%,$${prefix}/%,$(LIBDIR))' \
+            'includedir=$(patsubst $(PREFIX)/%,$${prefix}/%,$(INCLUDEDIR))' '' \
             'Name: loopwise' \
             'Description: loop gain, margins, sizing and spread of small-signal feedback loops' \
             'Version: $(VERSION)' \

@@ -4,15 +4,20 @@
  *   lw_check  check_run as the check command runs it, its figures copied
  *             out with the names they carry
  *   lw_point  design_eval, as sweep evaluates one value
- * The response is in api_response.c. Each entry switches GSL's error
- * handler off for its time and restores the caller's. */
+ * The response is in api_response.c. Each entry runs as the program does,
+ * GSL's error handler off and OpenBLAS on one thread (so the figures are
+ * the program's to the last digit), and gives the caller's back. */
 #include <gsl/gsl_errno.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#ifdef _OPENMP
+#include <omp.h>
+#endif
 
 #include "loopwise/check.h"
 #include "loopwise/design.h"
+#include "loopwise/eigvals.h"
 #include "loopwise/loopwise.h"
 #include "loopwise/report.h"
 
@@ -23,6 +28,29 @@
 const char *lw_version(void)
 {
     return LOOPWISE_VERSION;
+}
+
+/* OpenBLAS, which the build links (see the Makefile). */
+int openblas_get_num_threads(void);
+void openblas_set_num_threads(int n);
+
+api_state api_enter(void)
+{
+    api_state st = { gsl_set_error_handler_off(), openblas_get_num_threads(), 1 };
+#ifdef _OPENMP
+    st.omp_threads = omp_get_max_threads();
+#endif
+    eigvals_blas_one_thread();
+    return st;
+}
+
+void api_leave(api_state st)
+{
+    openblas_set_num_threads(st.blas_threads);
+#ifdef _OPENMP
+    omp_set_num_threads(st.omp_threads); /* OpenBLAS's OpenMP variant sets both */
+#endif
+    gsl_set_error_handler(st.gsl);
 }
 
 void api_message(lw_message *msg, const char *name, const lw_error *e)
@@ -75,12 +103,12 @@ int lw_loop_parse(const char *text, size_t len, const char *name, lw_loop **out,
     text_file *t = NULL;
     lw_error_clear(&err);
     api_message_clear(msg);
-    gsl_error_handler_t *old = gsl_set_error_handler_off();
+    api_state old = api_enter();
     if (!name)
         name = "<buffer>";
     int rc = text_from_buffer(text, len, &t, &err);
     rc = loop_from(t, name, rc, out, msg, &err);
-    gsl_set_error_handler(old);
+    api_leave(old);
     return rc;
 }
 
@@ -90,11 +118,11 @@ int lw_loop_read(const char *path, lw_loop **out, lw_message *msg)
     text_file *t = NULL;
     lw_error_clear(&err);
     api_message_clear(msg);
-    gsl_error_handler_t *old = gsl_set_error_handler_off();
+    api_state old = api_enter();
     const char *name = strcmp(path, "-") ? path : "<stdin>";
     int rc = text_read(path, &t, &err);
     rc = loop_from(t, name, rc, out, msg, &err);
-    gsl_set_error_handler(old);
+    api_leave(old);
     return rc;
 }
 
@@ -243,15 +271,15 @@ int lw_check_run(const lw_loop *l, double fmin_hz, double fmax_hz, lw_check **ou
         api_message(msg, l->d->path, &err);
         return LW_ENOMEM;
     }
-    gsl_error_handler_t *old = gsl_set_error_handler_off();
+    api_state old = api_enter();
     /* the options of the check command: owners, loops, the Nyquist count */
-    check_opts co = { fmin_hz, fmax_hz, 1, 1, 0, 1 };
+    check_opts co = { fmin_hz, fmax_hz, 1, 1, 0, 1, NULL };
     int rc = model_new(l->d, &c->m, &err);
     if (!rc && (rc = check_run(l->d, c->m, &co, &c->r, &err)))
         memset(&c->r, 0, sizeof c->r);
     if (!rc && (rc = fill(c, l->d)))
         lw_error_set(&err, rc, "out of memory");
-    gsl_set_error_handler(old);
+    api_leave(old);
     if (rc) {
         api_message(msg, l->d->path, &err);
         lw_check_free(c);
@@ -306,15 +334,15 @@ int lw_sweep_point(lw_loop *l, const char *name, double value, double fmin_hz, d
     desc_target t;
     design_point pt;
     /* the options of sweep: no owner nodes, no loops' own gains */
-    check_opts co = { fmin_hz, fmax_hz, 0, 0, 0, 0 };
-    gsl_error_handler_t *old = gsl_set_error_handler_off();
+    check_opts co = { fmin_hz, fmax_hz, 0, 0, 0, 0, NULL };
+    api_state old = api_enter();
     int rc = desc_target_find(l->d, name, &t, &err);
     if (!rc && !isfinite(value))
         rc = lw_error_set(&err, LW_EINPUT, "%s: the value must be finite", name);
     if (!rc)
         rc = design_eval(l->d, t, value, &co, &pt, &err);
     desc_eval(l->d, &ignored); /* the description's own values again */
-    gsl_set_error_handler(old);
+    api_leave(old);
     if (rc) {
         api_message(msg, l->d->path, &err);
         return rc;

@@ -3,7 +3,6 @@
  * (cmd_response_source), the closed-loop poles from check_run, the
  * transfer (response_analyse) and, on a stable loop, its exact step
  * response (step_run). */
-#include <gsl/gsl_errno.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -87,7 +86,7 @@ static int run(const desc *d, const lw_response_request *q, lw_response *out, lw
     step_form *sf = NULL;
     step_result st;
     int have_r = 0, have_res = 0;
-    check_opts co = { q->fmin_hz, q->fmax_hz, 1, 1, 0, 0 };
+    check_opts co = { q->fmin_hz, q->fmax_hz, 1, 1, 0, 0, NULL };
     response_opts ro = { q->fmin_hz, q->fmax_hz };
     if ((rc = model_new(d, &m, err)) || (rc = check_run(d, m, &co, &r, err)))
         goto done;
@@ -124,9 +123,9 @@ int lw_response_run(const lw_loop *l, const lw_response_request *q, lw_response 
     api_message_clear(msg);
     *out = NULL;
     lw_response *r = calloc(1, sizeof *r);
-    gsl_error_handler_t *old = gsl_set_error_handler_off();
+    api_state old = api_enter();
     int rc = r ? run(l->d, q, r, &err) : lw_error_set(&err, LW_ENOMEM, "out of memory");
-    gsl_set_error_handler(old);
+    api_leave(old);
     if (rc) {
         api_message(msg, l->d->path, &err);
         lw_response_free(r);

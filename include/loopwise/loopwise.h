@@ -27,7 +27,10 @@
  *
  * THREADS: objects are independent; one object must not be used by two
  * threads at once. While it runs, a call switches GSL's error handler off
- * (every GSL status is checked) and restores the caller's.
+ * (every GSL status is checked) and keeps OpenBLAS on one thread, as the
+ * program does; it gives the caller's settings back. These are settings of
+ * the whole process: do not call GSL or OpenBLAS from another thread
+ * meanwhile.
  *
  * Link with `pkg-config --cflags --libs loopwise`. */
 #ifndef LOOPWISE_LOOPWISE_H

@@ -66,9 +66,10 @@ printf '#include <loopwise/loopwise.h>\nint main(void) { return lw_version()[0] 
 g++ -fsyntax-only -Wall -Wextra -I"$D$P/include" "$tmp/cxx.cc" 2>"$tmp/e" && ok ||
     bad "loopwise.h does not compile as C++: $(head -n 3 "$tmp/e")"
 
-# The example, built through pkg-config against the staged install only.
-export PKG_CONFIG_PATH="$D$P/lib/pkgconfig" PKG_CONFIG_SYSROOT_DIR="$D"
-flags=$(pkg-config --cflags --libs loopwise 2>"$tmp/e")
+# The example, built through pkg-config against the staged install only
+# (its prefix moved to where it is staged, as for a relocated install).
+export PKG_CONFIG_PATH="$D$P/lib/pkgconfig"
+flags=$(pkg-config --define-variable=prefix="$D$P" --cflags --libs loopwise 2>"$tmp/e")
 [ $? = 0 ] && ok || bad "pkg-config loopwise: $(cat "$tmp/e")"
 [ "$(pkg-config --modversion loopwise)" = "$("$LW" --version | cut -d' ' -f2)" ] && ok ||
     bad "loopwise.pc's version differs from the program's"
@@ -136,7 +137,7 @@ PYEOF
 "$tmp/loop_report" $F --set nosuch=1 >"$tmp/o" 2>"$tmp/e"
 [ $? = 2 ] && grep -q "unknown param or element 'nosuch'" "$tmp/e" && ok ||
     bad "loop_report --set nosuch: $(head -n 1 "$tmp/e")"
-unset PKG_CONFIG_PATH PKG_CONFIG_SYSROOT_DIR
+unset PKG_CONFIG_PATH
 
 # make uninstall: nothing of ours is left, the other file is.
 $MAKE --no-print-directory uninstall DESTDIR="$D" PREFIX="$P" >"$tmp/log" 2>&1 && ok ||
