@@ -352,7 +352,9 @@ memcheck: all
 	        "check tests/ref/nets/10_break_node.loop" \
 	        "response cases/regulator.loop --to out --step --points 20" \
 	        "response cases/regulator.loop --to out --inject each" \
-	        "sweep cases/regulator.loop --vary cout --from 1u --to 4u --points 3 --to out"; do \
+	        "sweep cases/regulator.loop --vary cout --from 1u --to 4u --points 3 --to out" \
+	        "montecarlo $(MC) --samples 200 --seed 1 --samples-out build/memcheck-samples.csv" \
+	        "montecarlo $(MC) --merge build/memcheck-samples.csv" "sweep --help"; do \
 	    $(VG) ./loopwise $$run >/dev/null 2>&1; rc=$$?; \
 	    if [ $$rc -le 1 ] && [ ! -s build/memcheck.log ]; then echo "  MEMCHECK ok      $$run"; \
 	        pass=$$((pass + 1)); \
