@@ -182,7 +182,7 @@ static int whole(const char *s, unsigned long long max, unsigned long long *v)
 
 /* What the '#' lines of one file say. */
 typedef struct part_head {
-    int have_fp, have_samples, have_seed, have_part;
+    int have_file, have_fp, have_samples, have_seed, have_part, have_fmin, have_fmax;
     unsigned long long samples, seed;
     int k, m;
     int nsets;
@@ -197,6 +197,15 @@ static int head_line(reader *rd, const mc_run_id *id, part_head *h)
     *val++ = '\0';
     size_t voff = (size_t)(val - rd->buf);
     unsigned long long u;
+    /* each key once (only 'set' repeats): a file of endless '#' lines ends */
+    int *once = !strcmp(key, "file") ? &h->have_file : !strcmp(key, "fingerprint") ? &h->have_fp
+                : !strcmp(key, "samples") ? &h->have_samples : !strcmp(key, "seed") ? &h->have_seed
+                : !strcmp(key, "part") ? &h->have_part : !strcmp(key, "fmin") ? &h->have_fmin
+                : !strcmp(key, "fmax") ? &h->have_fmax : NULL;
+    if (once && *once)
+        return fail(rd, 2, "a second '# %s' line; expected each once", key);
+    if (once)
+        *once = 1;
     if (!strcmp(key, "file"))
         return LW_OK; /* the path the part was run with: any */
     if (!strcmp(key, "fingerprint")) {
@@ -206,7 +215,6 @@ static int head_line(reader *rd, const mc_run_id *id, part_head *h)
             return fail(rd, voff, "this part was run on another description (fingerprint %s; "
                         "the file given to the merge has %s): merge with the description the "
                         "parts were run on, unchanged", val, mine);
-        h->have_fp = 1;
     } else if (!strcmp(key, "samples")) {
         if (!whole(val, MC_MAX_SAMPLES, &u) || u < 1)
             return fail(rd, voff, "'%s': expected the run's number of samples", val);
@@ -214,7 +222,6 @@ static int head_line(reader *rd, const mc_run_id *id, part_head *h)
             return fail(rd, voff, "this part belongs to a run of %llu samples, the other parts "
                         "(or --samples) to one of %d", u, id->total);
         h->samples = u;
-        h->have_samples = 1;
     } else if (!strcmp(key, "seed")) {
         if (!whole(val, UINT64_MAX, &u))
             return fail(rd, voff, "'%s': expected the run's seed", val);
@@ -222,7 +229,6 @@ static int head_line(reader *rd, const mc_run_id *id, part_head *h)
             return fail(rd, voff, "this part was drawn with seed %llu, the other parts (or "
                         "--seed) with %llu", u, (unsigned long long)id->seed);
         h->seed = u;
-        h->have_seed = 1;
     } else if (!strcmp(key, "part")) {
         char *slash = strchr(val, '/');
         unsigned long long k, m;
@@ -234,7 +240,6 @@ static int head_line(reader *rd, const mc_run_id *id, part_head *h)
             return fail(rd, voff, "expected K/M with 1 <= K <= M");
         h->k = (int)k;
         h->m = (int)m;
-        h->have_part = 1;
     } else if (!strcmp(key, "set")) {
         if (h->nsets >= id->nsets)
             return fail(rd, voff, "this part was run with --set %s, the merge without it: give "
