@@ -1,14 +1,25 @@
 # loopwise: loop-stability analysis for small-signal networks.
-# Targets: all check demo bench install clean, and the hardening runs fuzz
-# (FUZZ_SECONDS=N) and sanitize.  V=1 shows the commands.
+# Targets: all check demo bench install uninstall clean, and the hardening
+# runs fuzz (FUZZ_SECONDS=N) and sanitize.  V=1 shows the commands.
 
+# Where 'make install' puts things (DESTDIR stages them elsewhere).
 PREFIX ?= /usr/local
 DESTDIR ?=
+BINDIR ?= $(PREFIX)/bin
+LIBDIR ?= $(PREFIX)/lib
+INCLUDEDIR ?= $(PREFIX)/include
+DATADIR ?= $(PREFIX)/share
+MANDIR ?= $(DATADIR)/man
+PKGCONFIGDIR ?= $(LIBDIR)/pkgconfig
+# bash-completion's own directory, moved under PREFIX (bash-completion also
+# reads PREFIX/share from XDG_DATA_DIRS); its default when it is absent
+BASHCOMPDIR ?= $(shell pkg-config --define-variable=prefix=$(PREFIX) --variable=completionsdir \
+                 bash-completion 2>/dev/null || echo $(DATADIR)/bash-completion/completions)
 CC ?= cc
 PKGS := gsl lapacke
 OMP := -fopenmp
 DEB_PKGS := build-essential pkg-config libgsl-dev liblapacke-dev libopenblas-dev libopenblas-pthread-dev \
-            libcmocka-dev python3-numpy python3-scipy gnuplot-nox
+            libcmocka-dev python3-numpy python3-scipy gnuplot-nox groff-base mandoc
 # For 'make fuzz' and 'make sanitize' only.
 FUZZ_PKGS := clang libclang-rt-14-dev valgrind
 PYTHON := /usr/bin/python3
@@ -16,8 +27,10 @@ PYTHON := /usr/bin/python3
 WARN := -Wall -Wextra -Wshadow -Wconversion -Wstrict-prototypes -Wmissing-prototypes \
         -Wno-sign-conversion
 CFLAGS ?= -O2 -g
+# Hidden visibility: the installed library exports only the entry points of
+# loopwise.h (LW_API); see $(BUILD)/dist/libloopwise.a below.
 ALL_CFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L -DHAVE_INLINE $(WARN) $(CFLAGS) $(OMP) -Iinclude -MMD -MP \
-              $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
+              -fvisibility=hidden $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
 # BLAS and LAPACK: Debian's OpenBLAS in its OpenMP variant. Sweeps and
 # Monte Carlo run their points on OpenMP threads, and inside a parallel
 # region this variant runs one BLAS thread per caller; its serial variant is
@@ -55,12 +68,15 @@ LIB_OBJ := $(LIB_SRC:src/%.c=$(BUILD)/%.o)
 TEST_SRC := $(wildcard tests/unit/test_*.c)
 TEST_BIN := $(TEST_SRC:tests/unit/%.c=$(BUILD)/tests/%)
 
-.PHONY: all check demo bench install clean deps unit golden reference binom bytes fuzz fuzz-run \
-        sanitize sanitize-run memcheck
+.PHONY: all check demo bench install uninstall clean deps unit golden reference binom bytes fuzz \
+        fuzz-run sanitize sanitize-run memcheck man man-lint install-test
+
+VERSION := $(shell sed -n 's/^\#define LOOPWISE_VERSION "\(.*\)"/\1/p' include/loopwise/loopwise.h)
+MAN_PAGES := $(BUILD)/man/loopwise.1 $(BUILD)/man/loopwise.5
 
 # The package check runs first; a second make then sees pkg-config's answers.
 all: deps
-	@$(MAKE) --no-print-directory $(LW_BIN)
+	@$(MAKE) --no-print-directory $(LW_BIN) man $(BUILD)/dist/libloopwise.a
 
 # Installs the Debian packages the build and tests need (as root), or says
 # exactly what to run.
@@ -101,6 +117,8 @@ golden: $(LW_BIN)
 	@sh tests/golden/across.sh ./$(LW_BIN)
 	@sh tests/golden/response.sh ./$(LW_BIN)
 	@sh tests/golden/verdicts.sh ./$(LW_BIN)
+	@sh tests/golden/help.sh ./$(LW_BIN)
+	@sh tests/golden/parts.sh ./$(LW_BIN)
 
 # The reference's numpy runs its BLAS on one thread: its problems are small,
 # and the threads of OpenBLAS's pthread variant would spin on the cores the
@@ -136,7 +154,7 @@ bytes: $(BUILD)/tests/text_bytes
 	@$(PYTHON) tests/text/check.py ./$(BUILD)/tests/text_bytes
 
 check: all
-	@$(MAKE) --no-print-directory unit golden reference binom bytes
+	@$(MAKE) --no-print-directory unit golden reference binom bytes man-lint install-test
 
 # The main job on the reference core: its report, the compensation for 60
 # degrees, the series resistor over two decades, and the output tap's load;
@@ -166,9 +184,88 @@ demo: all
 	./loopwise sweep cases/regulator.loop --vary cout --from 0.47u --to 10u --points 7 --to out --inject out
 	@echo "plots written to plots/"
 
+# ---- the manual, the library for other programs, install ----------------
+
+# loopwise(1): its OPTIONS and COMMANDS sections written from the option
+# table by tools/manpage.c; loopwise(5) as written, with the version.
+man: $(MAN_PAGES)
+
+$(BUILD)/tools/manpage: tools/manpage.c $(BUILD)/libloopwise.a
+	@mkdir -p $(BUILD)/tools
+	@echo "  CC      $<"
+	$(Q)$(CC) $(ALL_CFLAGS) -o $@ $< $(BUILD)/libloopwise.a $(LDLIBS)
+
+$(BUILD)/man/loopwise.1: man/loopwise.1.in $(BUILD)/tools/manpage
+	@mkdir -p $(BUILD)/man
+	@echo "  MAN     $@"
+	$(Q)$(BUILD)/tools/manpage $< >$@.tmp && mv $@.tmp $@
+
+$(BUILD)/man/loopwise.5: man/loopwise.5.in include/loopwise/loopwise.h
+	@mkdir -p $(BUILD)/man
+	@echo "  MAN     $@"
+	$(Q)sed 's/@VERSION@/$(VERSION)/' $< >$@
+
+# Both linters must stay silent: groff's every warning, mandoc's lint at
+# the warning level.
+man-lint: $(MAN_PAGES)
+	@failed=0; for p in $(MAN_PAGES); do \
+	    out=$$(groff -ww -z -man -t $$p 2>&1; mandoc -T lint -W warning $$p 2>&1); \
+	    if [ -n "$$out" ]; then echo "  MAN LINT FAILED $$p"; echo "$$out"; failed=1; \
+	    else echo "  MAN LINT ok     $$p"; fi; \
+	done; exit $$failed
+
+# The installed library is one relocatable object with every symbol but the
+# LW_API entry points made local (the sources are compiled with hidden
+# visibility): a program embedding it may have its own model_new or
+# text_read. The tests and the program link build/libloopwise.a as it is.
+$(BUILD)/dist/libloopwise.a: $(LIB_OBJ)
+	@mkdir -p $(BUILD)/dist
+	@echo "  AR      $@"
+	$(Q)ld -r -o $(BUILD)/dist/loopwise.o $(LIB_OBJ) && \
+	    objcopy --localize-hidden $(BUILD)/dist/loopwise.o && \
+	    rm -f $@ && ar rcs $@ $(BUILD)/dist/loopwise.o
+
+# pkg-config: the libraries the build links (LDLIBS: GSL, LAPACK(E), OpenMP,
+# libm), for a program linking the static library. Written by install, for
+# the PREFIX and LIBDIR of that install.
+# libdir and includedir are written from ${prefix} when they lie under it, so
+# that --define-variable=prefix=... (or pkgconf's --define-prefix) finds a
+# staged or moved install.
+PC_LINES := 'prefix=$(PREFIX)' 'libdir=$(patsubst $(PREFIX)/%,$${prefix}/%,$(LIBDIR))' \
+            'includedir=$(patsubst $(PREFIX)/%,$${prefix}/%,$(INCLUDEDIR))' '' \
+            'Name: loopwise' \
+            'Description: loop gain, margins, sizing and spread of small-signal feedback loops' \
+            'Version: $(VERSION)' \
+            'Cflags: -I$${includedir}' \
+            'Libs: -L$${libdir} -lloopwise $(strip $(LDLIBS))'
+
+# Exactly these files; uninstall removes them and the include directory.
+INSTALLED := $(BINDIR)/loopwise $(MANDIR)/man1/loopwise.1 $(MANDIR)/man5/loopwise.5 \
+             $(LIBDIR)/libloopwise.a $(INCLUDEDIR)/loopwise/loopwise.h $(PKGCONFIGDIR)/loopwise.pc \
+             $(BASHCOMPDIR)/loopwise
+
 install: all
-	install -d $(DESTDIR)$(PREFIX)/bin
-	install -m 755 loopwise $(DESTDIR)$(PREFIX)/bin/loopwise
+	install -d $(DESTDIR)$(BINDIR) $(DESTDIR)$(MANDIR)/man1 $(DESTDIR)$(MANDIR)/man5 \
+	    $(DESTDIR)$(LIBDIR) $(DESTDIR)$(INCLUDEDIR)/loopwise $(DESTDIR)$(PKGCONFIGDIR) \
+	    $(DESTDIR)$(BASHCOMPDIR)
+	install -m 755 loopwise $(DESTDIR)$(BINDIR)/loopwise
+	install -m 644 $(BUILD)/man/loopwise.1 $(DESTDIR)$(MANDIR)/man1/loopwise.1
+	install -m 644 $(BUILD)/man/loopwise.5 $(DESTDIR)$(MANDIR)/man5/loopwise.5
+	install -m 644 $(BUILD)/dist/libloopwise.a $(DESTDIR)$(LIBDIR)/libloopwise.a
+	install -m 644 include/loopwise/loopwise.h $(DESTDIR)$(INCLUDEDIR)/loopwise/loopwise.h
+	printf '%s\n' $(PC_LINES) >$(DESTDIR)$(PKGCONFIGDIR)/loopwise.pc
+	chmod 644 $(DESTDIR)$(PKGCONFIGDIR)/loopwise.pc
+	install -m 644 completion/loopwise.bash $(DESTDIR)$(BASHCOMPDIR)/loopwise
+
+uninstall:
+	rm -f $(addprefix $(DESTDIR),$(INSTALLED))
+	-rmdir $(DESTDIR)$(INCLUDEDIR)/loopwise 2>/dev/null
+
+# A staged install into a scratch DESTDIR: the file list, the example built
+# against it through pkg-config and compared with the program's JSON, and
+# an uninstall that leaves nothing behind.
+install-test: all
+	@sh tests/install/run.sh "$(MAKE)" "$(CC)"
 
 clean:
 	rm -rf build loopwise
@@ -256,7 +353,9 @@ memcheck: all
 	        "check tests/ref/nets/10_break_node.loop" \
 	        "response cases/regulator.loop --to out --step --points 20" \
 	        "response cases/regulator.loop --to out --inject each" \
-	        "sweep cases/regulator.loop --vary cout --from 1u --to 4u --points 3 --to out"; do \
+	        "sweep cases/regulator.loop --vary cout --from 1u --to 4u --points 3 --to out" \
+	        "montecarlo $(MC) --samples 200 --seed 1 --samples-out build/memcheck-samples.csv" \
+	        "montecarlo $(MC) --merge build/memcheck-samples.csv" "sweep --help"; do \
 	    $(VG) ./loopwise $$run >/dev/null 2>&1; rc=$$?; \
 	    if [ $$rc -le 1 ] && [ ! -s build/memcheck.log ]; then echo "  MEMCHECK ok      $$run"; \
 	        pass=$$((pass + 1)); \

@@ -6,6 +6,7 @@
 
 #include "loopwise/cli.h"
 #include "loopwise/figures.h"
+#include "loopwise/mc_parts.h"
 #include "loopwise/report.h"
 #include "loopwise/report_across.h"
 #include "loopwise/units.h"
@@ -240,8 +241,14 @@ static void mc_text(FILE *f, const options *o, const desc *d, const mc_result *r
                     design_goal g, const char *again)
 {
     char gt[160], a[32], b[32];
-    fprintf(f, "loopwise montecarlo: %s  %d samples, seed %llu, %s\n  varied:", d->path,
-            r->nsamples, (unsigned long long)seed, report_goal_text(g, gt, sizeof gt));
+    if (o->part_m)
+        fprintf(f, "loopwise montecarlo: %s  part %d of %d: %d of %d samples (each index i with "
+                "i mod %d = %d), seed %llu, %s\n  varied:", d->path, o->part_k, o->part_m,
+                r->nsamples, r->total, o->part_m, o->part_k - 1, (unsigned long long)seed,
+                report_goal_text(g, gt, sizeof gt));
+    else
+        fprintf(f, "loopwise montecarlo: %s  %d samples, seed %llu, %s\n  varied:", d->path,
+                r->nsamples, (unsigned long long)seed, report_goal_text(g, gt, sizeof gt));
     for (int j = 0; j < r->nparams; j++) {
         const desc_param *p = &d->params[r->params[j]];
         const char *u = report_unit_of(p->unit);
@@ -289,7 +296,7 @@ static void mc_text(FILE *f, const options *o, const desc *d, const mc_result *r
     }
     if (r->worst >= 0) {
         const design_point *p = &r->pts[r->worst];
-        fprintf(f, "\n  worst sample #%d: phase margin ", r->worst + 1);
+        fprintf(f, "\n  worst sample #%d: phase margin ", r->index[r->worst] + 1);
         if (isnan(p->pm_deg))
             fprintf(f, "undefined");
         else
@@ -298,20 +305,61 @@ static void mc_text(FILE *f, const options *o, const desc *d, const mc_result *r
     }
 }
 
-int cmd_montecarlo(const options *o, const desc *d, const text_file *t,
-                   const check_result *nominal, int *code, lw_error *err)
+/* The worst sample's DC loop gain, which the parts' files do not carry: its
+ * drawn values analysed again as the run analysed them. */
+static int worst_dc(desc *d, const check_opts *co, mc_result *r, lw_error *err)
 {
-    if (o->samples <= 0)
+    if (r->worst < 0)
+        return LW_OK;
+    design_point pt;
+    int valid;
+    int rc = variation_eval_at(d, r->nparams, r->params,
+                               r->values + (size_t)r->worst * (size_t)r->nparams, co, &pt,
+                               &valid, err);
+    lw_error back;
+    if (desc_eval(d, &back) && !rc)   /* the operating point again */
+        rc = lw_error_set(err, LW_ENUMERIC, "%s", back.msg);
+    if (!rc && valid)
+        r->pts[r->worst].dc = pt.dc;
+    return rc;
+}
+
+int cmd_montecarlo(const options *o, desc *d, const text_file *t, const check_result *nominal,
+                   int *code, lw_error *err)
+{
+    if (o->samples <= 0 && !o->nmerge)
         return lw_error_set(err, LW_EINPUT, "montecarlo needs --samples N with N of 1 or more");
     check_opts co = { .fmin_hz = o->fmin, .fmax_hz = o->fmax };
     design_goal g = option_goal(o);
     mc_result r;
     uint64_t seed = o->seed_given ? o->seed : 1;
     FILE *progress = isatty(2) && !o->json ? stderr : NULL;
-    int rc = montecarlo_run(t, d->path, o->sets, o->nsets, o->samples, seed, g, &co, progress,
-                            &r, err);
+    /* the run these samples belong to, for --samples-out and --merge */
+    mc_run_id id = { mc_parts_fingerprint(t), o->samples, seed, o->seed_given,
+                     o->part_m ? o->part_k : 1, o->part_m ? o->part_m : 1, o->sets, o->nsets,
+                     o->fmin, o->fmax };
+    int rc;
+    if (o->nmerge) {
+        const char *where;
+        rc = mc_parts_merge(o->merge, o->nmerge, d, &id, g, &r, &where, err);
+        if (rc && where) {
+            /* about a part's file, not the description: said here */
+            lw_error_print(err, where, stderr);
+            err->msg[0] = '\0';
+        }
+        seed = id.seed;
+        if (!rc && (rc = worst_dc(d, &co, &r, err)))
+            mc_result_free(&r);
+    } else {
+        rc = montecarlo_run_part(t, d->path, o->sets, o->nsets, o->samples, id.part_k, id.part_m,
+                                 seed, g, &co, progress, &r, err);
+    }
     if (rc)
         return rc;
+    if (o->samples_out && (rc = mc_parts_write(o->samples_out, o->file, d, &r, &id, g, err))) {
+        mc_result_free(&r);
+        return rc;
+    }
     char *again = NULL;
     if (r.worst >= 0 && !(again = cli_reproduce(o, d, NULL, 0, r.params, r.nparams,
                                                  r.values + (size_t)r.worst * (size_t)r.nparams))) {
@@ -319,9 +367,14 @@ int cmd_montecarlo(const options *o, const desc *d, const text_file *t,
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
     int yield_met = !o->yield_given || r.lower95 >= o->yield;
-    if (o->json) {
-        printf("{\"samples\": %d, \"seed\": %llu, \"target_pm_deg\": ", r.nsamples,
-               (unsigned long long)seed);
+    if (o->samples_out && !strcmp(o->samples_out, "-")) {
+        /* the samples on standard output instead of the report, as --csv - */
+    } else if (o->json) {
+        printf("{\"samples\": %d, ", r.nsamples);
+        if (o->part_m)
+            printf("\"part\": {\"k\": %d, \"m\": %d, \"samples_total\": %d}, ", o->part_k,
+                   o->part_m, r.total);
+        printf("\"seed\": %llu, \"target_pm_deg\": ", (unsigned long long)seed);
         json_number(stdout, g.pm_deg);
         printf(", \"passes\": %d, \"invalid\": %d, \"yield\": ", r.passes, r.invalid);
         json_number(stdout, r.yield);
@@ -338,7 +391,7 @@ int cmd_montecarlo(const options *o, const desc *d, const text_file *t,
         json_stats(stdout, "phase_margin_deg", &r.pm);
         json_stats(stdout, "gain_margin_db", &r.gm);
         json_stats(stdout, "crossover_hz", &r.fc);
-        fprintf(stdout, ",\n \"worst\": {\"index\": %d", r.worst + 1);
+        fprintf(stdout, ",\n \"worst\": {\"index\": %d", r.worst >= 0 ? r.index[r.worst] + 1 : 0);
         if (r.worst >= 0) {
             fputs(", ", stdout);
             report_point_fields(stdout, &r.pts[r.worst]);
@@ -348,6 +401,10 @@ int cmd_montecarlo(const options *o, const desc *d, const text_file *t,
         fputs("}}\n", stdout);
     } else {
         mc_text(stdout, o, d, &r, seed, g, again);
+        if (o->samples_out && strcmp(o->samples_out, "-"))
+            printf("\n  %d sample%s written to %s%s\n", r.nsamples, r.nsamples == 1 ? "" : "s",
+                   o->samples_out, o->part_m ? "; when every part has run, merge their files "
+                   "with --merge" : "");
     }
     /* SPEC section 5: only --yield makes montecarlo exit 1; unstable
      * samples are failures inside the yield */

@@ -212,6 +212,7 @@ void mc_result_free(mc_result *r)
     free(r->values);
     free(r->pts);
     free(r->valid);
+    free(r->index);
     memset(r, 0, sizeof *r);
 }
 
@@ -315,7 +316,7 @@ static void stats_of(double *x, int n, mc_stats *s)
     s->p99 = gsl_stats_quantile_from_sorted_data(x, 1, (size_t)n, 0.99);
 }
 
-static int summarise(mc_result *r, design_goal g, lw_error *err)
+int montecarlo_summarise(mc_result *r, design_goal g, lw_error *err)
 {
     int n = r->nsamples;
     double *x = malloc(sizeof(double) * (size_t)(n + 1));
@@ -358,8 +359,9 @@ static int summarise(mc_result *r, design_goal g, lw_error *err)
     return LW_OK;
 }
 
-static int mc_setup(const desc *d, int nsamples, mc_result *r, lw_error *err)
+int montecarlo_setup(const desc *d, int nsamples, mc_result *r, lw_error *err)
 {
+    memset(r, 0, sizeof *r);
     int np = 0, pinned = 0;
     for (int k = 0; k < d->nparams; k++) {
         np += drawn(&d->params[k]);
@@ -373,14 +375,17 @@ static int mc_setup(const desc *d, int nsamples, mc_result *r, lw_error *err)
         return lw_error_set(err, LW_EINPUT, "no param carries a distribution; add 'normal "
                             "SIGMA' or 'uniform LO..HI' to a param line, e.g. 'param ib = 10u "
                             "normal 2%%'");
-    r->nsamples = nsamples;
+    r->nsamples = r->total = nsamples;
     r->nparams = np;
     r->params = malloc(sizeof(int) * (size_t)np);
     r->values = malloc(sizeof(double) * (size_t)nsamples * (size_t)np);
     r->pts = calloc((size_t)nsamples, sizeof *r->pts);
     r->valid = calloc((size_t)nsamples, 1);
-    if (!r->params || !r->values || !r->pts || !r->valid)
+    r->index = malloc(sizeof(int) * (size_t)nsamples);
+    if (!r->params || !r->values || !r->pts || !r->valid || !r->index)
         return lw_error_set(err, LW_ENOMEM, "out of memory");
+    for (int s = 0; s < nsamples; s++)
+        r->index[s] = s;
     for (int k = 0, j = 0; k < d->nparams; k++)
         if (drawn(&d->params[k]))
             r->params[j++] = k;
@@ -391,15 +396,32 @@ int montecarlo_run(const text_file *t, const char *path, const char *const *sets
                    int nsamples, uint64_t seed, design_goal g, const check_opts *o,
                    FILE *progress, mc_result *r, lw_error *err)
 {
+    return montecarlo_run_part(t, path, sets, nsets, nsamples, 1, 1, seed, g, o, progress, r,
+                               err);
+}
+
+int montecarlo_run_part(const text_file *t, const char *path, const char *const *sets,
+                        int nsets, int nsamples, int part_k, int part_m, uint64_t seed,
+                        design_goal g, const check_opts *o, FILE *progress, mc_result *r,
+                        lw_error *err)
+{
     memset(r, 0, sizeof *r);
     if (nsamples < 1 || nsamples > MC_MAX_SAMPLES)
         return lw_error_set(err, LW_EINPUT, "--samples %d: expected 1 to %d samples", nsamples,
                             MC_MAX_SAMPLES);
+    if (part_m < 1 || part_k < 1 || part_k > part_m || part_m > nsamples)
+        return lw_error_set(err, LW_EINPUT, "--part %d/%d: expected 1 <= K <= M <= %d", part_k,
+                            part_m, nsamples);
     desc *d0;
     mc_dist *dist = NULL;
+    /* part K of M: the indices K-1, K-1+M, K-1+2M, ... below N (SPEC 8) */
+    int count = (nsamples - part_k) / part_m + 1;
     int rc = load_copy(t, path, sets, nsets, &d0, err);
     if (!rc)
-        rc = mc_setup(d0, nsamples, r, err);
+        rc = montecarlo_setup(d0, count, r, err);
+    for (int s = 0; !rc && s < count; s++)
+        r->index[s] = part_k - 1 + s * part_m;
+    r->total = nsamples;
     if (!rc && !(dist = malloc(sizeof *dist * (size_t)r->nparams)))
         rc = lw_error_set(err, LW_ENOMEM, "out of memory");
     for (int j = 0; !rc && j < r->nparams; j++) {
@@ -424,17 +446,17 @@ int montecarlo_run(const text_file *t, const char *path, const char *const *sets
         gsl_rng *rng = gsl_rng_alloc(&sm64_type);
         int mine = rng && load_copy(t, path, sets, nsets, &d, &e) == LW_OK;
         #pragma omp for schedule(dynamic, 64)
-        for (int i = 0; i < nsamples; i++) {
+        for (int s = 0; s < count; s++) {
             int bad;
             #pragma omp atomic read
             bad = failed;
             if (bad || !mine)
                 continue;
-            double *v = r->values + (size_t)i * (size_t)r->nparams;
-            int valid;
+            double *v = r->values + (size_t)s * (size_t)r->nparams;
+            int valid, i = r->index[s];
             gsl_rng_set(rng, (unsigned long)mix(seed ^ mix((uint64_t)i)));
             draw(dist, r->nparams, rng, v);
-            if (variation_eval_at(d, r->nparams, r->params, v, o, &r->pts[i], &valid, &e) != LW_OK) {
+            if (variation_eval_at(d, r->nparams, r->params, v, o, &r->pts[s], &valid, &e) != LW_OK) {
                 #pragma omp critical
                 {
                     if (!failed)
@@ -442,14 +464,14 @@ int montecarlo_run(const text_file *t, const char *path, const char *const *sets
                     failed = 1;
                 }
             }
-            r->valid[i] = (unsigned char)valid;
+            r->valid[s] = (unsigned char)valid;
             int k;
             #pragma omp atomic capture
             k = ++done;
             if (progress && k % 2000 == 0) {
                 #pragma omp critical
                 {
-                    fprintf(progress, "\rmontecarlo: %d of %d samples", k, nsamples);
+                    fprintf(progress, "\rmontecarlo: %d of %d samples", k, count);
                     fflush(progress);
                 }
             }
@@ -474,7 +496,7 @@ int montecarlo_run(const text_file *t, const char *path, const char *const *sets
         mc_result_free(r);
         return LW_ENUMERIC;
     }
-    if ((rc = summarise(r, g, err)))
+    if ((rc = montecarlo_summarise(r, g, err)))
         mc_result_free(r);
     return rc;
 }

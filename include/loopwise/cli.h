@@ -7,7 +7,8 @@
 #include "loopwise/design.h"
 #include "loopwise/response.h"
 
-enum { MAX_SETS = 256, MAX_GAIN_POINTS = 100000, MAX_AXES = 2, MAX_LEVELS = 100 };
+enum { MAX_SETS = 256, MAX_GAIN_POINTS = 100000, MAX_AXES = 2, MAX_LEVELS = 100,
+       MAX_PARTS = 10000 };
 
 typedef struct options {
     const char *command, *file, *csv;
@@ -37,7 +38,27 @@ typedef struct options {
     int pm_given;
     double yield;                     /* montecarlo --yield, as a fraction */
     int yield_given;
+    /* montecarlo in parts (SPEC section 8): --part K/M (0/0 when not given),
+     * --samples-out PATH, --merge PART.csv ... */
+    int part_k, part_m;
+    const char *samples_out;
+    const char *merge[MAX_PARTS];
+    int nmerge;
 } options;
+
+/* The command line (cli_parse.c). cli_early answers what needs no FILE:
+ * --help (the command's help when argv[1] names one), 'help [COMMAND]',
+ * --version and --complete LINE (bash completion); it returns 1 with the
+ * exit code in *code when it did, 0 otherwise. cli_arguments_check refuses
+ * an argument that is not text by the file's byte rules (they reach
+ * messages, reproduce lines and plot scripts). cli_parse fills o (which the
+ * caller initialises with the defaults, see cli_options_init) and checks
+ * which options go with the command, as the option table says. Each
+ * returns 0 or the exit code 2 after printing the usage error. */
+int cli_early(int argc, char **argv, int *code);
+int cli_arguments_check(int argc, char **argv);
+void cli_options_init(options *o);
+int cli_parse(int argc, char **argv, options *o);
 
 /* Evaluates a numeric option with the file's number syntax; prints the
  * error and returns 2 when it is not a finite number. */
@@ -54,9 +75,12 @@ int cmd_polar(const options *o, const desc *d, const model *m, const check_resul
               lw_error *err);
 int cmd_corners(const options *o, desc *d, int *code, lw_error *err);
 /* nominal: the analysis with the --set values and no spread (the operating
- * point the histogram marks). */
-int cmd_montecarlo(const options *o, const desc *d, const text_file *t,
-                   const check_result *nominal, int *code, lw_error *err);
+ * point the histogram marks). With --part, only that part's samples; with
+ * --merge, the parts' samples (mc_parts.h). An error about a part's file is
+ * printed here (it names that file): the status comes back with an empty
+ * err->msg. */
+int cmd_montecarlo(const options *o, desc *d, const text_file *t, const check_result *nominal,
+                   int *code, lw_error *err);
 int cmd_size(const options *o, desc *d, const text_file *t, int *code, lw_error *err);
 int cmd_sweep(const options *o, desc *d, const text_file *t, int *code, lw_error *err);
 

@@ -4,14 +4,11 @@
 
 #include <stdio.h>
 
-/* One project-wide status. 0 is success; every function that can fail returns
- * one of these and fills an lw_error with the details. */
-typedef enum {
-    LW_OK = 0,
-    LW_EINPUT = 2,   /* bad usage or bad input: exit code 2 */
-    LW_ENUMERIC = 3, /* numerical failure the program could not recover from */
-    LW_ENOMEM = 4    /* out of memory: reported as exit code 3 */
-} lw_status;
+/* One project-wide status, lw_status of the public header: LW_OK (0),
+ * LW_EINPUT (bad usage or input: exit code 2), LW_ENUMERIC (a numerical
+ * failure the program could not recover from: 3), LW_ENOMEM (reported as
+ * 3). Every function that can fail returns one and fills an lw_error. */
+#include "loopwise/loopwise.h"
 
 enum { LW_MSG_MAX = 768, LW_SRC_MAX = 240 };
 

@@ -54,7 +54,9 @@ typedef struct mc_stats {
 } mc_stats;
 
 typedef struct mc_result {
-    int nsamples, nparams;
+    int nsamples, nparams;  /* nsamples: the samples evaluated (all, or one part's) */
+    int total;              /* samples in the whole run (--samples N) */
+    int *index;             /* each evaluated sample's index i, from 0 (rising) */
     int *params;            /* param indices with a distribution */
     double *values;         /* nsamples x nparams */
     design_point *pts;
@@ -69,6 +71,20 @@ typedef struct mc_result {
 int montecarlo_run(const text_file *t, const char *path, const char *const *sets, int nsets,
                    int nsamples, uint64_t seed, design_goal g, const check_opts *o,
                    FILE *progress, mc_result *r, lw_error *err);
+/* Part K of M (SPEC section 8): only the samples whose index i has
+ * i mod M = K - 1, each drawn exactly as in the whole run; montecarlo_run
+ * is part 1 of 1. */
+int montecarlo_run_part(const text_file *t, const char *path, const char *const *sets,
+                        int nsets, int nsamples, int part_k, int part_m, uint64_t seed,
+                        design_goal g, const check_opts *o, FILE *progress, mc_result *r,
+                        lw_error *err);
+/* The params d draws (a distribution, not pinned by --set) in r->params,
+ * and the arrays for nsamples samples (index[s] = s, total = nsamples);
+ * for results put together elsewhere (mc_parts.c). */
+int montecarlo_setup(const desc *d, int nsamples, mc_result *r, lw_error *err);
+/* The yield, its interval, the statistics and the worst sample of the
+ * samples in r (values, pts and valid filled). */
+int montecarlo_summarise(mc_result *r, design_goal g, lw_error *err);
 void mc_result_free(mc_result *r);
 
 /* Clopper-Pearson interval for x successes in n trials at confidence 1 - alpha

@@ -1,6 +1,7 @@
 /* fuzz_check: a libFuzzer target over the whole program as a user runs it:
- * the argument checks and option parsing of src/main.c (included below, its
- * main renamed), then every command's own option checks and analysis, with
+ * the argument checks and option parsing (cli_parse.c, from the option
+ * table), then src/main.c (included below, its main renamed) with every
+ * command's own option checks and analysis, with
  * the input as the .loop file:
  *   arguments -> text (every byte checked) -> desc -> (--set) -> desc_eval
  *   -> model -> check -> the command (check, the gain table, size, sweep,
@@ -31,7 +32,7 @@
 #include <string.h>
 #include <unistd.h>
 
-/* The program itself: its static option parser becomes callable here. */
+/* The program itself, its main callable here. */
 int loopwise_main(int argc, char **argv);
 #define main loopwise_main
 #include "../../src/main.c"
@@ -124,7 +125,8 @@ static int arguments(char *buf, char **argv)
 /* Whether the parsed options ask for something the harness does not run. */
 static int too_much(const options *o, const char *buf)
 {
-    if (!o->file || strcmp(o->file, path) || o->plot || o->keep_script)
+    if (!o->file || strcmp(o->file, path) || o->plot || o->keep_script || o->samples_out ||
+        o->nmerge)
         return 1;
     if (o->csv && strcmp(o->csv, "-") && strcmp(o->csv, "/dev/null"))
         return 1;
@@ -190,8 +192,9 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     FILE *so = stdout, *se = stderr;
     stdout = devnull;
     stderr = devnull;
-    options o = { .pm = 60.0, .width = 960, .height = 720 };
-    if (check_arguments(argc, argv) == 0 && parse_options(argc, argv, &o) == 0 &&
+    static options o; /* the --merge list makes it large */
+    cli_options_init(&o);
+    if (cli_arguments_check(argc, argv) == 0 && cli_parse(argc, argv, &o) == 0 &&
         !too_much(&o, buf))
         (void)loopwise_main(argc, argv);
     fflush(devnull);
