@@ -323,9 +323,7 @@ static int classify_zeros(lgain *lg, lg_tf *tf, int method, lw_error *err)
     return rc;
 }
 
-/* Sign of K0 and T(0), from T on the positive real axis well below every
- * singularity; the slope there also cross-checks the origin order. */
-static void low_frequency(lgain *lg, lg_tf *tf)
+double lg_tf_lowest_root(const lg_tf *tf)
 {
     double lo = INFINITY;
     for (int k = 0; k < tf->npoles; k++)
@@ -334,6 +332,14 @@ static void low_frequency(lgain *lg, lg_tf *tf)
     for (int k = 0; k < tf->nzeros; k++)
         if (tf->zeros[k] != 0)
             lo = fmin(lo, cabs(tf->zeros[k]));
+    return lo;
+}
+
+/* Sign of K0 and T(0), from T on the positive real axis well below every
+ * singularity; the slope there also cross-checks the origin order. */
+static void low_frequency(lgain *lg, lg_tf *tf)
+{
+    double lo = lg_tf_lowest_root(tf);
     double sigma = isfinite(lo) ? 1e-4 * lo : 1.0;
     /* with a pole or zero at the origin T is large or small near it, and
      * the LU of the whole network keeps its sign where the reduced form,

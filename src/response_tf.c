@@ -4,10 +4,9 @@
  * away from every pole is a zero; one near a pole is a zero only when |H|
  * at it is far below |H| on a small circle around it, and otherwise a mode
  * H cannot see. */
+#include "loopwise/bracket.h"
 #include "loopwise/response.h"
 
-#include <gsl/gsl_errno.h>
-#include <gsl/gsl_roots.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -153,13 +152,7 @@ static int structure(response *rs, lg_tf *tf, lw_error *err)
  * below every root, and the slope there as a cross-check of the order. */
 static void low_end(response *rs, lg_tf *tf)
 {
-    double lo = INFINITY;
-    for (int k = 0; k < tf->npoles; k++)
-        if (!tf->hidden[k] && tf->poles[k] != 0)
-            lo = fmin(lo, cabs(tf->poles[k]));
-    for (int k = 0; k < tf->nzeros; k++)
-        if (tf->zeros[k] != 0)
-            lo = fmin(lo, cabs(tf->zeros[k]));
+    double lo = lg_tf_lowest_root(tf);
     double sigma = isfinite(lo) ? 1e-4 * lo : 1.0;
     double h1 = creal(response_eval(rs, sigma)), h2 = creal(response_eval(rs, sigma / 10));
     tf->sign = h1 > 0 ? 1 : (h1 < 0 ? -1 : 0);
@@ -221,33 +214,6 @@ static double level_fn(double lnw, void *p)
     return log(cabs(response_eval(c->rs, I * exp(lnw)))) - c->level;
 }
 
-/* Brent's method on [a, b] (ln w), whose ends have opposite signs. */
-static double refine(double (*fn)(double, void *), void *ctx, double a, double b)
-{
-    double fa = fn(a, ctx), fb = fn(b, ctx);
-    if (fa == 0)
-        return a;
-    if (fb == 0 || !(fa * fb < 0))
-        return b;
-    gsl_function F = { fn, ctx };
-    gsl_root_fsolver *s = gsl_root_fsolver_alloc(gsl_root_fsolver_brent);
-    double x = 0.5 * (a + b);
-    if (!s || gsl_root_fsolver_set(s, &F, a, b) != GSL_SUCCESS) {
-        gsl_root_fsolver_free(s);
-        return x;
-    }
-    for (int it = 0; it < 200; it++) {
-        if (gsl_root_fsolver_iterate(s) != GSL_SUCCESS)
-            break;
-        x = gsl_root_fsolver_root(s);
-        /* ln w to 1e-12 absolute: w to 1e-12 relative */
-        if (gsl_root_test_interval(gsl_root_fsolver_x_lower(s), gsl_root_fsolver_x_upper(s),
-                                   1e-12, 0) == GSL_SUCCESS)
-            break;
-    }
-    gsl_root_fsolver_free(s);
-    return x;
-}
 
 static int cmp_double(const void *a, const void *b)
 {
@@ -334,7 +300,7 @@ static int peak_and_bandwidth(response *rs, response_result *res, double wlo, do
     for (int k = 0; k + 1 < n; k++) {
         if (!(sl[k] > 0 && sl[k + 1] <= 0))
             continue;
-        double wp = exp(refine(slope_fn, &ctx, log(w[k]), log(w[k + 1])));
+        double wp = exp(bracket_root(slope_fn, &ctx, log(w[k]), log(w[k + 1]), 1e-12, 0));
         double v = cabs(response_eval(rs, I * wp));
         if (!(v >= fmax(mag[k], mag[k + 1]) * (1 - 1e-9)))
             res->suspect = 1; /* the structure's slope disagrees with the exact H */
@@ -367,7 +333,8 @@ static int peak_and_bandwidth(response *rs, response_result *res, double wlo, do
                     a = a > 0 ? a - 1 : a;
                     b = b + 1 < n ? b + 1 : b;
                 }
-                res->bandwidth_hz = exp(refine(level_fn, &ctx, log(w[a]), log(w[b]))) / TWO_PI;
+                double lnw = bracket_root(level_fn, &ctx, log(w[a]), log(w[b]), 1e-12, 0);
+                res->bandwidth_hz = exp(lnw) / TWO_PI;
                 break;
             }
     }

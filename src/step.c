@@ -3,12 +3,11 @@
 #include "loopwise/step.h"
 
 #include <gsl/gsl_blas.h>
-#include <gsl/gsl_errno.h>
-#include <gsl/gsl_roots.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
+#include "loopwise/bracket.h"
 #include "loopwise/modal.h"
 
 /* A mode matters for the sampling while its term exceeds this fraction of
@@ -130,33 +129,6 @@ static void envelope(step_form *sf, const double *w, double scale, double *lamp,
     c->lfloor = scale > 0 ? log(1e-18 * scale) : -INFINITY;
 }
 
-/* Brent's method on [a, b] (seconds) where fn changes sign: to 1e-12
- * relative in t. */
-static double refine(double (*fn)(double, void *), void *ctx, double a, double b)
-{
-    double fa = fn(a, ctx), fb = fn(b, ctx);
-    if (fa == 0)
-        return a;
-    if (fb == 0 || !(fa * fb < 0))
-        return fabs(fa) < fabs(fb) ? a : b;
-    gsl_function F = { fn, ctx };
-    gsl_root_fsolver *s = gsl_root_fsolver_alloc(gsl_root_fsolver_brent);
-    double x = 0.5 * (a + b);
-    if (!s || gsl_root_fsolver_set(s, &F, a, b) != GSL_SUCCESS) {
-        gsl_root_fsolver_free(s);
-        return x;
-    }
-    for (int it = 0; it < 200; it++) {
-        if (gsl_root_fsolver_iterate(s) != GSL_SUCCESS)
-            break;
-        x = gsl_root_fsolver_root(s);
-        if (gsl_root_test_interval(gsl_root_fsolver_x_lower(s), gsl_root_fsolver_x_upper(s), 0,
-                                   1e-12) == GSL_SUCCESS)
-            break;
-    }
-    gsl_root_fsolver_free(s);
-    return x;
-}
 
 /* ---- the time grid ------------------------------------------------------- */
 
@@ -259,7 +231,7 @@ static double first_reach(yctx *c, const double *pt, const double *py, int m, do
             if (j == 0)
                 return 0;
             c->level = level;
-            double t = refine(y_at, c, pt[j - 1], pt[j]);
+            double t = bracket_root(y_at, c, pt[j - 1], pt[j], 0, 1e-12);
             c->level = 0;
             return t;
         }
@@ -277,7 +249,7 @@ static double last_exceed(yctx *c, const double *pt, const double *py, int m, do
     if (j == m - 1)
         return pt[m - 1]; /* beyond the horizon: not expected */
     c->level = c->final + (py[j] > c->final ? band : -band);
-    double t = refine(y_at, c, pt[j], pt[j + 1]);
+    double t = bracket_root(y_at, c, pt[j], pt[j + 1], 0, 1e-12);
     c->level = 0;
     return t;
 }
@@ -286,7 +258,7 @@ static double last_exceed(yctx *c, const double *pt, const double *py, int m, do
  * merged samples. */
 static void extremum(yctx *c, double a, double b, double *pt, double *py, int *m)
 {
-    double te = refine(dy_at, c, a, b);
+    double te = bracket_root(dy_at, c, a, b, 0, 1e-12);
     if (te > a && te < b) {
         pt[*m] = te;
         py[(*m)++] = y_at(te, c);

@@ -64,6 +64,9 @@ typedef struct lg_tf {
  * the network are the ones lg was made for. */
 int lg_tf_analyse(const double *C, lgain *lg, int want_owner, lg_tf *tf, lw_error *err);
 void lg_tf_free(lg_tf *tf);
+/* The smallest magnitude (rad/s) among the poles T sees and its zeros, the
+ * origin left out; infinity when there is none. */
+double lg_tf_lowest_root(const lg_tf *tf);
 /* Finds the zeros of T again by the bordered pencil (QZ) when they came
  * from the zero dynamics: the second path, taken when the factored form
  * built from them disagrees with the exact T. Poles are kept. */
