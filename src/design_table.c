@@ -42,17 +42,6 @@ static int pm_with_ground_cap(const desc *d, model *m, int k, double f, const ch
     return rc;
 }
 
-/* Adds y times the two-terminal stamp between a and b (b may be gnd). */
-static void stamp(double *A, int n, int a, int b, double y)
-{
-    A[a * n + a] += y;
-    if (b == DESC_GND)
-        return;
-    A[b * n + b] += y;
-    A[a * n + b] -= y;
-    A[b * n + a] -= y;
-}
-
 /* The margin with element e's value times f: a cap's stamp in C grows by
  * (f - 1) C, a res's in G by (1/f - 1)/R. The matrices are saved and put
  * back whole, so rounding leaves no trace. */
@@ -64,7 +53,7 @@ static int pm_with_element(const desc *d, model *m, int e, double f, const check
     double *A = is_cap ? m->C : m->Gp;
     size_t nn = (size_t)n * (size_t)n;
     memcpy(save, A, sizeof(double) * nn);
-    stamp(A, n, x->a, x->b, is_cap ? (f - 1) * x->value : (1.0 / f - 1) / x->value);
+    model_stamp2(A, n, x->a, x->b, is_cap ? (f - 1) * x->value : (1.0 / f - 1) / x->value);
     int rc = margin_of(d, m, o, pm, err);
     memcpy(A, save, sizeof(double) * nn);
     return rc;

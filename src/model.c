@@ -16,8 +16,7 @@ void model_free(model *m)
     free(m);
 }
 
-/* Two-terminal stamp of admittance y between a and b (b may be gnd). */
-static void stamp2(double *A, int n, int a, int b, double y)
+void model_stamp2(double *A, int n, int a, int b, double y)
 {
     A[a * n + a] += y;
     if (b == DESC_GND)
@@ -60,9 +59,9 @@ int model_new(const desc *d, model **out, lw_error *err)
         if (e->kind == ELEM_GM && e->a_in >= 0)
             continue; /* its control is AC ground for the loop: no stamp in G */
         if (e->kind == ELEM_RES)
-            stamp2(m->Gp, n, e->a, e->b, 1.0 / e->value);
+            model_stamp2(m->Gp, n, e->a, e->b, 1.0 / e->value);
         else if (e->kind == ELEM_CAP)
-            stamp2(m->C, n, e->a, e->b, e->value);
+            model_stamp2(m->C, n, e->a, e->b, e->value);
         else {
             if (k == d->brk)
                 m->brk = m->ngm;

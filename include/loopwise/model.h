@@ -52,6 +52,10 @@ int model_break_mark(const model *m, unsigned char *off, int *in);
  * to b1[k], each gm g from x into k adds g to b0[k]. b0, b1 have n values. */
 void model_input_fill(const model *m, int x, double *b0, double *b1);
 
+/* Adds the two-terminal stamp of admittance y between a and b (b may be
+ * DESC_GND) to the n x n row-major A. */
+void model_stamp2(double *A, int n, int a, int b, double y);
+
 /* Index into gm[] of element e, or -1. */
 int model_gm_of_elem(const model *m, int e);
 
