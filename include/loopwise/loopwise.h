@@ -42,7 +42,7 @@
 extern "C" {
 #endif
 
-#define LOOPWISE_VERSION "0.2.0"
+#define LOOPWISE_VERSION "0.3.0"
 
 /* The entry points: the only symbols the installed library exports (the
  * library is built with hidden visibility; see the Makefile). */
@@ -65,7 +65,7 @@ typedef struct lw_message {
     char text[1024];
 } lw_message;
 
-/* "0.2.0", the library's version (LOOPWISE_VERSION when it was built). */
+/* "0.3.0", the library's version (LOOPWISE_VERSION when it was built). */
 LW_API const char *lw_version(void);
 
 /* ---- the description ------------------------------------------------- */
