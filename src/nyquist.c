@@ -6,6 +6,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "loopwise/fform.h"
 #include "loopwise/margins.h"
 
 #define TWO_PI 6.283185307179586
@@ -22,6 +23,11 @@
 #define AXIS_TOL 1e-9
 /* Points per decade of the grid the walk starts from (margin_grid). */
 #define PER_DECADE 20
+/* |T| below this at a grid point, by the factored form, marks the point as
+ * "small": along a run of such points 1 + T stays in the disc of radius 1
+ * around 1 (the margins' scan finds no crossover there on the same grid),
+ * so it cannot wind around 0 and only the run's two ends are evaluated. */
+#define SMALL_LOG_MAG (-0.6931471805599453) /* ln 0.5 */
 
 static double complex one_plus_t(lgain *lg, double u)
 {
@@ -103,8 +109,8 @@ static int classify_poles(const lg_tf *tf, nyquist *nq, double *axis_u, int *nax
  * the grid u[n]; an axis pole (axis_u, rising) is passed on a small half
  * circle to its right, where T ~ R/(s - jw0) turns by -180 degrees per
  * order while |T| is huge. Returns as walk does. */
-static int positive_half(lgain *lg, const double *u, int n, const double *axis_u, int naxis,
-                         double *delta)
+static int positive_half(lgain *lg, const double *u, const unsigned char *small, int n,
+                         const double *axis_u, int naxis, double *delta)
 {
     double complex prev = one_plus_t(lg, u[0]);
     int decided = isfinite(creal(prev)) && isfinite(cimag(prev)) && prev != 0, j = 0;
@@ -123,6 +129,24 @@ static int positive_half(lgain *lg, const double *u, int n, const double *axis_u
             cur = up + gap;
             prev = one_plus_t(lg, cur);
         }
+        if (small && small[k - 1] && cur == u[k - 1] && decided > 0) {
+            /* a run of small points with no axis pole inside: its two ends */
+            int e = k;
+            while (e + 1 < n && small[e] && small[e + 1] && !(j < naxis && axis_u[j] <= u[e + 1]))
+                e++;
+            if (e > k) {
+                double complex b = one_plus_t(lg, u[e]);
+                /* 1 + T with |T| < 1 at both ends: the right half-plane, one branch */
+                if (isfinite(creal(b)) && isfinite(cimag(b)) && cabs(prev - 1.0) < 1.0 &&
+                    cabs(b - 1.0) < 1.0) {
+                    *delta += carg(b) - carg(prev);
+                    prev = b;
+                    cur = u[e];
+                    k = e;
+                    continue;
+                }
+            }
+        }
         if (u[k] > cur && decided > 0) {
             int w = walk(lg, cur, u[k], &prev, delta);
             decided = w < 0 ? w : decided && w;
@@ -132,8 +156,28 @@ static int positive_half(lgain *lg, const double *u, int n, const double *axis_u
     return decided;
 }
 
-int nyquist_count(lgain *lg, const lg_tf *tf, double flo, double fhi, nyquist *nq,
-                  lw_error *err)
+/* small[k] = 1 where the factored form puts |T| at u[k] under one half;
+ * NULL (walk every step) when there is no form to trust. */
+static unsigned char *small_points(lgain *lg, const lg_tf *tf, const double *u, int n,
+                                   double flo, double fhi)
+{
+    fform ff;
+    if (!fform_build(lg, tf, flo, fhi, &ff)) {
+        fform_free(&ff);
+        return NULL;
+    }
+    unsigned char *small = malloc((size_t)n + 1);
+    for (int k = 0; small && k < n; k++) {
+        double lm, ph;
+        fform_eval(&ff, TWO_PI * pow(10.0, u[k]), &lm, &ph);
+        small[k] = lm < SMALL_LOG_MAG;
+    }
+    fform_free(&ff);
+    return small;
+}
+
+int nyquist_count(lgain *lg, const lg_tf *tf, double flo, double fhi, int trust_form,
+                  nyquist *nq, lw_error *err)
 {
     memset(nq, 0, sizeof *nq);
     double *axis_u = malloc(sizeof(double) * (size_t)(tf->npoles + 1));
@@ -156,16 +200,18 @@ int nyquist_count(lgain *lg, const lg_tf *tf, double flo, double fhi, nyquist *n
         free(axis_u);
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
+    unsigned char *small = trust_form ? small_points(lg, tf, u, n, flo, fhi) : NULL;
     double delta = 0;
-    int decided = positive_half(lg, u, n, axis_u, naxis, &delta);
+    int decided = positive_half(lg, u, small, n, axis_u, naxis, &delta);
     if (decided < 0 && !lgain_uses_full(lg)) {
         /* the fast evaluation is noise somewhere on the way: again on the
          * LU of the whole network */
         lgain_use_full(lg, 1);
         delta = 0;
-        decided = positive_half(lg, u, n, axis_u, naxis, &delta);
+        decided = positive_half(lg, u, small, n, axis_u, naxis, &delta);
     }
     decided = decided > 0;
+    free(small);
     free(u);
     free(axis_u);
     /* the negative frequencies mirror the positive ones (T(-jw) is the

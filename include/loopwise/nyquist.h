@@ -30,8 +30,12 @@ typedef struct nyquist {
 } nyquist;
 
 /* Counts along the band flo..fhi (Hz) of the margins, extended a decade on
- * either side. */
-int nyquist_count(lgain *lg, const lg_tf *tf, double flo, double fhi, nyquist *nq,
-                  lw_error *err);
+ * either side. With trust_form (the margins found the factored form in
+ * agreement with the exact T), a run of grid points where the factored form
+ * puts |T| under one half is crossed in one step between its two ends,
+ * evaluated exactly: 1 + T stays in the disc of radius 1 around 1 there and
+ * cannot wind around 0. Without it every step is walked on the exact T. */
+int nyquist_count(lgain *lg, const lg_tf *tf, double flo, double fhi, int trust_form,
+                  nyquist *nq, lw_error *err);
 
 #endif

@@ -297,6 +297,51 @@ static void test_three_integrators(void **state)
     release(&x);
 }
 
+/* A resonance far above the crossover: a dominant pole (a: Ra, Ca) and a
+ * gyrator-capacitor tank (x, y: Rr, Cr, +-g), nodal analysis by hand:
+ *   T(s) = K w0^2 / ((1 + s ta)(s^2 + b s + w0^2)),
+ *   ta = Ra Ca, b = 2/(Rr Cr), w0^2 = (g^2 + 1/Rr^2)/Cr^2,
+ *   K = gf g ga Ra / (Cr^2 w0^2).
+ * Near w0 the tank adds -90 degrees to the pole's -90 and peaks by Q ~ 50,
+ * so |T| there is about K p1 Q / w0 = K/200: for some gains the curve
+ * crosses the negative real axis left of -1 three decades above the
+ * crossover. Routh on ta s^3 + (1 + ta b) s^2 + (b + ta w0^2) s + w0^2 (1 + K)
+ * decides (stable iff a1 a2 > a0 a3, all positive). Where |T| is below one
+ * half the count crosses whole runs of the grid in one step, so this
+ * checks that a peak between such runs is still walked. */
+static void test_resonance_above_crossover(void **state)
+{
+    (void)state;
+    const double Ra = 1e6, Ca = 10e-12, Rr = 100e3, Cr = 1e-12, g = 1e-3, ga = 1e-3;
+    const double ta = Ra * Ca, b = 2 / (Rr * Cr), w02 = (g * g + 1 / (Rr * Rr)) / (Cr * Cr);
+    const double Ks[] = { 50.0, 150.0, 250.0, 1000.0 };
+    for (int k = 0; k < 4; k++) {
+        double gf = Ks[k] * Cr * Cr * w02 / (g * ga * Ra);
+        run x;
+        analyse(&x,
+                "node a r=%.17g c=%.17g\n"
+                "node x r=%.17g c=%.17g\n"
+                "node y r=%.17g c=%.17g\n"
+                "gm gax a -> x %.17g\n"
+                "gm gxy x -> y %.17g\n"
+                "gm gyx y -> x %.17g\n"
+                "gm gya y -> a %.17g\n"
+                "loop tank negative x y\n"
+                "loop main negative a x y\n"
+                "break gya\n",
+                Ra, Ca, Rr, Cr, Rr, Cr, ga, g, -g, -gf);
+        double a[4] = { ta, 1 + ta * b, b + ta * w02, w02 * (1 + Ks[k]) };
+        int want = routh_rhp(a, 3);
+        assert_int_equal(want, Ks[k] > 200 ? 2 : 0); /* a1 a2 > a0 a3 <=> K < ~200 */
+        nyquist q = count_of(&x);
+        assert_int_equal(q.open_loop_rhp, 0);
+        assert_int_equal(q.encirclements, want);
+        assert_int_equal(q.closed_loop_rhp, want);
+        assert_int_equal(rhp_poles(&x), want);
+        release(&x);
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -305,6 +350,7 @@ int main(void)
         cmocka_unit_test(test_integrator_indentation),
         cmocka_unit_test(test_conditionally_stable),
         cmocka_unit_test(test_three_integrators),
+        cmocka_unit_test(test_resonance_above_crossover),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
