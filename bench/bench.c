@@ -310,7 +310,7 @@ char *openblas_get_corename(void);
 
 /* The figures issue 12 set, each with its target (they are measured, never
  * asserted: a machine shared with other work makes every time longer). */
-static void targets(const char *json, int nfiles, const int *sizes, const double *lw_check,
+static void targets(const char *json, int nfiles, const int *sizes, const double *check_sec,
                     const sweep_timing *sw)
 {
     double eig = ref_get(json, "eigvals512", "s");
@@ -319,9 +319,9 @@ static void targets(const char *json, int nfiles, const int *sizes, const double
         if (sizes[f] == 512) {
             printf("  check, 512 nodes: %.3f s = %.2f x numpy.linalg.eigvals of a dense 512x512 "
                    "(%.3f s, same BLAS)\n      target: at most 5 x and at most 1.5 s  -> %s\n",
-                   lw_check[f], lw_check[f] / eig, eig,
+                   check_sec[f], check_sec[f] / eig, eig,
                    isnan(eig) ? "no reference" :
-                   lw_check[f] <= 5 * eig && lw_check[f] <= 1.5 ? "met" : "missed");
+                   check_sec[f] <= 5 * eig && check_sec[f] <= 1.5 ? "met" : "missed");
         }
         int want = sizes[f] == 8 ? 50 : sizes[f] == 32 ? 20 : sizes[f] == 128 ? 10 : 0;
         if (want && sw[f].pts > 1 && !isnan(sw[f].ref.sec)) {
@@ -365,7 +365,7 @@ int main(int argc, char **argv)
     if (nfiles == 0)
         return fprintf(stderr, "bench: no networks given\n"), 2;
     int sizes[MAX_FILES] = { 0 };
-    double lw_check[MAX_FILES] = { 0 }, ref_check[MAX_FILES] = { 0 };
+    double check_sec[MAX_FILES] = { 0 }, ref_check[MAX_FILES] = { 0 };
     char lines[MAX_FILES][240], names[MAX_FILES][128];
     int agree[MAX_FILES] = { 0 };
     sweep_timing sw[MAX_FILES];
@@ -413,7 +413,7 @@ int main(int argc, char **argv)
             sw[f].lw = time_sweep(path, sw[f].pts, budget, &sw[f].ncross, &sw[f].first);
             sw[f].ref = ref_timing(json, name, "sweep");
         }
-        lw_check[f] = ch[f][0].sec;
+        check_sec[f] = ch[f][0].sec;
         ref_check[f] = ch[f][1].sec;
     }
 
@@ -442,12 +442,12 @@ int main(int argc, char **argv)
         nref++;
     printf("\ncheck time ~ N^k, least squares over N = %d..%d:  loopwise k = %.2f,  "
            "reference k = %.2f\n", sizes[0], sizes[nref > 1 ? nref - 1 : 0],
-           exponent(sizes, lw_check, nref > 1 ? nref : nfiles),
+           exponent(sizes, check_sec, nref > 1 ? nref : nfiles),
            exponent(sizes, ref_check, nref));
     if (nfiles > nref && nref > 1)
         printf("                  over N = %d..%d:  loopwise k = %.2f\n", sizes[0],
-               sizes[nfiles - 1], exponent(sizes, lw_check, nfiles));
-    targets(json, nfiles, sizes, lw_check, sw);
+               sizes[nfiles - 1], exponent(sizes, check_sec, nfiles));
+    targets(json, nfiles, sizes, check_sec, sw);
     double rcpu = ref_get(json, "all", "cpu_s"), rwall = ref_get(json, "all", "wall_s");
     printf("CPU time / wall time over the timed runs: loopwise %.0f%%, reference %.0f%% "
            "(a share well below\n100%% means other processes had the cores and the times are "
