@@ -19,7 +19,7 @@ CC ?= cc
 PKGS := gsl lapacke
 OMP := -fopenmp
 DEB_PKGS := build-essential pkg-config libgsl-dev liblapacke-dev libopenblas-dev libopenblas-pthread-dev \
-            libcmocka-dev python3-numpy python3-scipy gnuplot-nox groff-base mandoc
+            libsuitesparse-dev libcmocka-dev python3-numpy python3-scipy gnuplot-nox groff-base mandoc
 # For 'make fuzz' and 'make sanitize' only.
 FUZZ_PKGS := clang libclang-rt-14-dev valgrind
 PYTHON := /usr/bin/python3
@@ -49,8 +49,15 @@ GSL_LIBS := $(filter-out -lgslcblas,$(shell pkg-config --libs gsl 2>/dev/null))
 LAPACK_STATIC := /usr/lib/$(MULTIARCH)/liblapacke.a $(OPENBLAS_DIR)/libopenblas.a -l:libgfortran.so.5
 LAPACK_SHARED := -llapacke -L$(OPENBLAS_DIR) -Wl,-rpath,$(OPENBLAS_DIR) -Wl,--no-as-needed \
                  -llapack -lblas -lopenblas -Wl,--as-needed
-LDLIBS := $(OMP) $(GSL_LIBS) $(LAPACK_STATIC) -lm
-SHARED_LDLIBS := $(OMP) $(GSL_LIBS) $(LAPACK_SHARED) -lm
+# SuiteSparse's KLU (netlu.c, the sparse LU of a large network) with the
+# orderings it calls (AMD, COLAMD, BTF) and SuiteSparse's configuration
+# library; Debian ships no pkg-config file for them. Static like LAPACK in
+# the program and the installed library's link line, shared in the tests.
+SUITESPARSE_LIBS := klu amd colamd btf suitesparseconfig
+KLU_STATIC := $(SUITESPARSE_LIBS:%=/usr/lib/$(MULTIARCH)/lib%.a)
+KLU_SHARED := $(SUITESPARSE_LIBS:%=-l%)
+LDLIBS := $(OMP) $(GSL_LIBS) $(KLU_STATIC) $(LAPACK_STATIC) -lm
+SHARED_LDLIBS := $(OMP) $(GSL_LIBS) $(KLU_SHARED) $(LAPACK_SHARED) -lm
 TEST_LDLIBS := $(shell pkg-config --libs cmocka 2>/dev/null) $(SHARED_LDLIBS)
 
 # Output directory and binary; 'make sanitize' builds into build/asan.
@@ -225,7 +232,7 @@ $(BUILD)/dist/libloopwise.a: $(LIB_OBJ)
 	    objcopy --localize-hidden $(BUILD)/dist/loopwise.o && \
 	    rm -f $@ && ar rcs $@ $(BUILD)/dist/loopwise.o
 
-# pkg-config: the libraries the build links (LDLIBS: GSL, LAPACK(E), OpenMP,
+# pkg-config: the libraries the build links (LDLIBS: GSL, KLU, LAPACK(E), OpenMP,
 # libm), for a program linking the static library. Written by install, for
 # the PREFIX and LIBDIR of that install.
 # libdir and includedir are written from ${prefix} when they lie under it, so
@@ -283,7 +290,7 @@ FUZZ_ARGS ?=
 SAN_FLAGS := -fsanitize=address,undefined -fno-sanitize-recover=all -fno-omit-frame-pointer
 FUZZ_CFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L $(WARN) -O1 -g $(SAN_FLAGS) \
                -fsanitize=fuzzer-no-link -Iinclude -MMD -MP $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
-FUZZ_LDLIBS := $(GSL_LIBS) $(LAPACK_SHARED) -lm
+FUZZ_LDLIBS := $(GSL_LIBS) $(KLU_SHARED) $(LAPACK_SHARED) -lm
 FUZZ_OBJ := $(LIB_SRC:src/%.c=build/fuzz/%.o)
 
 fuzz: deps

@@ -7,6 +7,7 @@
 #include <complex.h>
 
 #include "loopwise/loopgain.h"
+#include "loopwise/netlu.h"
 #include "loopwise/pencil.h"
 
 struct lgain {
@@ -24,6 +25,7 @@ struct lgain {
     double complex *Y, *x;    /* the LU path: Y0(s) and the right-hand side */
     double *Yr, *xr;          /* the same at real s, by a real LU */
     int *perm;
+    netlu *lu;                /* the LU path as a sparse LU (from NETLU_MIN nodes) */
     int walked;               /* a point of the exact phase walk is kept */
     double walk_hz, walk_ph;
 };

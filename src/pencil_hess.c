@@ -94,7 +94,8 @@ static double complex schur_eval(pencil_hess *h, double complex s)
     return sum + h->d0;
 }
 
-int pencil_hess_new(const pencil *p, const pencil_io *io, pencil_hess **out, lw_error *err)
+static int hess_make(const pencil *p, const pencil_io *io, int schur, pencil_hess **out,
+                     lw_error *err)
 {
     *out = NULL;
     int r = p->r, rc = LW_OK;
@@ -143,7 +144,7 @@ int pencil_hess_new(const pencil *p, const pencil_io *io, pencil_hess **out, lw_
         if (st)
             rc = st < 0 ? lw_error_set(err, LW_ENOMEM, "out of memory")
                         : lw_error_set(err, LW_ENUMERIC, "Hessenberg reduction failed");
-        if (!rc && r >= SCHUR_MIN)
+        if (!rc && schur && r >= SCHUR_MIN)
             rc = schur_form(h, err);
     }
 done:
@@ -153,6 +154,17 @@ done:
     }
     *out = h;
     return LW_OK;
+}
+
+int pencil_hess_new(const pencil *p, const pencil_io *io, pencil_hess **out, lw_error *err)
+{
+    return hess_make(p, io, 1, out, err);
+}
+
+int pencil_hess_new_plain(const pencil *p, const pencil_io *io, pencil_hess **out,
+                          lw_error *err)
+{
+    return hess_make(p, io, 0, out, err);
 }
 
 /* Gaussian elimination of the Hessenberg system (sI - H) x = b: each column

@@ -24,12 +24,15 @@ int lgain_new_vec(int n, const double *G0, const double *C, int in, const double
                   lgain **out_lg, lw_error *err);
 void lgain_free(lgain *lg);
 /* T(s) for s in rad/s, through the Hessenberg form of the reduced network:
- * O(rank^2) per point. NaN when Y0(s) is singular at s. */
+ * O(rank^2) per point; from 1000 nodes on by the sparse LU of the whole
+ * network (lgain_eval_full) from the start. NaN when Y0(s) is singular at s. */
 double complex lgain_eval(lgain *lg, double complex s);
 /* The same at a real s, in real arithmetic. */
 double lgain_eval_real(lgain *lg, double s);
-/* The same by a complex LU factorization of the whole Y0(s), O(n^3): an
- * independent path, used to cross-check the fast one. */
+/* The same by a complex LU factorization of the whole Y0(s): an
+ * independent path, used to cross-check the fast one. Dense, O(n^3), below
+ * 200 nodes; from 200 nodes on the sparse LU of netlu.h, whose cost grows
+ * with the nonzeros of the factors (about linearly on a network). */
 double complex lgain_eval_full(lgain *lg, double complex s);
 /* Makes lgain_eval use the LU path from now on: chosen when a spot check
  * finds the fast path inaccurate (poles spread over many decades make the

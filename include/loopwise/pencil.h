@@ -70,6 +70,13 @@ int pencil_zero_candidates(const pencil *p, const pencil_io *io, int method, dou
  * O(rank^2). */
 typedef struct pencil_hess pencil_hess;
 int pencil_hess_new(const pencil *p, const pencil_io *io, pencil_hess **out, lw_error *err);
+/* The same without the real Schur form that pencil_hess_new adds from 1000
+ * states on: for a caller that evaluates the transfer by other means
+ * (loopgain.c's sparse LU of a large network). The evaluation then runs on
+ * the Hessenberg form, and pencil_hess_eigen computes the eigenvalues
+ * without the Schur vectors. */
+int pencil_hess_new_plain(const pencil *p, const pencil_io *io, pencil_hess **out,
+                          lw_error *err);
 void pencil_hess_free(pencil_hess *h);
 /* c^T (sI - H)^-1 b + d0; NaN when sI - H is singular. */
 double complex pencil_hess_eval(pencil_hess *h, double complex s);

@@ -74,8 +74,9 @@ flags=$(pkg-config --define-variable=prefix="$D$P" --cflags --libs loopwise 2>"$
 [ "$(pkg-config --modversion loopwise)" = "$("$LW" --version | cut -d' ' -f2)" ] && ok ||
     bad "loopwise.pc's version differs from the program's"
 echo "$flags" | grep -q -- "-I$D$P/include" && echo "$flags" | grep -q -- "-lloopwise" &&
-    echo "$flags" | grep -q -- "gsl" && echo "$flags" | grep -q -- "lapack" && ok ||
-    bad "pkg-config --cflags --libs loopwise lacks the header, library, GSL or LAPACK: $flags"
+    echo "$flags" | grep -q -- "gsl" && echo "$flags" | grep -q -- "lapack" &&
+    echo "$flags" | grep -q -- "klu" && ok ||
+    bad "pkg-config --cflags --libs loopwise lacks the header, library, GSL, LAPACK or KLU: $flags"
 $CC -std=c11 -Wall -Wextra -Werror -o "$tmp/loop_report" examples/loop_report.c $flags \
     2>"$tmp/e" && ok || bad "examples/loop_report.c does not build: $(head -n 5 "$tmp/e")"
 
