@@ -10,9 +10,9 @@
 #                    on a 2-core machine, most of it in the reference)
 #   BENCH_SIZES="8 32", BENCH_SWEEPS="8=100"   a quick trial run
 #   BENCH_BIG="1024"   sizes timed by loopwise alone (the cost exponent;
-#                    2048 takes many minutes, see the README)
-#   BENCH_LIMIT=1      adds the 4096-node check (far longer than its 60 s
-#                    target for now, see the README)
+#                    2048 takes about 20 s a check, see the README)
+#   BENCH_LIMIT=1      adds the 4096-node check (about two minutes on a
+#                    2-core machine, twice its 60 s target; see the README)
 #
 # The reference's numpy runs on the same BLAS as loopwise: the same OpenBLAS
 # variant (OPENBLAS_DIR, from the Makefile, first on its library path), on
