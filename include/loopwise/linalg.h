@@ -19,8 +19,10 @@ int linalg_inverse_svd(int m, const double *A, double *inv, double tol);
 
 /* 1 when the n x n A is singular to rounding: its rows, then its columns
  * scaled to unit largest entry (the test is about rank, not units), and the
- * smallest singular value then below tol times the largest. 1 as well when
- * it cannot be decided (out of memory, no convergence). */
+ * smallest singular value then below tol times the largest (from order 1000
+ * on: LAPACK's estimate of the reciprocal 1-norm condition number of its LU
+ * below tol, or a zero pivot). 1 as well when it cannot be decided (out of
+ * memory, no convergence). */
 int linalg_singular(int n, const double *A, double tol);
 
 /* An orthonormal basis Q (r x r, column-major) of R^r whose first k

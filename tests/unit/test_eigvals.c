@@ -241,6 +241,36 @@ static void test_linalg(void **state)
     assert_crel(x[1], ((1 + I) * I - 3) / det, 1e-14);
 }
 
+/* The rank test on both of its paths (the SVD below order 1000, LU with a
+ * condition estimate from there on): the path graph's Laplacian, a
+ * resistor ladder with no resistor to ground, is singular (the vector of
+ * ones is in its null space); with both ends grounded it is
+ * tridiag(-1, 2, -1), whose eigenvalues 2 - 2 cos(k pi/(n + 1)) give a
+ * condition number of about 4 (n + 1)^2 / pi^2, 6e5 at n = 1200 (from
+ * memory): far from singular at 1e-13. */
+static void test_rank_paths(void **state)
+{
+    (void)state;
+    const int sizes[] = { 200, 1200 };
+    for (int t = 0; t < 2; t++) {
+        int n = sizes[t];
+        double *L = calloc((size_t)n * (size_t)n, sizeof(double));
+        assert_non_null(L);
+        for (int i = 0; i < n; i++) {
+            L[(size_t)i * n + i] = i == 0 || i == n - 1 ? 1.0 : 2.0;
+            if (i > 0)
+                L[(size_t)i * n + i - 1] = L[(size_t)(i - 1) * n + i] = -1.0;
+        }
+        assert_int_equal(linalg_singular(n, L, 1e-13), 1);
+        L[0] = L[(size_t)n * n - 1] = 2.0; /* both ends grounded */
+        assert_int_equal(linalg_singular(n, L, 1e-13), 0);
+        /* and singular again when one row repeats another */
+        memcpy(L + (size_t)(n - 1) * n, L + (size_t)(n - 2) * n, sizeof(double) * (size_t)n);
+        assert_int_equal(linalg_singular(n, L, 1e-13), 1);
+        free(L);
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -252,6 +282,7 @@ int main(void)
         cmocka_unit_test(test_pencil_ht),
         cmocka_unit_test(test_schur_form),
         cmocka_unit_test(test_linalg),
+        cmocka_unit_test(test_rank_paths),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
