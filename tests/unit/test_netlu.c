@@ -49,23 +49,33 @@ static double complex ladder_inverse(int n, double complex s, int i, int j)
     return cexp((double)(i - j - 1) * t) * num / den;
 }
 
+/* The ladder's sparse LU; with empty >= 0, that node left with nothing on it
+ * (a zero row and column). netlu keeps its own copy of the matrices. */
+static netlu *ladder_lu(int empty)
+{
+    double *A = malloc(sizeof(double) * N * N), *B = malloc(sizeof(double) * N * N);
+    assert_non_null(A);
+    assert_non_null(B);
+    ladder(A, B);
+    for (int k = 0; empty >= 0 && k < N; k++)
+        A[empty * N + k] = B[empty * N + k] = A[k * N + empty] = B[k * N + empty] = 0;
+    netlu *lu = NULL;
+    lw_error err;
+    lw_error_clear(&err);
+    assert_int_equal(netlu_new(N, A, B, &lu, &err), LW_OK);
+    free(A);
+    free(B);
+    return lu;
+}
+
 /* At s = 0 the inverse is min(i, j)(n + 1 - max(i, j))/(n + 1) (Gregory and
  * Karney, "A Collection of Matrices for Testing Computational Algorithms",
  * 1969): checked through the real solve, a column at a time. */
 static void test_real_dc(void **state)
 {
     (void)state;
-    double *A = malloc(sizeof(double) * N * N), *B = malloc(sizeof(double) * N * N);
     double x[N];
-    assert_non_null(A);
-    assert_non_null(B);
-    ladder(A, B);
-    netlu *lu = NULL;
-    lw_error err;
-    lw_error_clear(&err);
-    assert_int_equal(netlu_new(N, A, B, &lu, &err), LW_OK);
-    free(A);
-    free(B); /* netlu keeps its own copy */
+    netlu *lu = ladder_lu(-1);
     int cols[] = { 1, 37, 150, 300 };
     for (int c = 0; c < 4; c++) {
         int j = cols[c];
@@ -88,15 +98,8 @@ static void test_real_dc(void **state)
 static void test_complex(void **state)
 {
     (void)state;
-    double *A = malloc(sizeof(double) * N * N), *B = malloc(sizeof(double) * N * N);
     double complex x[N];
-    assert_non_null(A);
-    assert_non_null(B);
-    ladder(A, B);
-    netlu *lu = NULL;
-    lw_error err;
-    lw_error_clear(&err);
-    assert_int_equal(netlu_new(N, A, B, &lu, &err), LW_OK);
+    netlu *lu = ladder_lu(-1);
     double complex ss[] = { 1e-3 * I, 0.5 + 2 * I, 1e4 * I, -1e-4 + 1e-2 * I };
     for (int c = 0; c < 4; c++) {
         int j = 120;
@@ -112,16 +115,11 @@ static void test_complex(void **state)
     /* a node with nothing on it (a zero row and column) makes A + sB
      * singular at every s: the solver says so */
     netlu_free(lu);
-    ladder(A, B);
-    for (int k = 0; k < N; k++)
-        A[5 * N + k] = B[5 * N + k] = A[k * N + 5] = B[k * N + 5] = 0;
-    assert_int_equal(netlu_new(N, A, B, &lu, &err), LW_OK);
+    lu = ladder_lu(5);
     memset(x, 0, sizeof x);
     x[0] = 1;
     assert_int_equal(netlu_solve(lu, 1.0 + I, x), 2);
     netlu_free(lu);
-    free(A);
-    free(B);
 }
 
 int main(void)
