@@ -1,6 +1,8 @@
 /* netlu: sparse LU of the network matrix A + sB by KLU. See netlu.h. */
 #include "loopwise/netlu.h"
 
+#include <limits.h>
+#include <math.h>
 #include <stdlib.h>
 #include <string.h>
 #include <suitesparse/klu.h>
@@ -45,6 +47,11 @@ int netlu_new(int n, const double *A, const double *B, netlu **out, lw_error *er
     for (int j = 0; j < n; j++)
         for (int i = 0; i < n; i++)
             nnz += i == j || A[(size_t)i * n + j] != 0 || B[(size_t)i * n + j] != 0;
+    if (nnz > (size_t)INT_MAX) { /* KLU's int indices */
+        free(lu);
+        return lw_error_set(err, LW_EINPUT, "the network has too many nonzeros (%zu) for the "
+                            "sparse solver, at most %d", nnz, INT_MAX);
+    }
     lu->nnz = (int)nnz;
     lu->Ap = malloc(sizeof(int) * ((size_t)n + 1));
     lu->Ai = malloc(sizeof(int) * nnz);
@@ -136,8 +143,11 @@ int netlu_solve(netlu *lu, double complex s, double complex *x)
         rc = status_of(&lu->common);
         goto done;
     }
-    for (int i = 0; i < 2 * n; i++)
+    for (int i = 0; i < 2 * n; i++) {
         xv[i] += lu->r[i];
+        if (!isfinite(xv[i]))
+            rc = 2; /* a pivot so small that the solution overflowed */
+    }
 done:
     if (num)
         klu_z_free_numeric(&num, &lu->common);
@@ -171,8 +181,11 @@ int netlu_solve_real(netlu *lu, double s, double *x)
         rc = status_of(&lu->common);
         goto done;
     }
-    for (int i = 0; i < n; i++)
+    for (int i = 0; i < n; i++) {
         x[i] += lu->r[i];
+        if (!isfinite(x[i]))
+            rc = 2;
+    }
 done:
     if (num)
         klu_free_numeric(&num, &lu->common);

@@ -28,6 +28,9 @@
  * around 1 (the margins' scan finds no crossover there on the same grid),
  * so it cannot wind around 0 and only the run's two ends are evaluated. */
 #define SMALL_LOG_MAG (-0.6931471805599453) /* ln 0.5 */
+/* |T| at a run's exact end above which the form, which put it under one
+ * half there, is not believed for the rest of the count. */
+#define FORM_DOUBT 0.75
 
 static double complex one_plus_t(lgain *lg, double u)
 {
@@ -114,6 +117,7 @@ static int positive_half(lgain *lg, const double *u, const unsigned char *small,
 {
     double complex prev = one_plus_t(lg, u[0]);
     int decided = isfinite(creal(prev)) && isfinite(cimag(prev)) && prev != 0, j = 0;
+    int use_small = small != NULL;
     double cur = u[0];
     while (j < naxis && axis_u[j] <= cur)
         j++; /* below the band: beyond the walk's reach, and left as such */
@@ -129,16 +133,19 @@ static int positive_half(lgain *lg, const double *u, const unsigned char *small,
             cur = up + gap;
             prev = one_plus_t(lg, cur);
         }
-        if (small && small[k - 1] && cur == u[k - 1] && decided > 0) {
+        if (use_small && small[k - 1] && cur == u[k - 1] && decided > 0) {
             /* a run of small points with no axis pole inside: its two ends */
             int e = k;
             while (e + 1 < n && small[e] && small[e + 1] && !(j < naxis && axis_u[j] <= u[e + 1]))
                 e++;
-            if (e > k) {
-                double complex b = one_plus_t(lg, u[e]);
+            double complex b = e > k ? one_plus_t(lg, u[e]) : prev;
+            /* the exact T well above the one half the form gave at either
+             * end: the form is wrong here, and is not used again */
+            if (!(cabs(prev - 1.0) < FORM_DOUBT && cabs(b - 1.0) < FORM_DOUBT))
+                use_small = 0;
+            else if (e > k) {
                 /* 1 + T with |T| < 1 at both ends: the right half-plane, one branch */
-                if (isfinite(creal(b)) && isfinite(cimag(b)) && cabs(prev - 1.0) < 1.0 &&
-                    cabs(b - 1.0) < 1.0) {
+                if (isfinite(creal(b)) && isfinite(cimag(b))) {
                     *delta += carg(b) - carg(prev);
                     prev = b;
                     cur = u[e];
@@ -154,6 +161,30 @@ static int positive_half(lgain *lg, const double *u, const unsigned char *small,
         }
     }
     return decided;
+}
+
+/* Clears small[] near each lightly damped hidden pole (a mode T cannot
+ * see, so the form leaves it out). Its pole-zero pair, a gap g apart,
+ * still moves the exact T near |p| by about g / |re p| relative; a pair is
+ * hidden only when g is a tiny fraction of |p|, so only a pole with
+ * q = |p| / 2|re p| above HIDDEN_Q_MIN can make that a visible peak, and
+ * the walk is to look there: the band |p| (1 +- 2/q) holds the grid's
+ * points at |p| (1 +- 0.5/q). */
+#define HIDDEN_Q_MIN 1e3
+static void unmark_hidden(const lg_tf *tf, const double *u, int n, unsigned char *small)
+{
+    for (int k = 0; k < tf->npoles; k++) {
+        double complex p = tf->poles[k];
+        if (!tf->hidden[k] || p == 0 || cimag(p) < 0)
+            continue;
+        double q = cabs(p) / (2 * fabs(creal(p))); /* inf on the axis */
+        if (!(q > HIDDEN_Q_MIN))
+            continue;
+        double up = log10(cabs(p) / TWO_PI), band = log10(1 + 2 / q) + 1e-9;
+        for (int i = 0; i < n; i++)
+            if (fabs(u[i] - up) <= band)
+                small[i] = 0;
+    }
 }
 
 /* small[k] = 1 where the factored form puts |T| at u[k] under one half;
@@ -172,6 +203,8 @@ static unsigned char *small_points(lgain *lg, const lg_tf *tf, const double *u, 
         fform_eval(&ff, TWO_PI * pow(10.0, u[k]), &lm, &ph);
         small[k] = lm < SMALL_LOG_MAG;
     }
+    if (small)
+        unmark_hidden(tf, u, n, small);
     fform_free(&ff);
     return small;
 }

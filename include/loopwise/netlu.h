@@ -22,8 +22,11 @@ typedef struct netlu netlu;
  * and the diagonal. */
 int netlu_new(int n, const double *A, const double *B, netlu **out, lw_error *err);
 void netlu_free(netlu *lu);
-/* Solves (A + sB) x = x in place. Returns 0, 2 when the matrix is singular
- * at s, -1 when out of memory, 1 on another failure of the solver. */
+/* Solves (A + sB) x = b in place: x holds b on entry and the solution on
+ * return. Returns 0; 2 when the matrix is singular at s (a zero pivot) or
+ * the solution is not finite (a pivot that small); -1 when out of memory;
+ * 1 on another failure of the solver. A nearly singular matrix that still
+ * gives finite numbers returns 0: the caller judges the answer. */
 int netlu_solve(netlu *lu, double complex s, double complex *x);
 /* The same at a real s, in real arithmetic. */
 int netlu_solve_real(netlu *lu, double s, double *x);

@@ -271,6 +271,38 @@ static void test_rank_paths(void **state)
     }
 }
 
+/* The same paths where no pivot is exactly zero, so the SVD's ratio or
+ * dgecon's estimate decides: a ladder of conductances 0.1 + (i mod 7)/3
+ * (not binary fractions: its floating Laplacian's row sums round to about
+ * 1e-16, not to 0), floating, then grounded at one end by 1e-3. scipy's
+ * SVD and dgecon of the same equilibrated matrices (rows, then columns, by
+ * their largest entry) give, at n = 200 and 1200: floating 6e-17 / 2e-17
+ * and 2e-19 / 4e-20; grounded 8.6e-7 / 8.2e-8 and 3.7e-7 / 3.6e-8. So the
+ * grounded ladder is singular at a tolerance of 1e-5, not at 1e-9. */
+static void test_rank_rounded(void **state)
+{
+    (void)state;
+    int sizes[] = { 200, 1200 };
+    for (int t = 0; t < 2; t++) {
+        int n = sizes[t];
+        double *L = calloc((size_t)n * (size_t)n, sizeof(double));
+        assert_non_null(L);
+        for (int i = 0; i + 1 < n; i++) {
+            double g = 0.1 + (i % 7) / 3.0;
+            L[(size_t)i * n + i] += g;
+            L[(size_t)(i + 1) * n + i + 1] += g;
+            L[(size_t)i * n + i + 1] -= g;
+            L[(size_t)(i + 1) * n + i] -= g;
+        }
+        assert_int_equal(linalg_singular(n, L, 1e-13), 1);
+        L[0] += 1e-3;
+        assert_int_equal(linalg_singular(n, L, 1e-13), 0);
+        assert_int_equal(linalg_singular(n, L, 1e-9), 0);
+        assert_int_equal(linalg_singular(n, L, 1e-5), 1);
+        free(L);
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -283,6 +315,7 @@ int main(void)
         cmocka_unit_test(test_schur_form),
         cmocka_unit_test(test_linalg),
         cmocka_unit_test(test_rank_paths),
+        cmocka_unit_test(test_rank_rounded),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
