@@ -14,6 +14,7 @@ void lgain_free(lgain *lg)
 {
     if (!lg)
         return;
+    lgain_ahead_free(lg->ahead);
     pencil_hess_free(lg->h);
     pencil_free(lg->p);
     netlu_free(lg->lu);
@@ -44,7 +45,7 @@ void lgain_free(lgain *lg)
 
 /* in, out, g for a single gm; u (n values) instead when out is -1. */
 static int lgain_make(int n, const double *G0, const double *C, int in, int out, double g,
-                      const double *u, lgain **out_lg, lw_error *err)
+                      const double *u, int ahead, lgain **out_lg, lw_error *err)
 {
     *out_lg = NULL;
     lgain *lg = calloc(1, sizeof *lg);
@@ -104,7 +105,9 @@ static int lgain_make(int n, const double *G0, const double *C, int in, int out,
     lg->full = n >= NETLU_FIRST;
     if (!rc)
         rc = pencil_new(n, G0, C, &lg->p, err);
-    if (!rc)
+    if (!rc && ahead && lgain_ahead_wanted(n))
+        rc = lgain_ahead_run(lg, C, err);
+    else if (!rc)
         rc = (lg->full ? pencil_hess_new_plain : pencil_hess_new)(lg->p, &lg->io, &lg->h, err);
     if (rc) {
         lgain_free(lg);
@@ -117,13 +120,19 @@ static int lgain_make(int n, const double *G0, const double *C, int in, int out,
 int lgain_new(int n, const double *G0, const double *C, int in, int out, double g,
               lgain **out_lg, lw_error *err)
 {
-    return lgain_make(n, G0, C, in, out, g, NULL, out_lg, err);
+    return lgain_make(n, G0, C, in, out, g, NULL, 0, out_lg, err);
+}
+
+int lgain_new_ahead(int n, const double *G0, const double *C, int in, int out, double g,
+                    const double *u, lgain **out_lg, lw_error *err)
+{
+    return lgain_make(n, G0, C, in, u ? -1 : out, u ? 0.0 : g, u, 1, out_lg, err);
 }
 
 int lgain_new_vec(int n, const double *G0, const double *C, int in, const double *u,
                   lgain **out_lg, lw_error *err)
 {
-    return lgain_make(n, G0, C, in, -1, 0.0, u, out_lg, err);
+    return lgain_make(n, G0, C, in, -1, 0.0, u, 0, out_lg, err);
 }
 
 /* The right-hand side of the LU path: e_out, or D u for a vector break. */
@@ -251,7 +260,9 @@ int lgain_closed_loop(lgain *lg, int n, const double *G, const double *C, double
     *roots = malloc(sizeof **roots * (size_t)(r + 1));
     if (!*roots)
         return lw_error_set(err, LW_ENOMEM, "out of memory");
-    int rc = lg->gain == 0 ? LW_OK : pencil_hess_feedback_eigen(lg->h, lg->hgain, *roots, &ok, err);
+    int rc = lg->gain == 0 || lgain_ahead_closed_loop(lg, *roots, &ok)
+                 ? LW_OK
+                 : pencil_hess_feedback_eigen(lg->h, lg->hgain, *roots, &ok, err);
     if (lg->gain == 0) {
         /* the break is off: the closed loop is the open loop */
         rc = pencil_eigen(lg->p, C, *roots, NULL, err);

@@ -28,7 +28,30 @@ struct lgain {
     netlu *lu;                /* the LU path as a sparse LU (from NETLU_MIN nodes) */
     int walked;               /* a point of the exact phase walk is kept */
     double walk_hz, walk_ph;
+    struct lgain_ahead *ahead; /* results computed ahead (loopgain_ahead.c); NULL: none */
 };
+
+/* loopgain_ahead.c: from AHEAD_MIN nodes the poles with their owners run
+ * beside the Hessenberg form, the closed-loop poles and the zero
+ * candidates (two OpenMP sections, the same calls as one after the
+ * other). lgain_ahead_run builds lg->h and keeps the rest; each take
+ * function copies a result out once (1) or says there is none (0), and the
+ * caller then computes it itself. */
+#define AHEAD_MIN 1000
+typedef struct lgain_ahead lgain_ahead;
+int lgain_ahead_wanted(int n);
+int lgain_ahead_run(lgain *lg, const double *C, lw_error *err);
+void lgain_ahead_free(lgain_ahead *a);
+int lgain_ahead_poles(lgain *lg, double complex *poles, int *owner);
+int lgain_ahead_zero_candidates(lgain *lg, double complex *cand, int *nc, int *used);
+/* lg_verify_zero(lg, z) for a candidate handed out above, when it was
+ * computed ahead; -1 when it was not. */
+int lgain_ahead_verified(const lgain *lg, double complex z);
+int lgain_ahead_closed_loop(lgain *lg, double complex *roots, int *ok);
+
+/* 1 when the zero candidate z is a zero of T (|T| near z far below |T| on
+ * a small circle around it), 0 for a mode T cannot see or debris. */
+int lg_verify_zero(lgain *lg, double complex z);
 
 /* Order of lg_sort: by magnitude, then imaginary part (qsort comparator). */
 int lg_cmp_root(const void *pa, const void *pb);

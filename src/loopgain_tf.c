@@ -30,7 +30,7 @@ static int cmp_rec(const void *a, const void *b)
  * a zero 1e-6 from a pole still gives 1e-5).
  * A mode T cannot see shows up as a candidate too, but T is not small there;
  * so does rounding debris at huge |z|, where T is noise. */
-static int verify_zero(lgain *lg, double complex z)
+int lg_verify_zero(lgain *lg, double complex z)
 {
     double mag = cabs(z);
     double complex c = z + 1e-11 * mag * cexp(I * 0.7);
@@ -71,7 +71,7 @@ static int match_hidden(lg_tf *tf, double complex z)
     return 0;
 }
 
-static int open_loop_poles(const double *C, int want_owner, const lgain *lg, lg_tf *tf,
+static int open_loop_poles(const double *C, int want_owner, lgain *lg, lg_tf *tf,
                            lw_error *err)
 {
     int r = pencil_rank(lg->p);
@@ -87,8 +87,9 @@ static int open_loop_poles(const double *C, int want_owner, const lgain *lg, lg_
         tf->owner[k] = -1;
     /* owners need the eigenvectors of the reduced matrix; the values alone
      * come from the Hessenberg form the evaluator already holds */
-    int rc = want_owner ? pencil_eigen(lg->p, C, tf->poles, tf->owner, err)
-                        : pencil_hess_eigen(lg->h, tf->poles, err);
+    int rc = want_owner && lgain_ahead_poles(lg, tf->poles, tf->owner) ? LW_OK
+             : want_owner ? pencil_eigen(lg->p, C, tf->poles, tf->owner, err)
+                          : pencil_hess_eigen(lg->h, tf->poles, err);
     if (rc) {
         free(rec);
         return rc;
@@ -250,7 +251,8 @@ static void origin_roots(lgain *lg, lg_tf *tf, double complex *cand, int nc, dou
         cand[k] = 0;
 }
 
-static int sort_candidates(lgain *lg, lg_tf *tf, double complex *cand, int nc, int check_plain)
+static int sort_candidates(lgain *lg, lg_tf *tf, double complex *cand, int nc, int check_plain,
+                           int ahead)
 {
     double scale = 0;
     for (int k = 0; k < tf->npoles; k++)
@@ -275,7 +277,8 @@ static int sort_candidates(lgain *lg, lg_tf *tf, double complex *cand, int nc, i
         int plain = !near_pole && cabs(cand[k]) <= 100.0 * scale;
         if (plain && check_plain && !zero_accurate(lg, cand[k]))
             return 1;
-        if (plain || verify_zero(lg, cand[k]))
+        int v = ahead ? lgain_ahead_verified(lg, cand[k]) : -1;
+        if (plain || (v >= 0 ? v : lg_verify_zero(lg, cand[k])))
             tf->zeros[tf->nzeros++] = lg_tidy(cand[k]);
         else
             match_hidden(tf, cand[k]);
@@ -309,12 +312,16 @@ static int classify_zeros(lgain *lg, lg_tf *tf, int method, lw_error *err)
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
     for (;;) {
-        rc = pencil_hess_zero_candidates(p, lg->h, &lg->io, method, cand, &nc, &used, err);
+        /* computed ahead, with lg_verify_zero of as many of them as there
+         * was time for (lgain_ahead_verified) */
+        int ahead = method == PENCIL_ZEROS_AUTO && lgain_ahead_zero_candidates(lg, cand, &nc, &used);
+        if (!ahead)
+            rc = pencil_hess_zero_candidates(p, lg->h, &lg->io, method, cand, &nc, &used, err);
         if (rc)
             break;
         tf->nzeros = 0;
         memset(tf->hidden, 0, (size_t)tf->npoles);
-        if (!sort_candidates(lg, tf, cand, nc, used == PENCIL_ZEROS_DYNAMICS_CHECK))
+        if (!sort_candidates(lg, tf, cand, nc, used == PENCIL_ZEROS_DYNAMICS_CHECK, ahead))
             break;
         method = PENCIL_ZEROS_QZ;
     }

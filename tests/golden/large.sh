@@ -22,3 +22,54 @@ bad += not ok
 print(("PASS" if ok else "FAIL"), "chain128 stable, no accuracy warning")
 print("%d passed, %d failed" % (5 - bad, bad))
 sys.exit(1 if bad else 0)'
+[ $? = 0 ] || exit 1
+
+# From 1000 nodes a check computes the poles with their owners beside the
+# Hessenberg form, the closed-loop poles and the zero candidates (two
+# OpenMP sections, src/loopgain_ahead.c). The same calls as one after the
+# other, so the same JSON to the last digit on one thread and on two; and
+# the DC gain, |T| at the reported crossover and the phase margin (modulo a
+# turn) against numpy's dense solve of the same network, parsed and stamped
+# by tests/ref/numpy_ref.py (a 1024-node chain from bench/gen_net.py, seed
+# 2024).
+OUT=build/tests/large
+mkdir -p "$OUT"
+$PY bench/gen_net.py "$OUT" 1024 >/dev/null || exit 1
+OMP_NUM_THREADS=1 "$LW" check "$OUT/chain1024.loop" --json >"$OUT/one.json"
+[ $? -le 1 ] || { echo "FAIL chain1024: check on one thread"; exit 1; }
+OMP_NUM_THREADS=2 "$LW" check "$OUT/chain1024.loop" --json >"$OUT/two.json"
+[ $? -le 1 ] || { echo "FAIL chain1024: check on two threads"; exit 1; }
+bad=0
+if cmp -s "$OUT/one.json" "$OUT/two.json"; then
+    echo "PASS chain1024 the same JSON on one thread and on two"
+else
+    echo "FAIL chain1024 the JSON differs between one thread and two"
+    bad=1
+fi
+OPENBLAS_NUM_THREADS=1 $PY - "$OUT/chain1024.loop" "$OUT/two.json" <<'PYEOF' || bad=1
+import cmath, json, math, sys
+import numpy as np
+sys.path.insert(0, "tests/ref")
+import numpy_ref as nr
+net = nr.parse_loop_file(sys.argv[1])
+d = json.load(open(sys.argv[2]))
+_, _, a, b, g = net.elem(net.brk)
+i, o = net.idx(a), net.idx(b)
+G0, C = nr.build(net, off={net.brk})
+e = np.zeros(len(net.nodes), dtype=complex)
+e[o] = 1.0
+T = lambda s: -g * np.linalg.solve(G0 + s * C, e)[i]
+dc, fc, pm = d["dc_loop_gain"], d["crossover_hz"], d["phase_margin_deg"]
+t = T(2j * math.pi * fc)
+want_pm = (180.0 + math.degrees(cmath.phase(t))) % 360.0
+checks = [("DC gain", abs(dc - T(0).real) <= 1e-9 * abs(dc)),
+          ("|T| at the crossover", abs(abs(t) - 1.0) <= 1e-9),
+          ("phase margin", abs((pm % 360.0) - want_pm) <= 1e-6)]
+bad = 0
+for name, ok in checks:
+    bad += not ok
+    print(("PASS" if ok else "FAIL"), "chain1024", name, "vs numpy")
+print("%d passed, %d failed" % (len(checks) - bad, bad))
+sys.exit(1 if bad else 0)
+PYEOF
+exit $bad
