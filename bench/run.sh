@@ -11,9 +11,9 @@
 #   BENCH_SIZES="8 32", BENCH_SWEEPS="8=100"   a quick trial run
 #   BENCH_BIG="1024 2048"   sizes timed by loopwise alone, for the cost
 #                    exponent to 2048 nodes (the 2048-node check takes about
-#                    15 s; BENCH_BIG="" leaves them out)
-#   BENCH_LIMIT=1      adds the 4096-node check (about 100 s on a 2-core
-#                    machine, against its 60 s target; see the README)
+#                    7 s on two cores; BENCH_BIG="" leaves them out)
+#   BENCH_LIMIT=1      adds the 4096-node check (about 55 s on two idle
+#                    cores, 81 s on one; its target is 60 s; see the README)
 #
 # The reference's numpy runs on the same BLAS as loopwise: the same OpenBLAS
 # variant (OPENBLAS_DIR, from the Makefile, first on its library path), on

@@ -30,7 +30,10 @@
  * (every GSL status is checked) and keeps OpenBLAS on one thread, as the
  * program does; it gives the caller's settings back. These are settings of
  * the whole process: do not call GSL or OpenBLAS from another thread
- * meanwhile.
+ * meanwhile. The analysis of a network of 1000 nodes or more runs its
+ * dense eigenproblems on two OpenMP threads when OpenMP allows more than
+ * one (not inside a parallel region of the caller's); the figures are the
+ * same on one, which OMP_NUM_THREADS=1 or omp_set_num_threads(1) asks for.
  *
  * Link with `pkg-config --cflags --libs loopwise`. */
 #ifndef LOOPWISE_LOOPWISE_H
