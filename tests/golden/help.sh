@@ -47,7 +47,9 @@ for c in $cmds; do
     # its example runs (in a scratch directory: examples write pictures and CSV)
     ex=$(sed -n '/^example:/{n;p;}' "$tmp/h" | sed 's/^ *loopwise //')
     [ -n "$ex" ] && ok || bad "$c --help has no example"
-    mkdir -p "$tmp/ex" && ln -sf "$ROOT/cases" "$tmp/ex/cases"
+    # (once: a second 'ln -s' onto the existing link to a directory would
+    # put a link inside the project's own cases/)
+    mkdir -p "$tmp/ex" && { [ -L "$tmp/ex/cases" ] || ln -s "$ROOT/cases" "$tmp/ex/cases"; }
     (cd "$tmp/ex" && eval "\"$ROOT/$LW\" $ex" >/dev/null 2>"$tmp/e")
     rc=$?
     [ $rc -le 1 ] && ok || bad "$c --help's example '$ex' exits $rc: $(head -n 1 "$tmp/e")"
