@@ -108,8 +108,7 @@ static int break_analysis(const model *m, unsigned char *off, double *G0, double
         for (int k = 0; k < m->ngm; k++)
             if (off[k])
                 g = &m->gm[k];
-        rc = want_owner ? lgain_new_ahead(m->n, G0, m->C, g->in, g->out, g->g, NULL, &r->lg, err)
-                        : lgain_new(m->n, G0, m->C, g->in, g->out, g->g, &r->lg, err);
+        rc = lgain_new_ahead(m->n, G0, m->C, g->in, g->out, g->g, NULL, want_owner, &r->lg, err);
     } else {
         /* break NODE (SPEC 1): u = the sum of g e_OUT over its gms */
         double *u = calloc((size_t)m->n, sizeof(double));
@@ -118,8 +117,7 @@ static int break_analysis(const model *m, unsigned char *off, double *G0, double
             if (off[k])
                 u[m->gm[k].out] += m->gm[k].g;
         if (!rc)
-            rc = want_owner ? lgain_new_ahead(m->n, G0, m->C, in, -1, 0.0, u, &r->lg, err)
-                            : lgain_new_vec(m->n, G0, m->C, in, u, &r->lg, err);
+            rc = lgain_new_ahead(m->n, G0, m->C, in, -1, 0.0, u, want_owner, &r->lg, err);
         free(u);
     }
     memset(off, 0, (size_t)m->ngm);

@@ -43,6 +43,12 @@ void lgain_free(lgain *lg)
 #define NETLU_MIN 200
 #define NETLU_FIRST 1000
 
+int lgain_hess_build(lgain *lg, lw_error *err)
+{
+    /* the LU path evaluates T from NETLU_FIRST nodes: no Schur form then */
+    return (lg->full ? pencil_hess_new_plain : pencil_hess_new)(lg->p, &lg->io, &lg->h, err);
+}
+
 /* in, out, g for a single gm; u (n values) instead when out is -1. */
 static int lgain_make(int n, const double *G0, const double *C, int in, int out, double g,
                       const double *u, int ahead, lgain **out_lg, lw_error *err)
@@ -108,7 +114,7 @@ static int lgain_make(int n, const double *G0, const double *C, int in, int out,
     if (!rc && ahead && lgain_ahead_wanted(n))
         rc = lgain_ahead_run(lg, C, err);
     else if (!rc)
-        rc = (lg->full ? pencil_hess_new_plain : pencil_hess_new)(lg->p, &lg->io, &lg->h, err);
+        rc = lgain_hess_build(lg, err);
     if (rc) {
         lgain_free(lg);
         return rc;
@@ -124,9 +130,9 @@ int lgain_new(int n, const double *G0, const double *C, int in, int out, double 
 }
 
 int lgain_new_ahead(int n, const double *G0, const double *C, int in, int out, double g,
-                    const double *u, lgain **out_lg, lw_error *err)
+                    const double *u, int ahead, lgain **out_lg, lw_error *err)
 {
-    return lgain_make(n, G0, C, in, u ? -1 : out, u ? 0.0 : g, u, 1, out_lg, err);
+    return lgain_make(n, G0, C, in, u ? -1 : out, u ? 0.0 : g, u, ahead, out_lg, err);
 }
 
 int lgain_new_vec(int n, const double *G0, const double *C, int in, const double *u,

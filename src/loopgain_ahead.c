@@ -39,8 +39,8 @@ struct lgain_ahead {
     int *owner;
     double complex *cand;    /* zero candidates (PENCIL_ZEROS_AUTO); NULL: none */
     int ncand, used;
-    signed char *known;      /* lg_verify_zero of each candidate; -1: not reached */
-    vz *byval;               /* the reached ones by value, sorted; nbyval of them */
+    vz *byval;               /* the candidates checked ahead, nbyval of them; sorted
+                                by value when the candidates are handed out */
     int nbyval;
     int poles_done;          /* section A has finished (read and written atomically) */
     double complex *cl;      /* closed-loop poles; NULL: none */
@@ -54,7 +54,6 @@ void lgain_ahead_free(lgain_ahead *a)
     free(a->poles);
     free(a->owner);
     free(a->cand);
-    free(a->known);
     free(a->byval);
     free(a->cl);
     free(a);
@@ -93,17 +92,16 @@ static void poles_ahead(lgain *lg, const double *C, lgain_ahead *a)
  * gives does not, and the rest are checked later as before. */
 static void verify_ahead(lgain *lg, lgain_ahead *a)
 {
-    a->known = malloc((size_t)a->ncand + 1);
-    if (!a->known)
+    if (!(a->byval = malloc(sizeof *a->byval * ((size_t)a->ncand + 1))))
         return;
-    memset(a->known, -1, (size_t)a->ncand + 1);
     for (int k = 0; k < a->ncand; k++) {
         int done;
         #pragma omp atomic read
         done = a->poles_done;
         if (done)
             break;
-        a->known[k] = (signed char)lg_verify_zero(lg, a->cand[k]);
+        a->byval[a->nbyval++] = (vz){ creal(a->cand[k]), cimag(a->cand[k]),
+                                      lg_verify_zero(lg, a->cand[k]) };
     }
 }
 
@@ -111,7 +109,7 @@ static void verify_ahead(lgain *lg, lgain_ahead *a)
  * candidates on it. Returns the form's status (its error in *e). */
 static int hess_ahead(lgain *lg, lgain_ahead *a, lw_error *e)
 {
-    int rc = (lg->full ? pencil_hess_new_plain : pencil_hess_new)(lg->p, &lg->io, &lg->h, e);
+    int rc = lgain_hess_build(lg, e);
     if (rc || lg->gain == 0)
         return rc; /* the break switched off: no zeros, the closed loop is the open */
     int r = pencil_rank(lg->p);
@@ -179,18 +177,6 @@ static int cmp_vz(const void *pa, const void *pb)
     return a->im < b->im ? -1 : a->im > b->im;
 }
 
-/* The reached checks by value: the analysis reorders the candidates (by
- * magnitude, the origin's first) before it checks them. */
-static void index_known(lgain_ahead *a)
-{
-    if (!a->known || !(a->byval = malloc(sizeof *a->byval * ((size_t)a->ncand + 1))))
-        return;
-    for (int k = 0; k < a->ncand; k++)
-        if (a->known[k] >= 0)
-            a->byval[a->nbyval++] = (vz){ creal(a->cand[k]), cimag(a->cand[k]), a->known[k] };
-    qsort(a->byval, (size_t)a->nbyval, sizeof *a->byval, cmp_vz);
-}
-
 int lgain_ahead_zero_candidates(lgain *lg, double complex *cand, int *nc, int *used)
 {
     lgain_ahead *a = lg->ahead;
@@ -199,7 +185,10 @@ int lgain_ahead_zero_candidates(lgain *lg, double complex *cand, int *nc, int *u
     memcpy(cand, a->cand, sizeof *cand * (size_t)a->ncand);
     *nc = a->ncand;
     *used = a->used;
-    index_known(a);
+    /* looked up by value: the analysis reorders the candidates (by
+     * magnitude, the origin's first) before it checks them */
+    if (a->byval)
+        qsort(a->byval, (size_t)a->nbyval, sizeof *a->byval, cmp_vz);
     free(a->cand);
     a->cand = NULL;
     return 1;

@@ -53,6 +53,10 @@ int lgain_ahead_closed_loop(lgain *lg, double complex *roots, int *ok);
  * a small circle around it), 0 for a mode T cannot see or debris. */
 int lg_verify_zero(lgain *lg, double complex z);
 
+/* lg->h from lg->p: the controller Hessenberg form (with its real Schur
+ * form unless T is evaluated by the LU of the whole network). */
+int lgain_hess_build(lgain *lg, lw_error *err);
+
 /* Order of lg_sort: by magnitude, then imaginary part (qsort comparator). */
 int lg_cmp_root(const void *pa, const void *pb);
 /* Cleans rounding residue: an imaginary part below 1e-12 of the magnitude is 0. */

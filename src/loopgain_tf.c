@@ -87,9 +87,11 @@ static int open_loop_poles(const double *C, int want_owner, lgain *lg, lg_tf *tf
         tf->owner[k] = -1;
     /* owners need the eigenvectors of the reduced matrix; the values alone
      * come from the Hessenberg form the evaluator already holds */
-    int rc = want_owner && lgain_ahead_poles(lg, tf->poles, tf->owner) ? LW_OK
-             : want_owner ? pencil_eigen(lg->p, C, tf->poles, tf->owner, err)
-                          : pencil_hess_eigen(lg->h, tf->poles, err);
+    int rc = LW_OK;
+    if (!want_owner)
+        rc = pencil_hess_eigen(lg->h, tf->poles, err);
+    else if (!lgain_ahead_poles(lg, tf->poles, tf->owner)) /* computed ahead, or now */
+        rc = pencil_eigen(lg->p, C, tf->poles, tf->owner, err);
     if (rc) {
         free(rec);
         return rc;

@@ -141,17 +141,15 @@ static int positive_half(lgain *lg, const double *u, const unsigned char *small,
             double complex b = e > k ? one_plus_t(lg, u[e]) : prev;
             /* the exact T well above the one half the form gave at either
              * end: the form is wrong here, and is not used again */
-            if (!(cabs(prev - 1.0) < FORM_DOUBT && cabs(b - 1.0) < FORM_DOUBT))
-                use_small = 0;
-            else if (e > k) {
+            if (!(cabs(prev - 1.0) < FORM_DOUBT && cabs(b - 1.0) < FORM_DOUBT)) {
+                use_small = 0; /* (also when b is not a number) */
+            } else if (e > k) {
                 /* 1 + T with |T| < 1 at both ends: the right half-plane, one branch */
-                if (isfinite(creal(b)) && isfinite(cimag(b))) {
-                    *delta += carg(b) - carg(prev);
-                    prev = b;
-                    cur = u[e];
-                    k = e;
-                    continue;
-                }
+                *delta += carg(b) - carg(prev);
+                prev = b;
+                cur = u[e];
+                k = e;
+                continue;
             }
         }
         if (u[k] > cur && decided > 0) {

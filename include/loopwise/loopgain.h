@@ -22,13 +22,13 @@ int lgain_new(int n, const double *G0, const double *C, int in, int out, double 
  * lgain_new; that path is cheaper and is the one to take then. */
 int lgain_new_vec(int n, const double *G0, const double *C, int in, const double *u,
                   lgain **out_lg, lw_error *err);
-/* lgain_new (u NULL) or lgain_new_vec (u given; out and g unused) for an
- * analysis that goes on to lg_tf_analyse with owners and to
+/* lgain_new (u NULL) or lgain_new_vec (u given; out and g unused). With
+ * ahead, for an analysis that goes on to lg_tf_analyse with owners and to
  * lgain_closed_loop: from 1000 nodes, with more than one thread and
  * outside a parallel region, the dense eigenproblems those ask for are
  * computed here two at a time (loopgain_ahead.c), with the same results. */
 int lgain_new_ahead(int n, const double *G0, const double *C, int in, int out, double g,
-                    const double *u, lgain **out_lg, lw_error *err);
+                    const double *u, int ahead, lgain **out_lg, lw_error *err);
 void lgain_free(lgain *lg);
 /* T(s) for s in rad/s, through the Hessenberg form of the reduced network:
  * O(rank^2) per point; from 1000 nodes on by the sparse LU of the whole

@@ -49,14 +49,15 @@ static double complex ladder_inverse(int n, double complex s, int i, int j)
     return cexp((double)(i - j - 1) * t) * num / den;
 }
 
-/* The ladder's sparse LU; with empty >= 0, that node left with nothing on it
- * (a zero row and column). netlu keeps its own copy of the matrices. */
-static netlu *ladder_lu(int empty)
+/* The sparse LU of the matrices fill writes; with empty >= 0, that node
+ * left with nothing on it (a zero row and column). netlu keeps its own
+ * copy of the matrices. */
+static netlu *lu_of(void (*fill)(double *, double *), int empty)
 {
     double *A = malloc(sizeof(double) * N * N), *B = malloc(sizeof(double) * N * N);
     assert_non_null(A);
     assert_non_null(B);
-    ladder(A, B);
+    fill(A, B);
     for (int k = 0; empty >= 0 && k < N; k++)
         A[empty * N + k] = B[empty * N + k] = A[k * N + empty] = B[k * N + empty] = 0;
     netlu *lu = NULL;
@@ -75,7 +76,7 @@ static void test_real_dc(void **state)
 {
     (void)state;
     double x[N];
-    netlu *lu = ladder_lu(-1);
+    netlu *lu = lu_of(ladder, -1);
     int cols[] = { 1, 37, 150, 300 };
     for (int c = 0; c < 4; c++) {
         int j = cols[c];
@@ -99,7 +100,7 @@ static void test_complex(void **state)
 {
     (void)state;
     double complex x[N];
-    netlu *lu = ladder_lu(-1);
+    netlu *lu = lu_of(ladder, -1);
     double complex ss[] = { 1e-3 * I, 0.5 + 2 * I, 1e4 * I, -1e-4 + 1e-2 * I };
     for (int c = 0; c < 4; c++) {
         int j = 120;
@@ -115,7 +116,7 @@ static void test_complex(void **state)
     /* a node with nothing on it (a zero row and column) makes A + sB
      * singular at every s: the solver says so */
     netlu_free(lu);
-    lu = ladder_lu(5);
+    lu = lu_of(ladder, 5);
     memset(x, 0, sizeof x);
     x[0] = 1;
     assert_int_equal(netlu_solve(lu, 1.0 + I, x), 2);
@@ -132,8 +133,10 @@ static void test_complex(void **state)
  * brings every entry back to a few units of rounding (Higham, 2nd ed.,
  * ch. 12: fixed-precision refinement makes the solve componentwise
  * backward stable; from memory). */
-static void growth_blocks(double *A, double *B, double d)
+#define GROWTH_D 1.5e-3
+static void growth_blocks(double *A, double *B)
 {
+    const double d = GROWTH_D;
     memset(A, 0, sizeof(double) * N * N);
     memset(B, 0, sizeof(double) * N * N);
     for (int i = 0; i < N; i += 2) {
@@ -146,17 +149,8 @@ static void growth_blocks(double *A, double *B, double d)
 static void test_refinement(void **state)
 {
     (void)state;
-    double *A = malloc(sizeof(double) * N * N), *B = malloc(sizeof(double) * N * N);
-    assert_non_null(A);
-    assert_non_null(B);
-    const double d = 1.5e-3;
-    growth_blocks(A, B, d);
-    netlu *lu = NULL;
-    lw_error err;
-    lw_error_clear(&err);
-    assert_int_equal(netlu_new(N, A, B, &lu, &err), LW_OK);
-    free(A);
-    free(B);
+    const double d = GROWTH_D;
+    netlu *lu = lu_of(growth_blocks, -1);
     double complex ss[] = { 0, 2e-4 * I, 1e-4 + 3e-4 * I };
     for (int c = 0; c < 3; c++) {
         double complex x[N], b[N];
