@@ -78,7 +78,7 @@ static double complex tidy(double complex z)
 /* Returns 1 (sorting abandoned) when check_plain is set and a zero taken
  * without the circle test proves inaccurate: the caller retries by QZ. */
 static int sort_candidates(response *rs, lg_tf *tf, const double complex *cand, int nc,
-                           int check_plain, int *z0)
+                           int check_plain, int zero_ok, int *z0)
 {
     double scale = 0;
     for (int k = 0; k < tf->npoles; k++)
@@ -88,7 +88,7 @@ static int sort_candidates(response *rs, lg_tf *tf, const double complex *cand, 
     tf->origin_tol = 1e-9 * scale;
     *z0 = 0;
     for (int k = 0; k < nc; k++) {
-        if (cabs(cand[k]) <= tf->origin_tol) {
+        if (zero_ok && cabs(cand[k]) <= tf->origin_tol) {
             (*z0)++;
             continue;
         }
@@ -107,8 +107,10 @@ static int sort_candidates(response *rs, lg_tf *tf, const double complex *cand, 
     return 0;
 }
 
-/* Zeros, hidden modes and the order at s = 0. */
-static int structure(response *rs, lg_tf *tf, lw_error *err)
+/* Zeros, hidden modes and the order at s = 0: a root within SPEC 1's
+ * origin_tol counts as at s = 0 only where s = 0 can be one (pole_ok,
+ * zero_ok: response_origin_possible). */
+static int structure(response *rs, lg_tf *tf, int pole_ok, int zero_ok, lw_error *err)
 {
     int r = response_rank(rs), nc = 0, used = PENCIL_ZEROS_QZ, method = PENCIL_ZEROS_AUTO;
     int z0 = 0, p0 = 0, rc = LW_OK;
@@ -123,7 +125,8 @@ static int structure(response *rs, lg_tf *tf, lw_error *err)
             break;
         tf->nzeros = 0;
         memset(tf->hidden, 0, (size_t)tf->npoles + 1);
-        if (!sort_candidates(rs, tf, cand, nc, used == PENCIL_ZEROS_DYNAMICS_CHECK, &z0))
+        if (!sort_candidates(rs, tf, cand, nc, used == PENCIL_ZEROS_DYNAMICS_CHECK, zero_ok,
+                             &z0))
             break;
         method = PENCIL_ZEROS_QZ;
     }
@@ -131,7 +134,7 @@ static int structure(response *rs, lg_tf *tf, lw_error *err)
     if (rc)
         return rc;
     tf->zeros_qz = used == PENCIL_ZEROS_QZ;
-    for (int k = 0; k < tf->npoles; k++)
+    for (int k = 0; k < tf->npoles && pole_ok; k++)
         if (cabs(tf->poles[k]) <= tf->origin_tol)
             p0++;
     /* a mode at s = 0 that H cannot see pairs with an origin candidate */
@@ -359,20 +362,22 @@ int response_analyse(response *rs, const double complex *cl, int ncl, const resp
     tf->npoles = ncl;
     res->zero = !response_reaches(rs);
     res->hinf = response_hinf(rs);
-    int rc = LW_OK;
+    int rc = LW_OK, pole_ok = 1, zero_ok = 1;
+    if (!res->zero)
+        response_origin_possible(rs, &pole_ok, &zero_ok);
     if (res->zero) {
         memset(tf->hidden, 1, (size_t)ncl);
         tf->zeros = malloc(sizeof *tf->zeros);
         if (!tf->zeros)
             rc = lw_error_set(err, LW_ENOMEM, "out of memory");
-    } else if (!(rc = structure(rs, tf, err))) {
+    } else if (!(rc = structure(rs, tf, pole_ok, zero_ok, err))) {
         low_end(rs, tf);
     }
     if (rc) {
         response_result_free(res);
         return rc;
     }
-    for (int k = 0; k < ncl; k++)
+    for (int k = 0; k < ncl && pole_ok; k++)
         if (cabs(tf->poles[k]) <= tf->origin_tol)
             tf->poles[k] = 0;
     res->dc = tf->dc;

@@ -46,6 +46,12 @@ double complex response_eval(response *rs, double complex s);
 double response_dc(response *rs);
 /* H(infinity), the constant term. */
 double response_hinf(const response *rs);
+/* Whether s = 0 can be a root of H at all (as loopgain_tf.c asks of T):
+ * *pole when G is singular to rounding, *zero when the bordered
+ * [[G, b0], [e_to^T, 0]] is (H(0) = 0, or G singular). SPEC 1's magnitude
+ * rule alone would take a real root ten decades below the largest for one
+ * at the origin. For the source set last. */
+void response_origin_possible(const response *rs, int *pole, int *zero);
 /* 1 when some path of G or C leads from the source to `to`: otherwise H is
  * identically zero (structurally, whatever the values). */
 int response_reaches(const response *rs);

@@ -11,7 +11,9 @@ line is "N passed, M failed", and the exit status is 1 when any failed.
 The reference shares none of the C code's numerics.  H(jw) is one dense
 complex solve of (G + jwC) v = b0 + jw b1 per frequency.  Poles are the
 finite generalized eigenvalues of (-G, C) (scipy QZ); zeros those of the
-bordered pencil [[-G, b0], [e_to^T, 0]] - s [[C, -b1], [0, 0]].  The step
+bordered pencil [[-G, b0], [e_to^T, 0]] - s [[C, -b1], [0, 0]] (one below
+1e-9 of the largest pole is at s = 0 only when that pencil is singular at
+s = 0, as H(0) = 0 requires).  The step
 response comes from a state-space realization built here (numpy's eigh of C,
 a Schur complement on its null space; checked against the dense H before
 use) and scipy.linalg.expm of the augmented matrix [[A, b], [0, 0]] t, whose
@@ -96,6 +98,14 @@ class Resp:
         B[:n, :n], B[:n, n] = self.C, -self.b1
         cand, _, _, _ = R.gen_eig(A, B)
         big = max(abs(p) for p in self.poles) if self.poles else 1.0
+        # a candidate below 1e-9 of the largest pole is at s = 0 (SPEC 1) only
+        # where s = 0 can be a zero: H(0) = 0, the bordered matrix A singular
+        # (smallest singular value below 1e-13 of the largest once its rows
+        # and columns are scaled to unit largest entry)
+        Ae = A / np.maximum(np.abs(A).max(axis=1, keepdims=True), 1e-300)
+        Ae = Ae / np.maximum(np.abs(Ae).max(axis=0, keepdims=True), 1e-300)
+        sv = np.linalg.svd(Ae, compute_uv=False)
+        origin_ok = sv[-1] <= 1e-13 * sv[0]
         cand = [z for z in cand if abs(z) < 1e6 * big]
         self.hidden = set()
         self.zeros = []
@@ -105,7 +115,7 @@ class Resp:
             if near:
                 self.hidden.add(near[0])
             else:
-                self.zeros.append(0j if abs(z) <= 1e-9 * big else z)
+                self.zeros.append(0j if origin_ok and abs(z) <= 1e-9 * big else z)
 
     def H(self, s):
         v = np.linalg.solve(self.G + s * self.C, self.b0 + s * self.b1)
@@ -445,19 +455,26 @@ def compare(path, args, exe, tally):
     if not tally.check(got is not None, L + "step present"):
         return
     scale = max(abs(s["final"]), abs(s["peak_value"]))
+    # amp: how far the peak stands above the final value. Both sides know y(t)
+    # to about 1e-9 of its peak, so the figures measured against the final
+    # value (the overshoot in percent of it, the times at 10%, 90% and the
+    # settling bands) are known to that much less: 1 for an ordinary step,
+    # about 100 for an output impedance whose DC value is a hundredth of
+    # its peak (tests/ref/resp/wide_span.loop)
+    amp = scale / abs(s["final"]) if s["final"] != 0 else 1.0
     for key in ("initial", "final", "peak_value"):
         R.num_close(tally, L + "step " + key, s[key], got[key], abs_=1e-9 * scale)
     for key in ("overshoot_pct", "undershoot_pct"):
-        R.num_close(tally, L + "step " + key, s[key], got[key], abs_=1e-6)
+        R.num_close(tally, L + "step " + key, s[key], got[key], abs_=1e-6 * amp)
     for key in ("peak_time_s", "rise_time_s"):
         if s[key] is None or got[key] is None:
             tally.check(s[key] is None and got[key] is None, L + "step " + key,
                         "ref %r, reported %r" % (s[key], got[key]))
         else:
-            R.num_close(tally, L + "step " + key, s[key], got[key], rel=1e-7)
+            R.num_close(tally, L + "step " + key, s[key], got[key], rel=1e-7 * amp)
     for key in ("1", "0.1"):
         R.num_close(tally, L + "step settle " + key + "%", s["settle_s"][key],
-                    got["settle_s"][key], rel=1e-7)
+                    got["settle_s"][key], rel=1e-7 * amp)
     sm, gm = s["slow_mode"], got["slow_mode"]
     if sm is None or gm is None:
         tally.check(sm is None and gm is None, L + "slow mode", "ref %r, got %r" % (sm, gm))
