@@ -159,15 +159,33 @@ static void dimension(FILE *s, const panel *p, double hz, double y0, double y1,
             PLOT_ACCENT);
 }
 
+/* Where phase crossing k is drawn on the log frequency axis: a crossing at
+ * DC (T(0) < 0) at the band's low end, where T is T(0) to the drawing's
+ * accuracy (the band starts three decades below every root). */
+static double mark_hz(const margins *mg, int k)
+{
+    return mg->phase[k].hz > 0 ? mg->phase[k].hz : mg->fmin_hz;
+}
+
 static void magnitude_marks(FILE *s, const panel *p)
 {
     const margins *mg = &p->r->mg;
     char text[96];
     for (int k = 0; k < mg->nphase && k < BODE_MAX_MARKS; k++) {
         double gm = mg->phase[k].value;
-        snprintf(text, sizeof text, "gain margin %.1f dB%s", gm,
+        snprintf(text, sizeof text, "gain margin %.1f dB%s%s", gm, mg->phase[k].hz > 0 ? "" : " at DC",
                  mg->nphase > 1 && k == mg->best_phase ? " (smallest)" : "");
-        dimension(s, p, mg->phase[k].hz, 0.0, -gm, text, 0, k);
+        if (mg->phase[k].hz > 0) {
+            dimension(s, p, mg->phase[k].hz, 0.0, -gm, text, 0, k);
+            continue;
+        }
+        /* at DC the curve runs flat at -gm beside the bar at the left edge:
+         * the label sits on the other side of the 0 dB line */
+        fprintf(s, "set arrow from %.10g, first 0 to %.10g, first %.6g heads size screen "
+                "0.011,90 lw 2.6 lc rgb '%s' front\n", mark_hz(mg, k), mark_hz(mg, k), -gm,
+                PLOT_ACCENT);
+        fprintf(s, "set label \"%s\" at %.10g, first 0 left offset 1.6,%s tc rgb '%s' front\n",
+                text, mark_hz(mg, k), gm >= 0 ? "0.9" : "-0.9", PLOT_ACCENT);
     }
     char a[32];
     for (int k = 0; k < mg->ncross; k++) {
@@ -204,11 +222,11 @@ static void phase_marks(FILE *s, const panel *p)
         double y = -180.0 + 360.0 * round((ph + 180.0) / 360.0);
         /* a filled diamond: the phase-crossing mark of every picture */
         fprintf(s, "set label '' at %.10g, first %.6g point pt %d ps 1.8 lc rgb '%s' front\n",
-                mg->phase[k].hz, y, FIG_PT_PHASE_CROSSING, PLOT_INK);
+                mark_hz(mg, k), y, FIG_PT_PHASE_CROSSING, PLOT_INK);
         if (k < BODE_MAX_MARKS)
             fprintf(s, "set label \"%.0f\xC2\xB0 at %s\" at %.10g, first %.6g left offset "
                     "0.8,0.9 font ',9' tc rgb '%s' front\n", y,
-                    si_format(mg->phase[k].hz, "Hz", a, sizeof a), mg->phase[k].hz, y, PLOT_INK);
+                    margin_where(mg->phase[k].hz, a, sizeof a), mark_hz(mg, k), y, PLOT_INK);
     }
     if (mg->nphase == 0)
         fprintf(s, "set label \"the phase never reaches -180\xC2\xB0: the gain margin is "

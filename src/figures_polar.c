@@ -225,7 +225,7 @@ static void notes(FILE *s, const check_result *r, const drawing *g, double x, do
         if (width < 44) {
             /* no room for two columns: one line each, wrapped */
             double mag, ph = cross ? 0 : margin_phase(r->lg, &r->tf, pt->hz, &mag, NULL);
-            si_format(pt->hz, "Hz", a, sizeof a);
+            margin_where(pt->hz, a, sizeof a);
             if (cross)
                 snprintf(t, sizeof t, "|T| = 1 at %s: phase margin %.1f\xC2\xB0", a, pt->value);
             else
@@ -235,11 +235,11 @@ static void notes(FILE *s, const check_result *r, const drawing *g, double x, do
             continue;
         }
         if (cross) {
-            snprintf(t, sizeof t, "|T| = 1 at %s", si_format(pt->hz, "Hz", a, sizeof a));
+            snprintf(t, sizeof t, "|T| = 1 at %s", margin_where(pt->hz, a, sizeof a));
         } else {
             double mag, ph = margin_phase(r->lg, &r->tf, pt->hz, &mag, NULL);
             snprintf(t, sizeof t, "%.0f\xC2\xB0 at %s", -180.0 + 360.0 * round((ph + 180.0) / 360.0),
-                     si_format(pt->hz, "Hz", a, sizeof a));
+                     margin_where(pt->hz, a, sizeof a));
         }
         fprintf(s, "set label \"%s\" at screen %.4f, screen %.4f left font ',9' tc rgb '%s' "
                 "front\n", t, x, y, PLOT_INK);
@@ -288,7 +288,7 @@ static void crossing_labels(FILE *s, layout *l, const check_result *r, double rh
         } else {
             double ph = margin_phase(r->lg, &r->tf, hz, &mag, NULL);
             snprintf(t, sizeof t, "%.0f\xC2\xB0 at %s", -180.0 + 360.0 * round((ph + 180.0) / 360.0),
-                     si_format(hz, "Hz", a, sizeof a));
+                     margin_where(hz, a, sizeof a));
         }
         layout_label lb;
         if (!layout_place(l, creal(p), cimag(p), 5, text_chars(t), 12, &lb))

@@ -5,9 +5,12 @@
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_roots.h>
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
 
 #include "loopwise/fform.h"
+#include "loopwise/units.h"
 
 #define TWO_PI 6.283185307179586
 #define DEG (180.0 / 3.14159265358979323846)
@@ -499,6 +502,28 @@ static int scan_exact(fparams *fp, margins *m, const double *u, int n)
     return rc;
 }
 
+/* T(0) < 0 and finite: the phase starts on -180 degrees at f = 0 (SPEC 1:
+ * every frequency where it is -180 + 360 m), and the gain margin there is
+ * that of T(0) itself. First in the list, which runs up in frequency. */
+static void dc_point(const lg_tf *tf, margins *m)
+{
+    if (tf->origin != 0 || !(tf->dc < 0) || !isfinite(tf->dc))
+        return;
+    int n = m->nphase < MARGIN_MAX_POINTS ? m->nphase : MARGIN_MAX_POINTS - 1;
+    memmove(m->phase + 1, m->phase, sizeof *m->phase * (size_t)n);
+    m->phase[0] = (margin_point){ 0.0, -20.0 * log10(-tf->dc) };
+    m->nphase = n + 1;
+}
+
+char *margin_where(double hz, char *buf, size_t size)
+{
+    if (hz == 0) {
+        snprintf(buf, size, "DC");
+        return buf;
+    }
+    return si_format(hz, "Hz", buf, size);
+}
+
 static int find(lgain *lg, const lg_tf *tf, double flo, double fhi, int exact, margins *m,
                 lw_error *err)
 {
@@ -526,6 +551,8 @@ static int find(lgain *lg, const lg_tf *tf, double flo, double fhi, int exact, m
     gsl_set_error_handler(old);
     free(u);
     fform_free(&ff);
+    if (rc == LW_OK)
+        dc_point(tf, m);
     pick_best(m);
     if (rc == LW_ENOMEM)
         return lw_error_set(err, rc, "out of memory");

@@ -168,6 +168,11 @@ static void section_gain(FILE *f, const desc *d, const model *m, const check_res
     if (mg->nphase == 0)
         fprintf(f, "  gain margin     unbounded: the phase never reaches -180\xC2\xB0 (mod 360\xC2\xB0) "
                 "in the band\n");
+    else if (mg->phase[mg->best_phase].hz == 0)
+        fprintf(f, "  gain margin     %.2f dB, at DC: T(0) is negative, on -180\xC2\xB0 already "
+                "(a loop gain %s by that much puts a closed-loop pole at s = 0)\n",
+                units_no_neg_zero(mg->phase[mg->best_phase].value, 2),
+                mg->phase[mg->best_phase].value >= 0 ? "higher" : "lower");
     else
         fprintf(f, "  gain margin     %.2f dB, where the phase reaches -180\xC2\xB0 (%s)\n",
                 units_no_neg_zero(mg->phase[mg->best_phase].value, 2),
@@ -335,7 +340,7 @@ static void verdict(FILE *f, const check_result *r, report_target t)
         fprintf(f, "Note: conditionally stable: the loop is stable, but its gain margin is "
                 "negative (%.1f dB at %s): a gain %.1f dB lower would make it unstable.\n",
                 mg->phase[mg->best_phase].value,
-                si_format(mg->phase[mg->best_phase].hz, "Hz", (char[32]){ 0 }, 32),
+                margin_where(mg->phase[mg->best_phase].hz, (char[32]){ 0 }, 32),
                 -mg->phase[mg->best_phase].value);
     int olrhp = 0;
     for (int k = 0; k < r->tf.npoles; k++)

@@ -45,7 +45,7 @@
 extern "C" {
 #endif
 
-#define LOOPWISE_VERSION "0.3.0"
+#define LOOPWISE_VERSION "0.3.1"
 
 /* The entry points: the only symbols the installed library exports (the
  * library is built with hidden visibility; see the Makefile). */

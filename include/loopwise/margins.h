@@ -15,7 +15,7 @@
 enum { MARGIN_MAX_POINTS = 64, MARGIN_PER_DECADE = 10 };
 
 typedef struct margin_point {
-    double hz;
+    double hz;           /* 0 for the gain margin of T(0) < 0, at DC (margins_find) */
     double value;        /* phase margin (deg) at a crossover, gain margin (dB) at a phase crossing */
 } margin_point;
 
@@ -43,7 +43,11 @@ double margin_phase(lgain *lg, const lg_tf *tf, double hz, double *mag, int *mis
 void margin_band(const lg_tf *tf, const double complex *cl, int ncl, double *flo, double *fhi);
 
 /* Scans the band on the factored form, brackets every crossover and phase
- * crossing there and polishes each on the exact T. Where the factored form
+ * crossing there and polishes each on the exact T. When T(0) is finite and
+ * negative (net positive feedback), the phase is -180 degrees at f = 0
+ * itself: the first phase crossing is there, at hz = 0, with the gain
+ * margin -20 log10 |T(0)| (a loop gain that much higher puts a closed-loop
+ * pole at s = 0). Where the factored form
  * and the exact T disagree (spot checks in mid band and at every root found)
  * m->mismatch counts it. */
 /* The scan grid (log10 f, rising, allocated; the caller frees it): a log
@@ -54,6 +58,10 @@ double *margin_grid(const lg_tf *tf, double flo, double fhi, int per_decade, int
 
 int margins_find(lgain *lg, const lg_tf *tf, double flo, double fhi, margins *m,
                  lw_error *err);
+/* Where a margin point lies, for a person: "DC" at 0 Hz, else f with its
+ * SI prefix and Hz (units.h). Returns buf. */
+char *margin_where(double hz, char *buf, size_t size);
+
 /* The same on the exact T alone, the phase unwrapped along an adaptive grid
  * (steps of at most 15 degrees) from the low-frequency anchor: slower, and
  * independent of the zeros; for when the factored form cannot be trusted. */

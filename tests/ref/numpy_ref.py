@@ -648,6 +648,11 @@ class Ref:
                                     maxiter=200)
                 gm = -20.0 * math.log10(abs(self.T(1j * TWO_PI * fp)))
                 self.phase_crossings.append((fp, gm))
+        if math.isfinite(self.T0) and self.T0 < 0:
+            # SPEC 1: the gain margin counts at every frequency where the phase
+            # is -180 + 360 m; with T(0) finite and negative that is f = 0
+            # itself, where a gain 1/|T(0)| higher puts a closed-loop pole at 0
+            self.phase_crossings.insert(0, (0.0, -20.0 * math.log10(-self.T0)))
         if self.phase_crossings:
             self.phase_crossover_hz, self.gm = min(self.phase_crossings,
                                                    key=lambda c: c[1])
@@ -1146,6 +1151,9 @@ class Truth:
                                     maxiter=200)
                 gm = -self.logmag(TWO_PI * fp) / math.log(10.0) * 20.0
                 self.phase_crossings.append((fp, gm))
+        if math.isfinite(self.T0) and self.T0 < 0:
+            # as in Ref._margins, from the exact T(0)
+            self.phase_crossings.insert(0, (0.0, -20.0 * math.log10(-self.T0)))
         if self.phase_crossings:
             self.phase_crossover_hz, self.gm = min(self.phase_crossings,
                                                    key=lambda c: c[1])

@@ -316,6 +316,46 @@ static void test_zero_with_poles_decades_apart(void **state)
     release(&x);
 }
 
+/* Net positive feedback, one pole: T(s) = -A/(1 + s/p) with p = 1/(RC).
+ * Its phase starts on -180 degrees at f = 0 and falls from there to -270,
+ * so the only phase crossing is at DC, with GM = -20 log10 A (SPEC 1: every
+ * frequency where the phase is -180 + 360 m); a gain 1/A higher makes
+ * 1 + T(0) = 0, a closed-loop pole at s = 0. The closed loop has its pole
+ * at s = -p (1 - A): stable exactly for A < 1. For A > 1, |T| = 1 at
+ * f = p sqrt(A^2 - 1) with PM = -atan(sqrt(A^2 - 1)) (closed forms, worked
+ * by hand). */
+static void test_positive_feedback_gain_margin_at_dc(void **state)
+{
+    (void)state;
+    const double R = 10e3, C = 1.6e-9;
+    const double gains[] = { 0.5, 0.9, 2.0 };
+    for (int k = 0; k < 3; k++) {
+        double A = gains[k], p = 1 / (2 * PI_ * R * C);
+        run x;
+        analyse(&x,
+                "node x r=%.17g c=%.17g\n"
+                "node y r=1k\n"
+                "gm gf y -> x %.17g\n"
+                "gm gb x -> y 1m\n"
+                "loop main positive x y\n",
+                R, C, A / R);
+        assert_rel(x.r.tf.dc, -A, 1e-12);
+        assert_int_equal(x.r.mg.nphase, 1);
+        margin_point g = best_phase(&x);
+        assert_true(g.hz == 0);
+        assert_rel(g.value, -20 * log10(A), 1e-12);
+        assert_int_equal(x.r.stable, A < 1);
+        if (A < 1) {
+            assert_int_equal(x.r.mg.ncross, 0);
+        } else {
+            margin_point c = best_cross(&x);
+            assert_rel(c.hz, p * sqrt(A * A - 1), 1e-8);
+            assert_rel(c.value, -atan(sqrt(A * A - 1)) * DEG_, 1e-7);
+        }
+        release(&x);
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -329,6 +369,7 @@ int main(void)
         cmocka_unit_test(test_exact_scan_three_poles),
         cmocka_unit_test(test_wrong_structure_noticed),
         cmocka_unit_test(test_zero_with_poles_decades_apart),
+        cmocka_unit_test(test_positive_feedback_gain_margin_at_dc),
     };
     return cmocka_run_group_tests_name("margins", tests, NULL, NULL);
 }
