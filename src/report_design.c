@@ -353,7 +353,7 @@ static int sets_name(const char *set, const char *what)
  * in the file's number syntax), and the value the compensation table ranks
  * highest at that load. */
 static void size_suggestion(FILE *f, const desc *d, const load_result *r,
-                            const char *const *sets, int nsets)
+                            const char *const *sets, int nsets, design_goal g)
 {
     const char *name = d->nodes[r->node].name;
     char field[DESC_MAX_NAME + 8], own[32], load[32], tune[DESC_MAX_NAME + 8];
@@ -376,7 +376,13 @@ static void size_suggestion(FILE *f, const desc *d, const load_result *r,
         fprintf(f, " --set %s=%s+%s", field, si_word(r->c_node, own, sizeof own), load);
     else
         fprintf(f, " --set %s=%s", field, load);
-    fprintf(f, " --tune %s\n", tune);
+    fprintf(f, " --tune %s", tune);
+    /* the goal the load was judged by, so the size command sizes for it */
+    if (g.pm_given)
+        fprintf(f, " --pm %.17g", g.pm_deg);
+    if (!isnan(g.gm_db))
+        fprintf(f, " --gm %.17g", g.gm_db);
+    fputc('\n', f);
     if (r->advice_index >= 0) {
         const char *what = r->advice_kind == ROW_NODE ? "the capacitance to ground at"
                            : r->advice_kind == ROW_CAP ? "cap" : "res";
@@ -403,7 +409,7 @@ static void size_suggestion(FILE *f, const desc *d, const load_result *r,
  * highest with that load in place is the one to size) or isolated by a
  * buffer. */
 static void load_remedy(FILE *f, const desc *d, const load_result *r, const char *const *sets,
-                        int nsets)
+                        int nsets, design_goal g)
 {
     int node = r->node;
     const char *name = d->nodes[node].name;
@@ -448,7 +454,7 @@ static void load_remedy(FILE *f, const desc *d, const load_result *r, const char
     char a[32];
     fprintf(f, "  Compensate for the load: size the compensation with the load that costs the "
             "most margin (%s) in place, e.g.\n", si_format(r->worst_load, "F", a, sizeof a));
-    size_suggestion(f, d, r, sets, nsets);
+    size_suggestion(f, d, r, sets, nsets, g);
     fputs("  or isolate the load from the loop with a buffer.\n", f);
 }
 
@@ -573,5 +579,5 @@ void report_load(FILE *f, const desc *d, const load_result *r, double lo, double
         return;
     }
     load_verdict(f, r, lo, hi, g);
-    load_remedy(f, d, r, sets, nsets);
+    load_remedy(f, d, r, sets, nsets, g);
 }

@@ -150,6 +150,15 @@ PYEOF
 "$LW" load cases/twostage.loop --node out --cload 1p..20p --points 5 >"$tmp/o" 2>/dev/null
 ! grep -q "matched copy" "$tmp/o" && grep -q "loopwise size cases/twostage.loop --set out.c=4p+20p --tune cc$" "$tmp/o" &&
     ok || bad "load: the remedy for an amplifier's own output"
+# ... and with a target given, the suggested command sizes for that target, and what it
+# finds meets it (its own exit code 0)
+"$LW" load cases/twostage.loop --node out --cload 1p..20p --points 5 --pm 80 --gm 12 >"$tmp/o" 2>/dev/null
+cmdline=$(sed -n 's/^    loopwise size \(.*\)$/\1/p' "$tmp/o")
+[ "$cmdline" = "cases/twostage.loop --set out.c=4p+20p --tune cc --pm 80 --gm 12" ] &&
+    ok || bad "load: the suggested size command drops the target: $cmdline"
+# shellcheck disable=SC2086
+"$LW" size $cmdline --json >"$tmp/s.json" 2>/dev/null && $PY -c "import json,sys; d=json.load(open(sys.argv[1])); assert d['met'] and abs(d['phase_margin_deg'] - 80) < 1e-6 and d['gain_margin_db'] >= 12, d" "$tmp/s.json" &&
+    ok || bad "load: the suggested size command does not size for --pm 80"
 "$LW" load $R --node brb --cload 0.1p..10p --points 5 >"$tmp/o" 2>/dev/null
 grep -q "matched copy of 'g_srcb' outside the loop, as 'g_srco' already does for 'vref'" "$tmp/o" &&
     ok || bad "load: the remedy for a mirrored branch"
