@@ -188,6 +188,32 @@ static int refine(refine_ctx *c, double a, double b, double *root)
     return LW_OK;
 }
 
+/* Where the closed loop's stability changes between a (stable_a) and b:
+ * bisection on the verdict (in ln v when logscale) to 1e-7 relative in v.
+ * The verdict is a step, not a smooth function: Brent has nothing to fit. */
+static int stability_edge(refine_ctx *c, double a, double b, int stable_a, double *edge)
+{
+    double xa = c->logscale ? log(a) : a, xb = c->logscale ? log(b) : b;
+    for (int it = 0; it < 200; it++) {
+        double tol = c->logscale ? 1e-7 : 1e-7 * fmax(fabs(xa), fabs(xb));
+        if (!(fabs(xb - xa) > tol))
+            break;
+        double xm = 0.5 * (xa + xb);
+        design_point pt;
+        int rc = design_eval(c->d, c->t, (c->logscale ? exp(xm) : xm) + c->offset, c->o, &pt,
+                             c->err);
+        if (rc)
+            return rc;
+        if (pt.stable == stable_a)
+            xa = xm;
+        else
+            xb = xm;
+    }
+    double x = 0.5 * (xa + xb);
+    *edge = c->logscale ? exp(x) : x;
+    return LW_OK;
+}
+
 /* ---- sweep ------------------------------------------------------------- */
 
 void sweep_result_free(sweep_result *r)
@@ -196,6 +222,7 @@ void sweep_result_free(sweep_result *r)
         return;
     free(r->pts);
     free(r->cross);
+    free(r->edge);
     memset(r, 0, sizeof *r);
 }
 
@@ -250,7 +277,8 @@ static int sweep_points(desc *d, desc_target t, double from, double to, double o
         r->probe = *probe;
     r->pts = calloc((size_t)npts, sizeof *r->pts);
     r->cross = calloc((size_t)npts, sizeof *r->cross);
-    if (!r->pts || !r->cross) {
+    r->edge = calloc((size_t)npts, sizeof *r->edge);
+    if (!r->pts || !r->cross || !r->edge) {
         sweep_result_free(r);
         return lw_error_set(err, LW_ENOMEM, "out of memory");
     }
@@ -277,6 +305,15 @@ static int sweep_points(desc *d, desc_target t, double from, double to, double o
         if ((rc = refine(&c, r->pts[k - 1].value, r->pts[k].value, &root)))
             break;
         r->cross[r->ncross++] = (design_crossing){ root, b >= 0 };
+    }
+    for (int k = 1; k < r->npts && !rc; k++) {
+        if (r->pts[k - 1].stable == r->pts[k].stable)
+            continue;
+        double edge = r->pts[k].value;
+        if ((rc = stability_edge(&c, r->pts[k - 1].value, r->pts[k].value, r->pts[k - 1].stable,
+                                 &edge)))
+            break;
+        r->edge[r->nedge++] = (design_crossing){ edge, r->pts[k].stable };
     }
     gsl_set_error_handler(old);
     desc_eval(d, err);

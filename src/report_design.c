@@ -201,6 +201,12 @@ void report_sweep(FILE *f, const desc *d, const char *name, desc_target t,
             json_number(f, r->cross[k].value);
             fprintf(f, ", \"direction\": \"%s\"}", r->cross[k].rises ? "rises" : "falls");
         }
+        fputs("],\n \"stability_changes\": [", f);
+        for (int k = 0; k < r->nedge; k++) {
+            fprintf(f, "%s{\"value\": ", k ? ", " : "");
+            json_number(f, r->edge[k].value);
+            fprintf(f, ", \"becomes\": \"%s\"}", r->edge[k].rises ? "stable" : "unstable");
+        }
         fprintf(f, "],\n \"met\": %s}\n", r->missed ? "false" : "true");
         return;
     }
@@ -233,6 +239,10 @@ void report_sweep(FILE *f, const desc *d, const char *name, desc_target t,
                 r->pts[worst].pm_deg, name, si_format(r->pts[worst].value, unit, a, sizeof a));
     if (unstable)
         fprintf(f, "%d of %d points are unstable (marked NO).\n", unstable, r->npts);
+    for (int k = 0; k < r->nedge; k++)
+        fprintf(f, "The closed loop turns %s as %s grows through %s.\n",
+                r->edge[k].rises ? "stable" : "UNSTABLE", name,
+                si_format(r->edge[k].value, unit, a, sizeof a));
 }
 
 static void text_cl_poles(FILE *f, const check_result *at)

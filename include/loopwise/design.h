@@ -83,6 +83,8 @@ typedef struct sweep_result {
     int npts;
     design_crossing *cross;
     int ncross;
+    design_crossing *edge;  /* where the closed loop turns stable (rises = 1) or unstable */
+    int nedge;              /* as the value grows: bisected to 1e-7 between two points */
     int missed;             /* some point misses the goal */
     int failed;             /* some point fails the exit-code rule (design_fails) */
     int probed;             /* the points carry a response's figures (sweep --to) */

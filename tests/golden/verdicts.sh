@@ -238,6 +238,35 @@ assert run.returncode in (0, 1) and run.stdout.startswith("loopwise size: "), ru
 PYEOF
 done
 
+# Where a sweep crosses the stability boundary: three identical inverting gm-RC stages
+# in a ring, T(s) = A/(1 + s/p)^3, are stable exactly for A < 8 (Routh-Hurwitz on
+# (1 + s/p)^3 + A: 3 * 3 > 1 + A, worked by hand); a sweep of A over 2..20 turns unstable
+# between two points and says where, to 1e-7 (the stated bisection), in text and JSON.
+cat >"$tmp/ring3a.loop" <<'EOF'
+param A = 2
+param gs = A^(1/3) / 10k
+node n1 r=10k c=2p
+node n2 r=10k c=2p
+node n3 r=10k c=2p
+gm g1 n3 -> n1 -gs
+gm g2 n1 -> n2 -gs
+gm g3 n2 -> n3 -gs
+loop ring negative n1 n2 n3
+EOF
+"$LW" sweep "$tmp/ring3a.loop" --vary A --from 2 --to 20 --points 5 --json >"$tmp/edge.json" 2>/dev/null
+$PY - "$tmp/edge.json" <<'PYEOF' && ok || bad "sweep: the stability boundary of a three-pole ring at A = 8"
+import json, sys
+d = json.load(open(sys.argv[1]))
+e = d["stability_changes"]
+assert len(e) == 1 and e[0]["becomes"] == "unstable", e
+assert abs(e[0]["value"] / 8 - 1) < 2e-7, e
+# A = 2 * 10^(k/4): 2, 3.56, 6.32, 11.2, 20
+assert [p["stable"] for p in d["points"]] == [True, True, True, False, False], d["points"]
+PYEOF
+"$LW" sweep "$tmp/ring3a.loop" --vary A --from 2 --to 20 --points 5 --lin 2>/dev/null |
+    grep -q "^The closed loop turns UNSTABLE as A grows through 8\.$" && ok ||
+    bad "sweep: the text names the stability boundary (linear sweep)"
+
 echo "verdicts: $pass passed, $fail failed"
 echo "$pass passed, $fail failed"
 [ "$fail" = 0 ]
