@@ -3,6 +3,7 @@
 
 #include <stdarg.h>
 #include <string.h>
+#include <strings.h>
 
 void lw_error_clear(lw_error *e)
 {
@@ -91,6 +92,8 @@ const char *lw_closest(const char *name, const char *const *cands, int ncands)
     int len = (int)strlen(name);
     int limit = len <= 3 ? 1 : (len <= 6 ? 2 : 3);
     for (int k = 0; k < ncands; k++) {
+        if (!strcasecmp(name, cands[k]))
+            return cands[k]; /* the same name in other letter case: surely meant */
         int d = edit_distance(name, cands[k]);
         if (d < bestd) {
             bestd = d;

@@ -2,6 +2,7 @@
  * read by cli_parse.c from the option table; this file runs the pipeline
  *   text -> desc -> model -> check -> report
  * and maps statuses to exit codes (SPEC section 5). */
+#include <ctype.h>
 #include <gsl/gsl_errno.h>
 #include <math.h>
 #include <stdio.h>
@@ -21,6 +22,40 @@ static int exit_code(int rc)
     return rc == LW_EINPUT ? 2 : 3;
 }
 
+/* 1 when the NAME of a --set NAME=EXPR stands as a word in the line src. */
+static int set_on_line(const char *set, const char *src)
+{
+    size_t n = strcspn(set, "=");
+    for (const char *p = src; n > 0 && *p; p++) {
+        if (strncmp(p, set, n) != 0)
+            continue;
+        int before = p == src || !(isalnum((unsigned char)p[-1]) || p[-1] == '_');
+        int after = !(isalnum((unsigned char)p[n]) || p[n] == '_');
+        if (before && after)
+            return 1;
+    }
+    return 0;
+}
+
+/* A value the file cannot take after --set: the message names the --set
+ * values behind it (those named on the failing line, or else every one),
+ * since the file itself may be fine. */
+static void blame_sets(const options *o, lw_error *err)
+{
+    char add[LW_MSG_MAX] = "";
+    int named = 0;
+    for (int all = 0; all < 2 && !named; all++)
+        for (int k = 0; k < o->nsets; k++)
+            if (all || set_on_line(o->sets[k], err->src)) {
+                size_t len = strlen(add);
+                snprintf(add + len, sizeof add - len, "%s--set %s", named++ ? ", " : "",
+                         o->sets[k]);
+            }
+    size_t len = strlen(err->msg);
+    if (named)
+        snprintf(err->msg + len, sizeof err->msg - len, " (from %s)", add);
+}
+
 /* Loads, overrides and evaluates the description, and builds the model. */
 static int load(const options *o, text_file **t, desc **d, model **m, lw_error *err)
 {
@@ -29,8 +64,8 @@ static int load(const options *o, text_file **t, desc **d, model **m, lw_error *
         rc = desc_parse(*t, strcmp(o->file, "-") ? o->file : "<stdin>", d, err);
     for (int k = 0; !rc && k < o->nsets; k++)
         rc = desc_set(*d, o->sets[k], err);
-    if (!rc)
-        rc = desc_eval(*d, err);
+    if (!rc && (rc = desc_eval(*d, err)) == LW_EINPUT && o->nsets > 0)
+        blame_sets(o, err);
     if (!rc)
         rc = model_new(*d, m, err);
     return rc;

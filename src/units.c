@@ -51,7 +51,9 @@ static char *format(double v, const char *unit, char *buf, size_t size, int plus
         return buf;
     }
     mantissa(m, digits, mb, sizeof mb);
-    snprintf(buf, size, "%s%s%s%s%s", sign, mb, *unit || e3 ? " " : "", prefixes[e3 + 6], unit);
+    /* a prefix without a unit is glued on, as the file writes numbers: "1m"
+     * (a dimensionless param) would read as a length with the space */
+    snprintf(buf, size, "%s%s%s%s%s", sign, mb, *unit ? " " : "", prefixes[e3 + 6], unit);
     return buf;
 }
 

@@ -311,9 +311,10 @@ grep -q "^  3 mS " "$tmp/o" && ok || bad "sweep: a param feeding a gm prints in 
 grep -q "^  3  *[0-9]" "$tmp/o" && ok || bad "sweep: a param inside a product prints without a unit"
 
 # the margin picture's value axis in the units of the table: k has none, so its ticks
-# carry the SI prefix as the table's rows do ('500 m'), and its label is the name alone
+# carry the SI prefix glued on as the table's rows do ('500m', the file's own way of
+# writing the number; '500 m' would read as metres), and its label is the name alone
 "$LW" sweep $G/nulling.loop --vary k --from 0.5 --to 3 --points 5 -o "$tmp/k.png" --keep-script "$tmp/kk" >"$tmp/o" 2>/dev/null
-grep -q "^  500 m  " "$tmp/o" && grep -q "^set xtics ('500 m' 0.5, '700 m' 0.7, '1' 1, " "$tmp/kk/plot.gp" &&
+grep -q "^  500m  " "$tmp/o" && grep -q "^set xtics ('500m' 0.5, '700m' 0.7, '1' 1, " "$tmp/kk/plot.gp" &&
     grep -q "^set xlabel 'k' noenhanced" "$tmp/kk/plot.gp" && ok || bad "sweep -o: the value axis is not in the table's units"
 
 echo "rules: $pass passed, $fail failed"
