@@ -64,8 +64,8 @@ static int load(const options *o, text_file **t, desc **d, model **m, lw_error *
         rc = desc_parse(*t, strcmp(o->file, "-") ? o->file : "<stdin>", d, err);
     for (int k = 0; !rc && k < o->nsets; k++)
         rc = desc_set(*d, o->sets[k], err);
-    if (!rc && (rc = desc_eval(*d, err)) == LW_EINPUT && o->nsets > 0)
-        blame_sets(o, err);
+    if (!rc && (rc = desc_eval(*d, err)) == LW_EINPUT && o->nsets > 0 && err->line > 0)
+        blame_sets(o, err); /* at a line of the file (a --set's own value is named already) */
     if (!rc)
         rc = model_new(*d, m, err);
     return rc;

@@ -202,7 +202,8 @@ static void section_poles(FILE *f, const desc *d, const check_result *r)
         if (o >= 0 && isfinite(r->estimate_hz[o]))
             si_format(r->estimate_hz[o], "Hz", e, sizeof e);
         else
-            snprintf(e, sizeof e, o >= 0 ? "- (no R to ground)" : "-");
+            snprintf(e, sizeof e, o < 0 ? "-" : isfinite(d->nodes[o].r) ? "- (no C to ground)"
+                                                                        : "- (no R to ground)");
         hidden |= tf->hidden[k];
         fprintf(f, "  %-3d %-30s %-6s %-10s %s%s\n", idx++, root_text(tf->poles[k], s, sizeof s),
                 a, o >= 0 ? d->nodes[o].name : "-", e, tf->hidden[k] ? "  (not seen by T)" : "");

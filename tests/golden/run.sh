@@ -75,6 +75,25 @@ done
 "$LW" check cases/twostage.loop --set nosuch=1 >"$tmp/o" 2>"$tmp/e"
 [ $? = 2 ] && [ ! -s "$tmp/o" ] && grep -q "unknown param or element 'nosuch'" "$tmp/e" && ok ||
     bad "--set of an unknown name"
+# the same name in other letter case is the one suggested (not a closer spelling of another)
+"$LW" check cases/twostage.loop --set Gm1=100u 2>&1 >/dev/null | grep -q "did you mean 'gm1'" && ok ||
+    bad "--set Gm1: the suggestion is not gm1"
+# a value the file cannot take because of a --set: an element's own value is named by
+# its --set already; a param's is named after the message at the file line that uses it
+# (the --set named on that line, or else every one given)
+"$LW" check cases/twostage.loop --set gm2=1m --set 'cc=0' >"$tmp/o" 2>"$tmp/e"
+[ $? = 2 ] && [ ! -s "$tmp/o" ] && head -n 1 "$tmp/e" | grep -q "^loopwise: --set cc: a capacitance must be positive and finite, got 0$" &&
+    ok || bad "--set cc=0: $(head -n 1 "$tmp/e")"
+printf 'param k = 1\nparam q = 2\nnode a r=1k/k c=1p\nnode b r=1k*q c=1p\ngm g1 a -> b -1m\ngm g2 b -> a -1m\nloop l negative a b\n' >"$tmp/k.loop"
+"$LW" check "$tmp/k.loop" --set q=3 --set k=-2 2>&1 >/dev/null | head -n 1 |
+    grep -q "^$tmp/k.loop:3:[0-9]*: .*got -500 (from --set k=-2)$" && ok ||
+    bad "--set k=-2 through an expression: the message does not name the --set"
+printf 'param k = 1\nparam r0 = 1k/k\nnode a r=r0 c=1p\nnode b r=1k c=1p\ngm g1 a -> b -1m\ngm g2 b -> a -1m\nloop l negative a b\n' >"$tmp/k2.loop"
+"$LW" check "$tmp/k2.loop" --set k=-2 2>&1 >/dev/null | head -n 1 | grep -q "(from --set k=-2)$" && ok ||
+    bad "--set k=-2 two params away: the message does not name the --set"
+# a node whose capacitance to ground is zero has no one-pole estimate for that reason
+"$LW" check cases/twostage.loop --set cl=0 | grep -Eq "^  [0-9]+ .* out +- \(no C to ground\)$" && ok ||
+    bad "check: a node with R but no C to ground is said to lack R"
 "$LW" check cases/twostage.loop --pm 89 >/dev/null 2>&1
 [ $? = 1 ] && ok || bad "--pm above the margin must exit 1"
 "$LW" frobnicate cases/twostage.loop >/dev/null 2>&1
