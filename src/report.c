@@ -83,7 +83,8 @@ static void section_loops(FILE *f, const desc *d, const model *m, const check_re
     if (isfinite(r->dominance_db))
         fprintf(f, "  negative loops over positive loops at DC: %.1f dB%s\n",
                 units_no_neg_zero(r->dominance_db, 1),
-                r->dominance_db < 6 ? "  (less than 2x: the positive loop is strong)" : "");
+                r->dominance_db < 0 ? "  (below 0 dB: the positive loops are the stronger)"
+                : r->dominance_db < 6 ? "  (less than 2x: the positive loop is strong)" : "");
 }
 
 /* The Nyquist count in one line: N, P and the Z they give, beside the
@@ -301,6 +302,8 @@ static void section_nodes(FILE *f, const desc *d, const check_result *r)
                 x->kind == ROW_NODE ? d->nodes[x->index].name : d->elems[x->index].name,
                 best_half ? x->pm_half : x->pm_double);
     }
+    if (r->mg.ncross == 0)
+        fprintf(f, "  (-: the loop has no crossover, so there is no phase margin to change)\n");
     free(w);
 }
 
