@@ -524,7 +524,24 @@ void report_map(FILE *f, const desc *d, const char *const names[2], const desc_t
         fputc('\n', f);
     }
     fputc('\n', f);
-    if (r->nedge == 0)
+    int across = -1; /* a row meeting the goal throughout beside one missing it throughout */
+    for (int i = 1; i < n && r->nedge == 0 && across < 0; i++) {
+        int met0 = 0, met1 = 0;
+        for (int j = 0; j < n; j++) {
+            met0 += design_meets(&r->pts[(i - 1) * n + j], g);
+            met1 += design_meets(&r->pts[i * n + j], g);
+        }
+        if ((met0 == n && met1 == 0) || (met0 == 0 && met1 == n))
+            across = i;
+    }
+    if (across > 0)
+        fprintf(f, "The phase margin does not cross %.4g\xC2\xB0 along %s at any %s: whole rows "
+                "meet the goal and whole rows miss it, so the boundary runs across %s (between "
+                "%s = %s and %s); give %s as the second --vary to trace it.\n", g.pm_deg,
+                names[1], names[0], names[0], names[0],
+                si_format(r->va[across - 1], ua, a, sizeof a), si_format(r->va[across], ua, b,
+                                                                          sizeof b), names[0]);
+    else if (r->nedge == 0)
         fprintf(f, "The phase margin does not cross %.4g\xC2\xB0 along %s at any %s: it is %s "
                 "throughout.\n", g.pm_deg, names[1], names[0],
                 r->missed ? "below the goal (or undefined) somewhere" : "at or above the goal");

@@ -187,6 +187,12 @@ for ext in png svg; do
     [ $? = 1 ] && [ -s "$tmp/map.$ext" ] && ok || bad "map -o $ext: $(cat "$tmp/e")"
 done
 
+# A map whose rows meet or miss whole (the boundary runs across the first axis): the
+# text says so and which way to turn the map, rather than "does not cross" alone
+"$LW" sweep cases/twostage.loop --vary cl --from 4p --to 4n --vary fb --from 0.5 --to 2 --points 4 --pm 60 >"$tmp/o" 2>/dev/null
+grep -q "whole rows meet the goal and whole rows miss it, so the boundary runs across cl (between cl = 4 pF and 40 pF); give cl as the second --vary to trace it.$" "$tmp/o" &&
+    ok || bad "sweep map: a boundary across the rows is not named"
+
 echo "across: $pass passed, $fail failed"
 echo "$pass passed, $fail failed"
 [ "$fail" = 0 ]
