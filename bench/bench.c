@@ -23,6 +23,7 @@
 
 #include "loopwise/design.h"
 #include "loopwise/eigvals.h"
+#include "clock.h"
 
 #define TWO_PI 6.283185307179586
 enum { MAX_FILES = 16, MAX_REPS = 100000 };
@@ -30,40 +31,14 @@ enum { MAX_FILES = 16, MAX_REPS = 100000 };
 static const char *const SWEEP_CAP = "ccomp";
 static const double SWEEP_FROM = 50e-15, SWEEP_TO = 10e-12, SWEEP_PM = 60.0;
 
-static double now(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
-
-static double cpu_now(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
-
 /* CPU and wall time over every timed run: CPU well below wall means other
  * processes had the core. */
 static double total_cpu, total_wall;
-
-static int cmp_double(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return x < y ? -1 : (x > y);
-}
 
 typedef struct timing {
     double sec;      /* median per run; NAN when not measured */
     int reps;        /* runs; 0 when not measured */
 } timing;
-
-static double median(double *t, int n)
-{
-    qsort(t, (size_t)n, sizeof *t, cmp_double);
-    return n % 2 ? t[n / 2] : 0.5 * (t[n / 2 - 1] + t[n / 2]);
-}
 
 static void die(const char *what, const lw_error *err, const char *path)
 {
@@ -449,10 +424,12 @@ int main(int argc, char **argv)
     int nref = 0;
     while (nref < nfiles && ref_check[nref] > 0)
         nref++;
-    printf("\ncheck time ~ N^k, least squares over N = %d..%d:  loopwise k = %.2f,  "
-           "reference k = %.2f\n", sizes[0], sizes[nref > 1 ? nref - 1 : 0],
-           exponent(sizes, check_sec, nref > 1 ? nref : nfiles),
-           exponent(sizes, ref_check, nref));
+    if (nref > 1)
+        printf("\ncheck time ~ N^k, least squares over N = %d..%d:  loopwise k = %.2f,  "
+               "reference k = %.2f\n", sizes[0], sizes[nref - 1],
+               exponent(sizes, check_sec, nref), exponent(sizes, ref_check, nref));
+    else
+        printf("\ncheck time ~ N^k: needs two sizes or more with a reference run (BENCH_SIZES)\n");
     if (nfiles > nref && nref > 1)
         printf("                  over N = %d..%d:  loopwise k = %.2f\n", sizes[0],
                sizes[nfiles - 1], exponent(sizes, check_sec, nfiles));

@@ -20,27 +20,9 @@
 #include "loopwise/step.h"
 #include "loopwise/text.h"
 
+#include "clock.h"
+
 enum { MAX_REPS = 100000, TABLE_POINTS = 121 };
-
-static double now(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
-
-static double cpu_now(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
-
-static int cmp_double(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return x < y ? -1 : (x > y);
-}
 
 static void die(const char *what, const lw_error *err, const char *path)
 {
@@ -186,12 +168,6 @@ static double one_sweep(const char *path, int npts, double *first_os)
 }
 
 typedef double (*runner)(const char *, double *);
-
-static double median(double *t, int n)
-{
-    qsort(t, (size_t)n, sizeof *t, cmp_double);
-    return n % 2 ? t[n / 2] : 0.5 * (t[n / 2 - 1] + t[n / 2]);
-}
 
 /* Median wall time per run, and in *cpu the median CPU time of the process
  * per run (on a shared machine the wall time also counts other work). */

@@ -31,21 +31,10 @@
 #include "loopwise/check.h"
 #include "loopwise/eigvals.h"
 
+#include "clock.h"
+
 enum { MAX_REPS = 1000000, ROUNDS = 5, SAMPLES = 100000 };
 static const double TARGET_S = 1.5; /* issue 12: 100,000 samples on 2 cores */
-
-static double now(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
-
-static int cmp_double(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
 
 static void die(const char *what, const lw_error *err)
 {
@@ -141,8 +130,7 @@ static void median_times(subject *s, double budget, double *us)
                 total[p] += t[p][n[p]++];
             }
     for (int p = 0; p < NPARTS; p++) {
-        qsort(t[p], (size_t)n[p], sizeof(double), cmp_double);
-        us[p] = 1e6 * (n[p] % 2 ? t[p][n[p] / 2] : 0.5 * (t[p][n[p] / 2 - 1] + t[p][n[p] / 2]));
+        us[p] = 1e6 * median(t[p], n[p]);
         free(t[p]);
     }
 }
