@@ -75,7 +75,7 @@ LIB_OBJ := $(LIB_SRC:src/%.c=$(BUILD)/%.o)
 TEST_SRC := $(wildcard tests/unit/test_*.c)
 TEST_BIN := $(TEST_SRC:tests/unit/%.c=$(BUILD)/tests/%)
 
-.PHONY: all check demo bench install uninstall clean deps unit golden reference binom bytes fuzz \
+.PHONY: all check demo bench install uninstall clean deps ldlibs unit golden reference binom bytes fuzz \
         fuzz-run sanitize sanitize-run memcheck man man-lint install-test
 
 VERSION := $(shell sed -n 's/^\#define LOOPWISE_VERSION "\(.*\)"/\1/p' include/loopwise/loopwise.h)
@@ -245,6 +245,11 @@ PC_LINES := 'prefix=$(PREFIX)' 'libdir=$(patsubst $(PREFIX)/%,$${prefix}/%,$(LIB
             'Version: $(VERSION)' \
             'Cflags: -I$${includedir}' \
             'Libs: -L$${libdir} -lloopwise $(strip $(LDLIBS))'
+
+# The libraries a program linking build/dist/libloopwise.a needs, for a build
+# against the tree without installing (README, "Use from C").
+ldlibs:
+	@echo '$(LDLIBS)'
 
 # Exactly these files; uninstall removes them and the include directory.
 INSTALLED := $(BINDIR)/loopwise $(MANDIR)/man1/loopwise.1 $(MANDIR)/man5/loopwise.5 \

@@ -68,7 +68,7 @@ typedef struct lw_message {
     char text[1024];
 } lw_message;
 
-/* "0.3.0", the library's version (LOOPWISE_VERSION when it was built). */
+/* "0.3.1", the library's version (LOOPWISE_VERSION when it was built). */
 LW_API const char *lw_version(void);
 
 /* ---- the description ------------------------------------------------- */

@@ -79,10 +79,17 @@ echo "$flags" | grep -q -- "-I$D$P/include" && echo "$flags" | grep -q -- "-lloo
     bad "pkg-config --cflags --libs loopwise lacks the header, library, GSL, LAPACK or KLU: $flags"
 $CC -std=c11 -Wall -Wextra -Werror -o "$tmp/loop_report" examples/loop_report.c $flags \
     2>"$tmp/e" && ok || bad "examples/loop_report.c does not build: $(head -n 5 "$tmp/e")"
+# ... and against the build tree without installing, as the README says: the archive
+# and the libraries 'make ldlibs' prints (the same program, the same output below)
+$CC -std=c11 -Wall -Wextra -Werror -Iinclude -o "$tmp/loop_report_tree" examples/loop_report.c \
+    build/dist/libloopwise.a $(make -s ldlibs) 2>"$tmp/e" && ok ||
+    bad "examples/loop_report.c does not build against the tree with make ldlibs: $(head -n 5 "$tmp/e")"
 
 F=cases/regulator.loop
 "$tmp/loop_report" $F --set cout=3.3u --point esr=2 --response out >"$tmp/ex.json" 2>"$tmp/e" &&
     ok || bad "loop_report: $(cat "$tmp/e")"
+"$tmp/loop_report_tree" $F --set cout=3.3u --point esr=2 --response out | cmp -s - "$tmp/ex.json" &&
+    ok || bad "loop_report built against the tree gives other output than the installed one"
 "$LW" check $F --set cout=3.3u --json >"$tmp/check.json"
 "$LW" check $F --set cout=3.3u --pm 60 >/dev/null; pm60=$?
 "$LW" sweep $F --set cout=3.3u --vary esr --from 2 --to 4 --points 2 --json >"$tmp/sweep.json"
