@@ -139,12 +139,24 @@ typedef struct refine_ctx {
     lw_error *err;
 } refine_ctx;
 
-/* Distance to the goal: positive when met. Combines phase and gain margin. */
+/* Distance to the goal: positive when met. Combines phase and gain margin.
+ * A point without a crossover has no phase margin to meet: it ranks below
+ * every point that has one, and among such points by its gain margin (from
+ * the target's, or from 0 dB). An unstable point ranks below every stable
+ * one, in the same order among its kind: the worst corner or sample, and
+ * the best value of an unreachable size, are never an unstable one while a
+ * stable one is at hand. */
 double design_goal_distance(const design_point *p, design_goal g)
 {
-    double v = isnan(p->pm_deg) ? -1e3 : p->pm_deg - g.pm_deg;
+    double v = p->pm_deg - g.pm_deg;
+    if (isnan(p->pm_deg)) {
+        double gm = isnan(p->gm_db) ? 0.0 : p->gm_db - (isnan(g.gm_db) ? 0.0 : g.gm_db);
+        v = -1e3 + fmax(-500.0, fmin(500.0, gm));
+    }
     if (!isnan(g.gm_db) && !isnan(p->gm_db)) /* NAN: unbounded, never the limit */
         v = fmin(v, p->gm_db - g.gm_db);
+    if (!p->stable)
+        v = fmin(v, 0.0) - 1e4;
     return v;
 }
 

@@ -335,7 +335,7 @@ void report_size(FILE *f, const desc *d, const char *name, desc_target t, const 
         fprintf(f, "  area            %.4g \xC2\xB5m\xC2\xB2 (about %.3g \xC2\xB5m square) at %s/\xC2\xB5m\xC2\xB2\n",
                 um2, sqrt(um2), si_format(density, "F", c, sizeof c));
     }
-    if (!r->met && !isnan(p->p2_hz))
+    if (!r->met && !isnan(p->p2_hz) && !isnan(p->pm_deg))
         fprintf(f, "  limited by      the second pole at %s%s%s%s, near the crossover\n",
                 si_format(p->p2_hz, "Hz", a, sizeof a), p->p2_node >= 0 ? " (node '" : "",
                 p->p2_node >= 0 ? d->nodes[p->p2_node].name : "", p->p2_node >= 0 ? "')" : "");

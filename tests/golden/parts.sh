@@ -108,11 +108,19 @@ for key, col in (("phase_margin_deg", "phase_margin_deg"), ("gain_margin_db", "g
     close(s["max"], float(v.max()), key + " max", 0)
     for p in (1, 5, 50, 95, 99):   # linear interpolation between order statistics
         close(s["p%d" % p], float(np.quantile(v, p / 100)), "%s p%d" % (key, p))
-# the worst sample: the least distance to the targets, the first of equals
+# the worst sample: the least distance to the targets, the first of equals; an
+# unstable sample below every stable one, one without a crossover below every one
+# with a phase margin (and ranked by its gain margin among them)
 def dist(r):
     pm, gm = num(r["phase_margin_deg"]), num(r["gain_margin_db"])
-    d = -1e3 if math.isnan(pm) else pm - 30
-    return d if math.isnan(gm) else min(d, gm - 3)
+    d = pm - 30
+    if math.isnan(pm):
+        d = -1e3 + max(-500.0, min(500.0, 0.0 if math.isnan(gm) else gm - 3))
+    if not math.isnan(gm):
+        d = min(d, gm - 3)
+    if r["stable"] != "true":
+        d = min(d, 0.0) - 1e4
+    return d
 worst = min(valid, key=lambda r: (dist(r), int(r["index"])))
 assert rep["worst"]["index"] == int(worst["index"]) + 1, (rep["worst"]["index"], worst["index"])
 PYEOF

@@ -267,6 +267,25 @@ PYEOF
     grep -q "^The closed loop turns UNSTABLE as A grows through 8\.$" && ok ||
     bad "sweep: the text names the stability boundary (linear sweep)"
 
+# Ranking without a crossover: one pole with net positive feedback, T = -A/(1 + s/p),
+# has no crossover for A < 1 (|T| <= A), a gain margin -20 log10 A at DC, and is
+# unstable for A > 1 (closed-loop pole at -p (1 - A); worked by hand). The worst corner
+# is the smallest gain margin; a size that cannot reach its target never offers an
+# unstable value as the best while a stable one exists.
+cat >"$tmp/pf.loop" <<'EOF'
+param A = 0.5  corners 0.5..0.9
+node x r=10k c=1.6n
+node y r=1k
+gm gf y -> x A/10k
+gm gb x -> y 1m
+loop main positive x y
+EOF
+"$LW" corners "$tmp/pf.loop" 2>/dev/null | grep -q "^Worst corner #2: no crossover, phase margin undefined, gain margin 0.92 dB" &&
+    ok || bad "corners: the worst of corners without a crossover is not the smallest gain margin"
+"$LW" size "$tmp/pf.loop" --tune A --within 0.5..2 --gm 3 >"$tmp/o" 2>/dev/null
+grep -q "TARGET NOT REACHABLE in the range: the best is A = 500m$" "$tmp/o" &&
+    ! grep -q "UNSTABLE" "$tmp/o" && ok || bad "size: the best of an unreachable target is not the stable A = 0.5: $(grep best "$tmp/o")"
+
 echo "verdicts: $pass passed, $fail failed"
 echo "$pass passed, $fail failed"
 [ "$fail" = 0 ]
