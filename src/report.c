@@ -330,6 +330,15 @@ static void verdict(FILE *f, const check_result *r, report_target t)
     else
         fprintf(f, "Verdict: stable, but the phase margin %.1f\xC2\xB0 is below the %.4g\xC2\xB0 "
                 "%s%s.\n", pm, t.pm_deg, word, t.given ? "" : " (give --pm to make it a target)");
+    /* a phase margin can look ample while a phase crossing sits just below
+     * unity gain (a resonance): 6 dB is the usual floor (common practice, no
+     * source) */
+    if (r->stable && !t.gm_given && mg->best_phase >= 0 && mg->phase[mg->best_phase].value >= 0 &&
+        mg->phase[mg->best_phase].value < 6)
+        fprintf(f, "Note: the gain margin is only %.2f dB (at %s): a loop gain that much higher "
+                "reaches the edge of stability; give --gm to make it a target.\n",
+                mg->phase[mg->best_phase].value,
+                margin_where(mg->phase[mg->best_phase].hz, (char[32]){ 0 }, 32));
     if (t.gm_given && mg->best_phase < 0)
         fprintf(f, "Gain margin target %.4g dB: met; the gain margin is unbounded (the phase "
                 "never reaches -180\xC2\xB0).\n", t.gm_db);

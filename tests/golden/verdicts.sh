@@ -286,6 +286,15 @@ EOF
 grep -q "TARGET NOT REACHABLE in the range: the best is A = 500m$" "$tmp/o" &&
     ! grep -q "UNSTABLE" "$tmp/o" && ok || bad "size: the best of an unreachable target is not the stable A = 0.5: $(grep best "$tmp/o")"
 
+# A small gain margin is noted when no --gm is given: the ring at A = 7.8 has
+# GM = 20 log10(8/7.8) = 0.22 dB (closed form as above), at A = 2 it has 12.04 dB
+"$LW" check "$tmp/ring3a.loop" --set A=7.8 2>/dev/null | grep -q "^Note: the gain margin is only 0.22 dB (at " &&
+    ok || bad "check: no note of a 0.22 dB gain margin"
+"$LW" check "$tmp/ring3a.loop" --set A=2 2>/dev/null | grep -q "^Note: the gain margin is only" &&
+    bad "check: a 12 dB gain margin noted as small" || ok
+"$LW" check "$tmp/ring3a.loop" --set A=7.8 --gm 0.1 2>/dev/null | grep -q "^Note: the gain margin is only" &&
+    bad "check: the small-gain-margin note beside a --gm target" || ok
+
 echo "verdicts: $pass passed, $fail failed"
 echo "$pass passed, $fail failed"
 [ "$fail" = 0 ]
