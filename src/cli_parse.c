@@ -63,11 +63,21 @@ static const char *closest_command(const char *name)
     return lw_closest(name, names, CMD_COUNT);
 }
 
+/* The names before issue 17 are refused, not aliased: a script that still
+ * uses one should fail loudly and say what to write instead. */
+static const char *renamed_to(const char *name)
+{
+    return !strcmp(name, "bode") ? "gain" : !strcmp(name, "polemap") ? "roots" : NULL;
+}
+
 static int unknown_command(const char *name)
 {
-    const char *best = closest_command(name);
+    const char *best = closest_command(name), *now = renamed_to(name);
     char msg[300];
-    if (best)
+    if (now)
+        snprintf(msg, sizeof msg, "the command '%s' is now called '%s' (renamed in version 0.2; "
+                 "see the README, history of interface changes)", name, now);
+    else if (best)
         snprintf(msg, sizeof msg, "unknown command '%.100s' (did you mean '%s'?)", name, best);
     else
         snprintf(msg, sizeof msg, "unknown command '%.100s'; expected check, gain, size, sweep, "
@@ -103,11 +113,13 @@ int cli_early(int argc, char **argv, int *code)
     for (int k = 1; k < argc; k++) {
         if (!strcmp(argv[k], "-h") || !strcmp(argv[k], "--help")) {
             int c = line_command(argc, argv);
+            *code = 0;
             if (c >= 0)
                 cli_help_command(stdout, (cli_cmd)c);
+            else if (argv[1][0] != '-' && renamed_to(argv[1]))
+                *code = unknown_command(argv[1]);
             else
                 cli_help_general(stdout);
-            *code = 0;
             return 1;
         }
         if (!strcmp(argv[k], "--version")) {
@@ -317,14 +329,8 @@ int cli_parse(int argc, char **argv, options *o)
     }
     if (!o->command)
         return cli_usage_error(-1, "%s", "missing COMMAND");
-    /* the names before issue 17 are refused, not aliased: a script that
-     * still uses one should fail loudly and say what to write instead */
-    if (!strcmp(o->command, "bode"))
-        return cli_usage_error(-1, "%s", "the command 'bode' is now called 'gain' (renamed in "
-                              "version 0.2; see the README, history of interface changes)");
-    if (!strcmp(o->command, "polemap"))
-        return cli_usage_error(-1, "%s", "the command 'polemap' is now called 'roots' (renamed "
-                              "in version 0.2; see the README, history of interface changes)");
+    if (renamed_to(o->command))
+        return unknown_command(o->command);
     cmd = cli_command_find(o->command);
     if (cmd < 0)
         return unknown_command(o->command);

@@ -292,8 +292,9 @@ int cmd_roots(const options *o, const desc *d, const model *m, const check_resul
     figure_opts fo = fig(o);
     int rc = figure_roots(&fo, d, m, r, err);
     if (!rc)
-        printf("loopwise roots: %s: %d open-loop poles, %d zeros, %d closed-loop poles drawn "
-               "in %s\n", d->path, r->tf.npoles, r->tf.nzeros, r->ncl, o->plot);
+        printf("loopwise roots: %s: %d open-loop pole%s, %d zero%s, %d closed-loop pole%s drawn "
+               "in %s\n", d->path, r->tf.npoles, r->tf.npoles == 1 ? "" : "s", r->tf.nzeros,
+               r->tf.nzeros == 1 ? "" : "s", r->ncl, r->ncl == 1 ? "" : "s", o->plot);
     return rc;
 }
 

@@ -87,7 +87,7 @@ static void corners_text(FILE *f, const desc *d, const corner_result *r, design_
                                     sizeof a), 11);
         }
         snprintf(pm, sizeof pm, isnan(p->pm_deg) ? "none" : "%.2f\xC2\xB0", p->pm_deg);
-        snprintf(gm, sizeof gm, isnan(p->gm_db) ? "unbounded" : "%.2f dB", p->gm_db);
+        snprintf(gm, sizeof gm, isnan(p->gm_db) ? "unbounded" : "%.2f dB", units_no_neg_zero(p->gm_db, 2));
         fprintf(f, " %-14s %-11s %-12s %s%s\n", pm,
                 isnan(p->crossover_hz) ? "none" : si_format(p->crossover_hz, "Hz", a, sizeof a),
                 gm, p->stable ? "yes" : "NO", design_meets(p, g) ? "" : report_below_mark(g));
@@ -175,7 +175,7 @@ int cmd_corners(const options *o, desc *d, int *code, lw_error *err)
             printf(" phase margin %.2f\xC2\xB0 (crossover %s)", p->pm_deg,
                    si_format(p->crossover_hz, "Hz", a, sizeof a));
         if (!isnan(p->gm_db))
-            printf(", gain margin %.2f dB", p->gm_db);
+            printf(", gain margin %.2f dB", units_no_neg_zero(p->gm_db, 2));
         if (!isnan(p->p1_hz))
             printf(", poles of T at %s", si_format(p->p1_hz, "Hz", a, sizeof a));
         if (!isnan(p->p2_hz))

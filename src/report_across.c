@@ -73,7 +73,7 @@ static void margins_lines(FILE *f, const design_point *p, const char *where)
     if (isnan(p->gm_db))
         fprintf(f, "  gain margin     unbounded: the phase never reaches -180\xC2\xB0\n");
     else
-        fprintf(f, "  gain margin     %.2f dB\n", p->gm_db);
+        fprintf(f, "  gain margin     %.2f dB\n", units_no_neg_zero(p->gm_db, 2));
     if (!p->stable)
         fprintf(f, "  the closed loop is UNSTABLE there\n");
 }
@@ -222,7 +222,7 @@ void report_size_corners(FILE *f, const desc *d, const char *name, desc_target t
                                     sizeof a), 11);
         }
         pm_cell(pm, sizeof pm, q);
-        snprintf(gm, sizeof gm, isnan(q->gm_db) ? "unbounded" : "%.2f dB", q->gm_db);
+        snprintf(gm, sizeof gm, isnan(q->gm_db) ? "unbounded" : "%.2f dB", units_no_neg_zero(q->gm_db, 2));
         fprintf(f, " %-14s %-11s %-12s %s%s\n", pm,
                 isnan(q->crossover_hz) ? "none" : si_format(q->crossover_hz, "Hz", b, sizeof b),
                 gm, q->stable ? "yes" : "NO", design_meets(q, g) ? "" : report_below_mark(g));

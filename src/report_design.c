@@ -134,7 +134,7 @@ static void text_points(FILE *f, const sweep_result *r, const char *unit, const 
             snprintf(dc, sizeof dc, "%.4g", p->dc);
         fmt_or(p->crossover_hz, "Hz", fc, sizeof fc, "none");
         snprintf(pm, sizeof pm, isnan(p->pm_deg) ? "-" : "%.2f\xC2\xB0", p->pm_deg);
-        snprintf(gm, sizeof gm, isnan(p->gm_db) ? "unbounded" : "%.2f dB", p->gm_db);
+        snprintf(gm, sizeof gm, isnan(p->gm_db) ? "unbounded" : "%.2f dB", units_no_neg_zero(p->gm_db, 2));
         fmt_or(p->p1_hz, "Hz", p1, sizeof p1, "-");
         fmt_or(p->p2_hz, "Hz", p2, sizeof p2, "-");
         char os[32], ts[32], pk[32];
@@ -322,7 +322,7 @@ void report_size(FILE *f, const desc *d, const char *name, desc_target t, const 
     if (isnan(p->gm_db))
         fprintf(f, "  gain margin     unbounded: the phase never reaches -180\xC2\xB0\n");
     else
-        fprintf(f, "  gain margin     %.2f dB\n", p->gm_db);
+        fprintf(f, "  gain margin     %.2f dB\n", units_no_neg_zero(p->gm_db, 2));
     if (isinf(p->dc))
         fprintf(f, "  DC loop gain    unbounded (integrator)%s\n", dc_fixed ? ", unchanged by a capacitor" : "");
     else

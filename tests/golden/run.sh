@@ -101,6 +101,9 @@ printf 'param k = 1\nparam r0 = 1k/k\nnode a r=r0 c=1p\nnode b r=1k c=1p\ngm g1 
 # The names before version 0.2 are refused (no aliases) with the new name.
 refuse "the command 'bode' is now called 'gain'" bode cases/twostage.loop
 refuse "the command 'polemap' is now called 'roots'" polemap cases/twostage.loop -o "$tmp/r.png"
+# ... and so is help on them, both ways of asking (not the general help, exit 0)
+refuse "the command 'bode' is now called 'gain'" help bode
+refuse "the command 'bode' is now called 'gain'" bode --help
 # The pictures that only draw: -o is needed, --json, --csv and --each are refused, and a
 # bad file or option leaves no picture behind.
 refuse "polar draws a picture: give -o FILE.png or FILE.svg" polar cases/twostage.loop
