@@ -200,6 +200,27 @@ static int refine(refine_ctx *c, double a, double b, double *root)
     return LW_OK;
 }
 
+/* Whether the goal distance jumps at the refined root x->value rather than
+ * passing through the target (a crossover that appears or vanishes there):
+ * the distance 1e-6 on either side (inside [a, b]) differs by more than a
+ * degree. x->before and x->after get the phase margins there. */
+static int crossing_jump(refine_ctx *c, double a, double b, design_crossing *x)
+{
+    double lo = x->value - 1e-6 * fabs(x->value), hi = x->value + 1e-6 * fabs(x->value);
+    lo = fmax(lo, fmin(a, b));
+    hi = fmin(hi, fmax(a, b));
+    design_point p, q;
+    int rc = design_eval(c->d, c->t, lo + c->offset, c->o, &p, c->err);
+    if (!rc)
+        rc = design_eval(c->d, c->t, hi + c->offset, c->o, &q, c->err);
+    if (rc)
+        return rc;
+    x->before = p.pm_deg;
+    x->after = q.pm_deg;
+    x->jump = !(fabs(design_goal_distance(&q, c->g) - design_goal_distance(&p, c->g)) <= 1.0);
+    return LW_OK;
+}
+
 /* Where the closed loop's stability changes between a (stable_a) and b:
  * bisection on the verdict (in ln v when logscale) to 1e-7 relative in v.
  * The verdict is a step, not a smooth function: Brent has nothing to fit. */
@@ -316,7 +337,10 @@ static int sweep_points(desc *d, desc_target t, double from, double to, double o
         double root = r->pts[k].value;
         if ((rc = refine(&c, r->pts[k - 1].value, r->pts[k].value, &root)))
             break;
-        r->cross[r->ncross++] = (design_crossing){ root, b >= 0 };
+        design_crossing x = { root, b >= 0, 0, NAN, NAN };
+        if ((rc = crossing_jump(&c, r->pts[k - 1].value, r->pts[k].value, &x)))
+            break;
+        r->cross[r->ncross++] = x;
     }
     for (int k = 1; k < r->npts && !rc; k++) {
         if (r->pts[k - 1].stable == r->pts[k].stable)
@@ -325,7 +349,7 @@ static int sweep_points(desc *d, desc_target t, double from, double to, double o
         if ((rc = stability_edge(&c, r->pts[k - 1].value, r->pts[k].value, r->pts[k - 1].stable,
                                  &edge)))
             break;
-        r->edge[r->nedge++] = (design_crossing){ edge, r->pts[k].stable };
+        r->edge[r->nedge++] = (design_crossing){ edge, r->pts[k].stable, 0, NAN, NAN };
     }
     gsl_set_error_handler(old);
     desc_eval(d, err);

@@ -199,7 +199,8 @@ void report_sweep(FILE *f, const desc *d, const char *name, desc_target t,
         for (int k = 0; k < r->ncross; k++) {
             fprintf(f, "%s{\"value\": ", k ? ", " : "");
             json_number(f, r->cross[k].value);
-            fprintf(f, ", \"direction\": \"%s\"}", r->cross[k].rises ? "rises" : "falls");
+            fprintf(f, ", \"direction\": \"%s\", \"jump\": %s}", r->cross[k].rises ? "rises" : "falls",
+                    r->cross[k].jump ? "true" : "false");
         }
         fputs("],\n \"stability_changes\": [", f);
         for (int k = 0; k < r->nedge; k++) {
@@ -227,10 +228,23 @@ void report_sweep(FILE *f, const desc *d, const char *name, desc_target t,
         fprintf(f, "The phase margin does not cross %.4g\xC2\xB0 in this range: it is %s "
                 "throughout.\n", g.pm_deg, r->missed ? "below the goal (or undefined)"
                                                       : "at or above the goal");
-    for (int k = 0; k < r->ncross; k++)
-        fprintf(f, "The margin %s through %.4g\xC2\xB0 at %s = %s.\n",
-                r->cross[k].rises ? "rises" : "falls", g.pm_deg, name,
-                si_format(r->cross[k].value, unit, a, sizeof a));
+    for (int k = 0; k < r->ncross; k++) {
+        const design_crossing *x = &r->cross[k];
+        si_format(x->value, unit, a, sizeof a);
+        if (!x->jump) {
+            fprintf(f, "The margin %s through %.4g\xC2\xB0 at %s = %s.\n",
+                    x->rises ? "rises" : "falls", g.pm_deg, name, a);
+            continue;
+        }
+        char pa[32], pb[32];
+        snprintf(pa, sizeof pa, isnan(x->before) ? "undefined" : "%.2f\xC2\xB0",
+                 units_no_neg_zero(x->before, 2));
+        snprintf(pb, sizeof pb, isnan(x->after) ? "undefined" : "%.2f\xC2\xB0",
+                 units_no_neg_zero(x->after, 2));
+        fprintf(f, "The margin jumps %s the goal at %s = %s, from %s to %s: a crossover "
+                "appears or vanishes there (or the stability changes).\n",
+                x->rises ? "up past" : "down past", name, a, pa, pb);
+    }
     int worst = sweep_smallest_margin(r), unstable = 0;
     for (int k = 0; k < r->npts; k++)
         unstable += !r->pts[k].stable;

@@ -69,6 +69,8 @@ int design_eval2(desc *d, desc_target ta, double a, desc_target tb, double b,
 typedef struct design_crossing {
     double value;
     int rises;              /* 1: the margin rises through the target as the value grows */
+    int jump;               /* 1: it jumps there (a crossover appears or vanishes), from */
+    double before, after;   /* the phase margin 'before' just below to 'after' just above */
 } design_crossing;
 
 /* A closed-loop response read at every point of a sweep (SPEC section 6):

@@ -295,6 +295,31 @@ grep -q "TARGET NOT REACHABLE in the range: the best is A = 500m$" "$tmp/o" &&
 "$LW" check "$tmp/ring3a.loop" --set A=7.8 --gm 0.1 2>/dev/null | grep -q "^Note: the gain margin is only" &&
     bad "check: the small-gain-margin note beside a --gm target" || ok
 
+# A crossing of the goal where the margin jumps (a crossover appearing at a resonance
+# peak of Q 100 as the gain grows) is said to be one; a smooth one (the ring) is not
+cat >"$tmp/tank.loop" <<'EOF'
+param k = 2m
+node e  r=200k c=120n
+node u  r=2M   c=2p
+node w  c=2p
+gm  ge   w -> e  -k
+gm  gin  e -> u  50u
+gm  gb   u -> w  50u
+gm  ga   w -> u  -50u
+loop outer negative e u w
+loop tank  negative u w
+break ge
+EOF
+"$LW" sweep "$tmp/tank.loop" --vary k --from 1m --to 100m --points 6 --json 2>/dev/null |
+    $PY -c "import json,sys; c=json.load(sys.stdin)['crossings']; assert len(c) == 1 and c[0]['jump'] is True, c" &&
+    ok || bad "sweep: a jump of the margin across the goal is not flagged"
+"$LW" sweep "$tmp/tank.loop" --vary k --from 1m --to 100m --points 6 2>/dev/null |
+    grep -q "^The margin jumps down past the goal at k = 30 mS, from 90.00° to 0.00°: a crossover appears or vanishes" &&
+    ok || bad "sweep: the text of a jump across the goal"
+"$LW" sweep "$tmp/ring3a.loop" --vary A --from 1.2 --to 4 --points 5 --json 2>/dev/null |
+    $PY -c "import json,sys; c=json.load(sys.stdin)['crossings']; assert len(c) == 1 and c[0]['jump'] is False, c" &&
+    ok || bad "sweep: a smooth crossing of the goal is flagged as a jump"
+
 echo "verdicts: $pass passed, $fail failed"
 echo "$pass passed, $fail failed"
 [ "$fail" = 0 ]
