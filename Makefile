@@ -75,7 +75,7 @@ LIB_OBJ := $(LIB_SRC:src/%.c=$(BUILD)/%.o)
 TEST_SRC := $(wildcard tests/unit/test_*.c)
 TEST_BIN := $(TEST_SRC:tests/unit/%.c=$(BUILD)/tests/%)
 
-.PHONY: all check demo bench install uninstall clean deps ldlibs unit golden reference binom bytes fuzz \
+.PHONY: all check demo bench install uninstall clean deps ldlibs unit golden golden-scripts golden-finite reference binom bytes fuzz \
         fuzz-run sanitize sanitize-run memcheck man man-lint install-test
 
 VERSION := $(shell sed -n 's/^\#define LOOPWISE_VERSION "\(.*\)"/\1/p' include/loopwise/loopwise.h)
@@ -113,13 +113,19 @@ $(BUILD):
 unit: $(TEST_BIN)
 	@failed=0; for t in $(TEST_BIN); do echo "  RUN     $$t"; ./$$t || failed=1; done; exit $$failed
 
-golden: $(LW_BIN)
+# In two halves, so that 'make check' can run them side by side; 'golden'
+# runs both.
+golden: golden-scripts golden-finite
+
+golden-finite: $(LW_BIN)
+	@$(PYTHON) tests/golden/finite.py ./$(LW_BIN)
+
+golden-scripts: $(LW_BIN)
 	@sh tests/golden/run.sh ./$(LW_BIN)
 	@sh tests/golden/variation.sh ./$(LW_BIN)
 	@sh tests/golden/large.sh ./$(LW_BIN)
 	@sh tests/golden/rules.sh ./$(LW_BIN)
 	@sh tests/golden/bytes.sh ./$(LW_BIN)
-	@$(PYTHON) tests/golden/finite.py ./$(LW_BIN)
 	@sh tests/golden/breaknode.sh ./$(LW_BIN)
 	@sh tests/golden/across.sh ./$(LW_BIN)
 	@sh tests/golden/response.sh ./$(LW_BIN)
@@ -160,8 +166,12 @@ binom: $(BUILD)/tests/binom_grid
 bytes: $(BUILD)/tests/text_bytes
 	@$(PYTHON) tests/text/check.py ./$(BUILD)/tests/text_bytes
 
+# The suites are independent (each works in its own temporary directory):
+# they run two at a time, the longest first, each one's output printed whole
+# when it ends.
 check: all
-	@$(MAKE) --no-print-directory unit golden reference binom bytes man-lint install-test
+	@$(MAKE) --no-print-directory -j2 --output-sync=target reference golden-scripts binom \
+	    golden-finite install-test unit bytes man-lint
 
 # The main job on the reference core: its report, the compensation for 60
 # degrees, the series resistor over two decades, and the output tap's load;
