@@ -160,12 +160,17 @@ double design_goal_distance(const design_point *p, design_goal g)
     return v;
 }
 
+/* The point at the swept value v (the offset added, as the sweep does). */
+static int ctx_eval(refine_ctx *c, double v, design_point *pt)
+{
+    return design_eval(c->d, c->t, v + c->offset, c->o, pt, c->err);
+}
+
 static double refine_fn(double x, void *vp)
 {
     refine_ctx *c = vp;
     design_point pt;
-    double v = c->logscale ? exp(x) : x;
-    if (design_eval(c->d, c->t, v + c->offset, c->o, &pt, c->err) != LW_OK) {
+    if (ctx_eval(c, c->logscale ? exp(x) : x, &pt) != LW_OK) {
         c->failed = 1;
         return 0;
     }
@@ -210,9 +215,9 @@ static int crossing_jump(refine_ctx *c, double a, double b, design_crossing *x)
     lo = fmax(lo, fmin(a, b));
     hi = fmin(hi, fmax(a, b));
     design_point p, q;
-    int rc = design_eval(c->d, c->t, lo + c->offset, c->o, &p, c->err);
+    int rc = ctx_eval(c, lo, &p);
     if (!rc)
-        rc = design_eval(c->d, c->t, hi + c->offset, c->o, &q, c->err);
+        rc = ctx_eval(c, hi, &q);
     if (rc)
         return rc;
     x->before = p.pm_deg;
@@ -233,8 +238,7 @@ static int stability_edge(refine_ctx *c, double a, double b, int stable_a, doubl
             break;
         double xm = 0.5 * (xa + xb);
         design_point pt;
-        int rc = design_eval(c->d, c->t, (c->logscale ? exp(xm) : xm) + c->offset, c->o, &pt,
-                             c->err);
+        int rc = ctx_eval(c, c->logscale ? exp(xm) : xm, &pt);
         if (rc)
             return rc;
         if (pt.stable == stable_a)

@@ -110,6 +110,31 @@ int linalg_singular(int n, const double *A, double tol)
     return sing;
 }
 
+int linalg_bordered_singular(int n, const double *A, const double *u, int col, int row,
+                             double tol)
+{
+    int nb = n + 1;
+    double *B = calloc((size_t)nb * (size_t)nb, sizeof(double));
+    if (!B)
+        return 1; /* undecided, as linalg_singular */
+    double big = 0, umax = 0;
+    for (int k = 0; k < n * n; k++)
+        big = fmax(big, fabs(A[k]));
+    for (int k = 0; u && k < n; k++)
+        umax = fmax(umax, fabs(u[k]));
+    if (big == 0)
+        big = 1;
+    for (int i = 0; i < n; i++) {
+        for (int j = 0; j < n; j++)
+            B[i * nb + j] = A[i * n + j];
+        B[i * nb + n] = !u ? (i == col ? big : 0.0) : umax > 0 ? big * u[i] / umax : 0.0;
+    }
+    B[n * nb + row] = big;
+    int sing = linalg_singular(nb, B, tol);
+    free(B);
+    return sing;
+}
+
 int linalg_qr_basis(int r, int k, double *W, double *Q, double *rdiag)
 {
     size_t ur = (size_t)r;

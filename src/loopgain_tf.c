@@ -122,33 +122,8 @@ static int numerically_singular(const double *A, int n)
  * network also has a pole ten decades higher. */
 static void origin_possible(const lgain *lg, int *pole, int *zero)
 {
-    int n = lg->n, nb = n + 1;
-    *pole = numerically_singular(lg->Gs, n);
-    double *B = calloc((size_t)nb * (size_t)nb, sizeof(double));
-    if (!B) {
-        *zero = 1;
-        return;
-    }
-    double big = 0;
-    for (int k = 0; k < n * n; k++)
-        big = fmax(big, fabs(lg->Gs[k]));
-    for (int i = 0; i < n; i++)
-        for (int j = 0; j < n; j++)
-            B[i * nb + j] = lg->Gs[i * n + j];
-    if (big == 0)
-        big = 1;
-    if (lg->us) {
-        double umax = 0;
-        for (int k = 0; k < n; k++)
-            umax = fmax(umax, fabs(lg->us[k]));
-        for (int k = 0; k < n && umax > 0; k++)
-            B[k * nb + n] = big * lg->us[k] / umax;
-    } else {
-        B[lg->out * nb + n] = big;
-    }
-    B[n * nb + lg->in] = big;
-    *zero = numerically_singular(B, nb);
-    free(B);
+    *pole = numerically_singular(lg->Gs, lg->n);
+    *zero = linalg_bordered_singular(lg->n, lg->Gs, lg->us, lg->out, lg->in, 1e-13);
 }
 
 /* A zero of the zero dynamics away from every pole is taken without the

@@ -273,28 +273,8 @@ double response_hinf(const response *rs)
 
 void response_origin_possible(const response *rs, int *pole, int *zero)
 {
-    int n = rs->n, nb = n + 1;
-    *pole = linalg_singular(n, rs->G, 1e-13);
-    double *B = calloc((size_t)nb * (size_t)nb, sizeof(double));
-    if (!B) {
-        *zero = 1; /* undecided: the magnitude rule stands */
-        return;
-    }
-    double big = 0, bmax = 0;
-    for (int k = 0; k < n * n; k++)
-        big = fmax(big, fabs(rs->G[k]));
-    for (int k = 0; k < n; k++)
-        bmax = fmax(bmax, fabs(rs->b0[k]));
-    if (big == 0)
-        big = 1;
-    for (int i = 0; i < n; i++) {
-        for (int j = 0; j < n; j++)
-            B[i * nb + j] = rs->G[i * n + j];
-        B[i * nb + n] = bmax > 0 ? big * rs->b0[i] / bmax : 0.0;
-    }
-    B[n * nb + rs->to] = big;
-    *zero = linalg_singular(nb, B, 1e-13);
-    free(B);
+    *pole = linalg_singular(rs->n, rs->G, 1e-13);
+    *zero = linalg_bordered_singular(rs->n, rs->G, rs->b0, -1, rs->to, 1e-13);
 }
 
 int response_reaches(const response *rs)

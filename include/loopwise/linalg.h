@@ -25,6 +25,12 @@ int linalg_inverse_svd(int m, const double *A, double *inv, double tol);
  * memory, no convergence). */
 int linalg_singular(int n, const double *A, double tol);
 
+/* linalg_singular of the bordered [[A, u], [e_row^T, 0]] ((n+1) x (n+1)),
+ * the border scaled to A's largest entry: singular when v^T A^-1 u = 0 for
+ * A invertible (a zero of that transfer at s = 0). u NULL: e_col. */
+int linalg_bordered_singular(int n, const double *A, const double *u, int col, int row,
+                             double tol);
+
 /* An orthonormal basis Q (r x r, column-major) of R^r whose first k
  * columns span the k columns of W (r x k, column-major, overwritten), from
  * W's QR factorization (dgeqrf, dorgqr); rdiag[k] gets R's diagonal. */
